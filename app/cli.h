@@ -1,0 +1,35 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+#pragma once
+
+/* Headless subcommands. Each command lives in its own cmd-NAME.c and is listed once in the
+ * table in main.c. Contract: argv[0] is the command name; return 0 on success, 1 on failure
+ * (one line on stderr: "arcwise NAME: message"), 2 on a usage error. Every command answers
+ * --help (print usage on stdout, return 0). Commands never need a display. */
+
+typedef int (*ArcwiseCommandFunc)(int argc, char **argv);
+
+typedef struct {
+  const char *name;
+  const char *summary;          /* one line for `arcwise --help` */
+  ArcwiseCommandFunc run;
+} ArcwiseCommand;
+
+/* Prints "arcwise CMD: message\n" to stderr and returns 1. */
+int arcwise_cli_fail(const char *cmd, const char *fmt, ...)
+#if defined(__GNUC__)
+  __attribute__((format(printf, 2, 3)))
+#endif
+  ;
+
+/* Prints "arcwise CMD: message\nTry 'arcwise CMD --help'.\n" to stderr and returns 2. */
+int arcwise_cli_usage_error(const char *cmd, const char *fmt, ...)
+#if defined(__GNUC__)
+  __attribute__((format(printf, 2, 3)))
+#endif
+  ;
+
+/* Runs the GTK workbench (defined in ui/ when the GUI is built; otherwise a stub that fails). */
+int arcwise_gui_run(int argc, char **argv);
+
+/* Command entry points (one per cmd-*.c). */
+int arcwise_cmd_inspect(int argc, char **argv);

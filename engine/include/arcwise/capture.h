@@ -1,0 +1,70 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+#pragma once
+
+/* The two capture streams in memory, their readers (strict validation) and writers.
+ * The file formats are documented in README.md ("Capture formats"). Readers convert every
+ * declared unit to SI on the way in; in memory everything is SI.
+ *
+ * Streams are plain records owned by the caller and released with their _free function
+ * (which accepts NULL). Arrays are parallel, n entries each. */
+
+#include <stdbool.h>
+#include <stddef.h>
+#include <stdint.h>
+
+#include "arcwise/status.h"
+
+typedef enum {
+  AW_WRIST_UNKNOWN = 0,
+  AW_WRIST_LEFT,
+  AW_WRIST_RIGHT,
+} AwWrist;
+
+typedef struct {
+  char device[128];            /* free text from the file's metadata, may be empty */
+  double nominal_rate_hz;      /* declared by the file, 0 when not declared */
+  double accel_range_m_s2;     /* full-scale range (+-), 0 when not declared */
+  double gyro_range_rad_s;     /* full-scale range (+-), 0 when not declared */
+  AwWrist wrist;
+} AwImuMeta;
+
+typedef struct {
+  size_t n;
+  double *t_s;                 /* IMU clock, s, strictly increasing */
+  double (*accel_m_s2)[3];     /* specific force in the sensor frame, m/s^2 */
+  double (*gyro_rad_s)[3];     /* angular rate in the sensor frame, rad/s */
+  AwImuMeta meta;
+} AwImuStream;
+
+typedef struct {
+  char device[128];
+  double nominal_rate_hz;
+} AwDepthMeta;
+
+typedef struct {
+  size_t n;
+  double *t_s;                 /* depth camera clock, s, strictly increasing */
+  double (*pos_cam_m)[3];      /* lead-wrist keypoint, camera optical frame; NaN when missing */
+  double *conf;                /* detection confidence in [0, 1]; 0 when missing */
+  AwDepthMeta meta;
+} AwDepthStream;
+
+/* Allocation helpers: a stream of n zeroed samples (NULL on failure). */
+AwImuStream *aw_imu_stream_new(size_t n);
+AwDepthStream *aw_depth_stream_new(size_t n);
+void aw_imu_stream_free(AwImuStream *s);
+void aw_depth_stream_free(AwDepthStream *s);
+
+/* Readers. On failure *out is untouched (NULL), err names file, line, column and reason.
+ * `name` is what messages call the input (usually its path). */
+AwStatus aw_imu_read_file(const char *path, AwImuStream **out, AwError *err);
+AwStatus aw_depth_read_file(const char *path, AwDepthStream **out, AwError *err);
+AwStatus aw_imu_read_buffer(const char *data, size_t len, const char *name, AwImuStream **out,
+                            AwError *err);
+AwStatus aw_depth_read_buffer(const char *data, size_t len, const char *name,
+                              AwDepthStream **out, AwError *err);
+
+/* Writers, in SI units with a metadata comment block. Written to a temporary file beside `path`
+ * and renamed into place, so a crash never leaves a half-written file. */
+AwStatus aw_imu_write_file(const char *path, const AwImuStream *s, AwError *err);
+AwStatus aw_depth_write_file(const char *path, const AwDepthStream *s, AwError *err);

@@ -1,0 +1,13 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+#pragma once
+
+#include <gtk/gtk.h>
+
+G_BEGIN_DECLS
+
+#define ARCWISE_TYPE_APPLICATION (arcwise_application_get_type())
+G_DECLARE_FINAL_TYPE(ArcwiseApplication, arcwise_application, ARCWISE, APPLICATION, GtkApplication)
+
+ArcwiseApplication *arcwise_application_new(void);
+
+G_END_DECLS
