@@ -8,6 +8,7 @@
 
 static const ArcwiseCommand commands[] = {
   { "inspect", "describe capture files: kind, samples, rate, gaps, saturation", arcwise_cmd_inspect },
+  { "bench", "run a benchmark and print its figures", arcwise_cmd_bench },
 };
 
 static const size_t n_commands = sizeof commands / sizeof commands[0];
