@@ -77,7 +77,3 @@ struct AwSim {
   AwSimTruth truth;
   size_t cap_swings, cap_occ, cap_spans;
 };
-
-/* Writers (sim-io.c). */
-AwStatus aw_sim__write_imu_csv(const char *path, const AwImuStream *s, AwError *err);
-AwStatus aw_sim__write_depth_csv(const char *path, const AwDepthStream *s, AwError *err);

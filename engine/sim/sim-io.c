@@ -1,10 +1,8 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
 /* Writing a simulation to a folder: the two capture streams and the truth files described in
  * README.md ("Simulated data"). Every file goes to a temporary name beside its target and is
- * renamed into place, so an interrupted run never leaves a half-written file.
- *
- * The capture streams are written here in the documented capture format until the capture
- * module's writers (aw_imu_write_file / aw_depth_write_file) land; swapping is one call each. */
+ * renamed into place, so an interrupted run never leaves a half-written file. The capture
+ * streams go through the capture module's writers. */
 #include "sim-internal.h"
 
 #include "arcwise/units.h"
@@ -54,71 +52,6 @@ out_close(OutFile *o, AwError *err)
 
 static const char safety_note[] =
   "# Synthetic data from the Arcwise simulator (invented motion, not a recording of anyone).\n";
-
-AwStatus
-aw_sim__write_imu_csv(const char *path, const AwImuStream *s, AwError *err)
-{
-  OutFile o;
-  char dir[1024];
-  snprintf(dir, sizeof dir, "%s", path);
-  char *slash = strrchr(dir, '/');
-  const char *name = path;
-  if (slash) {
-    *slash = 0;
-    name = slash + 1;
-  } else {
-    snprintf(dir, sizeof dir, ".");
-  }
-  AwStatus st = out_open(&o, dir, name, err);
-  if (st != AW_OK)
-    return st;
-  fputs(safety_note, o.f);
-  fprintf(o.f, "# device: %s\n", s->meta.device);
-  fprintf(o.f, "# units: t=s accel=m/s2 gyro=rad/s\n");
-  fprintf(o.f, "# rate_hz: %.6g\n", s->meta.nominal_rate_hz);
-  fprintf(o.f, "# accel_range: %.6g g\n", s->meta.accel_range_m_s2 / AW_GRAVITY_STANDARD_M_S2);
-  fprintf(o.f, "# gyro_range: %.6g deg/s\n", s->meta.gyro_range_rad_s * AW_DEG_PER_RAD);
-  if (s->meta.wrist != AW_WRIST_UNKNOWN)
-    fprintf(o.f, "# wrist: %s\n", s->meta.wrist == AW_WRIST_LEFT ? "left" : "right");
-  fprintf(o.f, "t,ax,ay,az,gx,gy,gz\n");
-  for (size_t i = 0; i < s->n; i++)
-    fprintf(o.f, "%.6f,%.6f,%.6f,%.6f,%.7f,%.7f,%.7f\n", s->t_s[i], s->accel_m_s2[i][0],
-            s->accel_m_s2[i][1], s->accel_m_s2[i][2], s->gyro_rad_s[i][0], s->gyro_rad_s[i][1],
-            s->gyro_rad_s[i][2]);
-  return out_close(&o, err);
-}
-
-AwStatus
-aw_sim__write_depth_csv(const char *path, const AwDepthStream *s, AwError *err)
-{
-  OutFile o;
-  char dir[1024];
-  snprintf(dir, sizeof dir, "%s", path);
-  char *slash = strrchr(dir, '/');
-  const char *name = path;
-  if (slash) {
-    *slash = 0;
-    name = slash + 1;
-  } else {
-    snprintf(dir, sizeof dir, ".");
-  }
-  AwStatus st = out_open(&o, dir, name, err);
-  if (st != AW_OK)
-    return st;
-  fputs(safety_note, o.f);
-  fprintf(o.f, "# device: %s\n", s->meta.device);
-  fprintf(o.f, "# units: t=s pos=m\n");
-  fprintf(o.f, "# rate_hz: %.6g\n", s->meta.nominal_rate_hz);
-  fprintf(o.f, "t,x,y,z,conf\n");
-  for (size_t i = 0; i < s->n; i++) {
-    if (s->conf[i] > 0 && isfinite(s->pos_cam_m[i][0]))
-      fprintf(o.f, "%.6f,%.5f,%.5f,%.5f,%.3f\n", s->t_s[i], s->pos_cam_m[i][0],
-              s->pos_cam_m[i][1], s->pos_cam_m[i][2], s->conf[i]);
-    else
-      fprintf(o.f, "%.6f,,,,0\n", s->t_s[i]);
-  }
-  return out_close(&o, err);
-}
 
 static AwStatus
 write_truth(const AwSim *sim, const char *dir, AwError *err)
@@ -282,11 +215,11 @@ aw_sim_write(const AwSim *sim, const char *dir, AwError *err)
     return aw_error_set(err, AW_ERR_INVALID_ARG, "", 0, 0, "no simulation or folder");
   char path[1100];
   snprintf(path, sizeof path, "%s/imu.csv", dir);
-  AwStatus st = aw_sim__write_imu_csv(path, sim->imu, err);
+  AwStatus st = aw_imu_write_file(path, sim->imu, err);
   if (st != AW_OK)
     return st;
   snprintf(path, sizeof path, "%s/depth.csv", dir);
-  st = aw_sim__write_depth_csv(path, sim->depth, err);
+  st = aw_depth_write_file(path, sim->depth, err);
   if (st != AW_OK)
     return st;
   return write_truth(sim, dir, err);

@@ -1074,62 +1074,6 @@ mount_imu(AwSim *sim, AwRng *rng)
   aw_v3_copy(sim->truth.lever_arm_body_m, sim->lever_body);
 }
 
-static AwImuStream *
-imu_alloc(size_t n)
-{
-  AwImuStream *s = calloc(1, sizeof *s);
-  if (s == NULL)
-    return NULL;
-  s->n = n;
-  s->t_s = calloc(n ? n : 1, sizeof *s->t_s);
-  s->accel_m_s2 = calloc(n ? n : 1, sizeof *s->accel_m_s2);
-  s->gyro_rad_s = calloc(n ? n : 1, sizeof *s->gyro_rad_s);
-  if (s->t_s == NULL || s->accel_m_s2 == NULL || s->gyro_rad_s == NULL) {
-    aw_sim_imu_stream_free(s);
-    return NULL;
-  }
-  return s;
-}
-
-static AwDepthStream *
-depth_alloc(size_t n)
-{
-  AwDepthStream *s = calloc(1, sizeof *s);
-  if (s == NULL)
-    return NULL;
-  s->n = n;
-  s->t_s = calloc(n ? n : 1, sizeof *s->t_s);
-  s->pos_cam_m = calloc(n ? n : 1, sizeof *s->pos_cam_m);
-  s->conf = calloc(n ? n : 1, sizeof *s->conf);
-  if (s->t_s == NULL || s->pos_cam_m == NULL || s->conf == NULL) {
-    aw_sim_depth_stream_free(s);
-    return NULL;
-  }
-  return s;
-}
-
-void
-aw_sim_imu_stream_free(AwImuStream *s)
-{
-  if (s == NULL)
-    return;
-  free(s->t_s);
-  free(s->accel_m_s2);
-  free(s->gyro_rad_s);
-  free(s);
-}
-
-void
-aw_sim_depth_stream_free(AwDepthStream *s)
-{
-  if (s == NULL)
-    return;
-  free(s->t_s);
-  free(s->pos_cam_m);
-  free(s->conf);
-  free(s);
-}
-
 static bool
 near_contact(const AwSim *sim, double t0, double t1)
 {
@@ -1172,7 +1116,7 @@ make_imu(AwSim *sim, AwRng *rng)
   double ts1 = sim->t_end + aw_rng_range(rng, 0.0, 0.3);
   double ti0 = (ts0 - off) / k1;
   size_t n = (size_t)floor((ts1 - ts0) / k1 * m->rate_hz) + 1;
-  AwImuStream *s = imu_alloc(n);
+  AwImuStream *s = aw_imu_stream_new(n);
   if (s == NULL)
     return -1;
   snprintf(s->meta.device, sizeof s->meta.device, "arcwise simulator, %s level",
@@ -1263,12 +1207,12 @@ make_depth(AwSim *sim, AwRng *rng)
 {
   const AwSimDepthModel *d = &sim->cfg.depth;
   size_t n = (size_t)floor((sim->t_end - sim->t_begin) * d->rate_hz + 1e-9) + 1;
-  AwDepthStream *s = depth_alloc(n);
+  AwDepthStream *s = aw_depth_stream_new(n);
   if (s == NULL)
     return -1;
   sim->truth.frame_kind = calloc(n, 1);
   if (sim->truth.frame_kind == NULL) {
-    aw_sim_depth_stream_free(s);
+    aw_depth_stream_free(s);
     return -1;
   }
   snprintf(s->meta.device, sizeof s->meta.device, "arcwise simulator, %s, %s level",
@@ -1426,8 +1370,8 @@ aw_sim_free(AwSim *sim)
 {
   if (sim == NULL)
     return;
-  aw_sim_imu_stream_free(sim->imu);
-  aw_sim_depth_stream_free(sim->depth);
+  aw_imu_stream_free(sim->imu);
+  aw_depth_stream_free(sim->depth);
   truth_release(&sim->truth);
   free(sim->seg);
   free(sim->prof);
@@ -1528,7 +1472,7 @@ aw_sim_span(const AwSim *sim, double *t0_s, double *t1_s)
 AwImuStream *
 aw_sim_copy_imu(const AwSim *sim)
 {
-  AwImuStream *s = imu_alloc(sim->imu->n);
+  AwImuStream *s = aw_imu_stream_new(sim->imu->n);
   if (s == NULL)
     return NULL;
   memcpy(s->t_s, sim->imu->t_s, s->n * sizeof *s->t_s);
@@ -1541,7 +1485,7 @@ aw_sim_copy_imu(const AwSim *sim)
 AwDepthStream *
 aw_sim_copy_depth(const AwSim *sim)
 {
-  AwDepthStream *s = depth_alloc(sim->depth->n);
+  AwDepthStream *s = aw_depth_stream_new(sim->depth->n);
   if (s == NULL)
     return NULL;
   memcpy(s->t_s, sim->depth->t_s, s->n * sizeof *s->t_s);

@@ -247,12 +247,9 @@ const AwSimTruth *aw_sim_truth(const AwSim *sim);
 void aw_sim_span(const AwSim *sim, double *t0_s, double *t1_s);
 /* Exact truth at any depth-clock time (outside the recording: the first or last pose). */
 void aw_sim_eval(const AwSim *sim, double t_depth_s, AwSimState *out);
-/* An independent copy of the streams (release with aw_imu_stream_free / aw_depth_stream_free
- * once the capture module provides them; until then aw_sim_stream_free_*). */
+/* An independent copy of the streams; release with aw_imu_stream_free / aw_depth_stream_free. */
 AwImuStream *aw_sim_copy_imu(const AwSim *sim);
 AwDepthStream *aw_sim_copy_depth(const AwSim *sim);
-void aw_sim_imu_stream_free(AwImuStream *s);
-void aw_sim_depth_stream_free(AwDepthStream *s);
 
 /* Writes imu.csv, depth.csv (capture formats) and the truth files (README "Simulated data")
  * into dir (which must exist). Each file is written beside its target and renamed into place. */
