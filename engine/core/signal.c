@@ -5,6 +5,11 @@
 #include "arcwise/units.h"
 
 #include <complex.h>
+/* glibc defines CMPLX only for GCC >= 4.7 (through __builtin_complex); clang 14 reports itself
+ * as GCC 4.2 and gets none. The fallback is exact for the finite values used here. */
+#ifndef CMPLX
+#define CMPLX(x, y) ((double)(x) + (double)(y) * (double complex)_Complex_I)
+#endif
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
