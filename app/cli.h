@@ -37,3 +37,4 @@ int arcwise_cmd_bench(int argc, char **argv);
 int arcwise_cmd_simulate(int argc, char **argv);
 
 /* Benchmarks (one per bench-*.c), dispatched by cmd-bench.c. */
+int arcwise_bench_accuracy(int argc, char **argv);
