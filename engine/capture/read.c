@@ -422,8 +422,20 @@ parse_comment(Reader *r, const Line *ln, const char *hash)
       while (n > 0 && ((unsigned char)vb[n] & 0xC0) == 0x80)
         n--;  /* do not cut a UTF-8 sequence */
     }
-    memcpy(r->device, vb, n);
-    r->device[n] = '\0';
+    /* The text is kept in the form the writer puts it back (control characters, NUL among
+     * them, as spaces; no blanks at either end after the cut), so that a stream written and
+     * read again carries the very same device name. */
+    size_t o = 0;
+    for (size_t i = 0; i < n; i++) {
+      unsigned char c = (unsigned char)vb[i];
+      if (c < 0x20 || c == 0x7f)
+        c = ' ';
+      if (c != ' ' || o > 0)
+        r->device[o++] = (char)c;
+    }
+    while (o > 0 && r->device[o - 1] == ' ')
+      o--;
+    r->device[o] = '\0';
     return AW_OK;
   }
   case META_RATE: {
