@@ -21,6 +21,11 @@ typedef struct {
   size_t n_valid;
   double dt_nom_s;            /* median frame interval */
   double fit_half_s;          /* half-width of the local fit */
+  /* The fit is linear in the positions: acc[k] = sum over j of wval * pos[widx], j in
+   * wstart[k] .. wstart[k+1]; the sync applies the same weights to the IMU. */
+  size_t *wstart;
+  uint32_t *widx;
+  double *wval;
 } AwCamPrep;
 
 /* IMU samples with running integrals for box averages and per-sample quality flags. */

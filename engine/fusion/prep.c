@@ -54,47 +54,96 @@ aw_fusion_prep_cam(const AwDepthStream *d, const AwFusionSettings *s, AwCamPrep 
   }
   c->dt_nom_s = median_interval(d->t_s, d->n);
   if (!(c->dt_nom_s > 0)) c->dt_nom_s = 1.0 / 30.0;
-  /* +-0.1 s resolves the fastest wrist accelerations of a swing (a downswing lasts ~0.25 s) while
-   * averaging ~7 frames at 30 Hz; slow cameras need at least 2.5 frames each side. */
-  c->fit_half_s = fmax(0.1, 2.5 * c->dt_nom_s);
-  /* Local quadratic least squares around each valid frame: acceleration = 2 * c2. Works with
-   * missing frames and timing jitter, unlike fixed-coefficient filters. */
-  size_t lo = 0;
+  /* +-0.2 s: a depth camera's keypoint noise (several mm at 3 m) makes second derivatives over
+   * shorter spans useless; a downswing (~0.25 s) still shows as one broad peak, which is all
+   * the alignment needs. Slow cameras need at least 3 frames each side. */
+  c->fit_half_s = fmax(0.2, 3.0 * c->dt_nom_s);
+  /* Local quadratic least squares around each valid frame, acceleration = 2 c2, made robust by
+   * a second pass without frames whose residual exceeds 4 sigma of the camera model plus 2 cm
+   * (gross outliers, identity swaps). Works with missing frames and timing jitter. */
+  size_t lo = 0, wcap = 0, wn = 0;
+  c->wstart = calloc(d->n + 1, sizeof *c->wstart);
+  if (!c->wstart) { aw_fusion_prep_cam_free(c); return AW_ERR_NO_MEMORY; }
   for (size_t k = 0; k < d->n; k++) {
+    c->wstart[k] = wn;
     if (!c->valid[k]) continue;
     double tk = d->t_s[k];
     while (lo < k && d->t_s[lo] < tk - c->fit_half_s) lo++;
-    double S[5] = { 0 }, Sy[3][3] = { { 0 } };
-    int nl = 0, nr = 0, cnt = 0;
-    for (size_t j = lo; j < d->n && d->t_s[j] <= tk + c->fit_half_s; j++) {
-      if (!c->valid[j]) continue;
-      double u = d->t_s[j] - tk, u2 = u * u;
-      if (u < -1e-9) nl++;
-      if (u > 1e-9) nr++;
-      cnt++;
-      S[0] += 1; S[1] += u; S[2] += u2; S[3] += u2 * u; S[4] += u2 * u2;
-      for (int a = 0; a < 3; a++) {
-        double y = d->pos_cam_m[j][a];
-        Sy[a][0] += y; Sy[a][1] += y * u; Sy[a][2] += y * u2;
+    double coef[3][3] = { { 0 } }, Ainv2[3] = { 0 };
+    bool have = false;
+    uint32_t used[1024];
+    int nused = 0;
+    for (int pass = 0; pass < 2; pass++) {
+      double S[5] = { 0 }, Sy[3][3] = { { 0 } };
+      int nl = 0, nr = 0, cnt = 0;
+      nused = 0;
+      for (size_t j = lo; j < d->n && d->t_s[j] <= tk + c->fit_half_s; j++) {
+        if (!c->valid[j]) continue;
+        double u = d->t_s[j] - tk, u2 = u * u;
+        if (pass == 1) {
+          double z = d->pos_cam_m[j][2], bad = 0;
+          double sig[3] = { s->cam_sigma_xy_m * z, s->cam_sigma_xy_m * z, s->cam_sigma_z_coeff_per_m * z * z };
+          for (int a = 0; a < 3; a++) {
+            double r = d->pos_cam_m[j][a] - (coef[a][0] + coef[a][1] * u + coef[a][2] * u2);
+            if (fabs(r) > 4 * sig[a] + 0.02) bad = 1;
+          }
+          if (bad) continue;
+        }
+        if (u < -1e-9) nl++;
+        if (u > 1e-9) nr++;
+        cnt++;
+        if (nused < 1024) used[nused++] = (uint32_t)j;
+        S[0] += 1; S[1] += u; S[2] += u2; S[3] += u2 * u; S[4] += u2 * u2;
+        for (int a = 0; a < 3; a++) {
+          double y = d->pos_cam_m[j][a];
+          Sy[a][0] += y; Sy[a][1] += y * u; Sy[a][2] += y * u2;
+        }
       }
+      have = false;
+      if (cnt < 6 || nl < 2 || nr < 2 || cnt > 1024) break;
+      double A[3][3] = { { S[0], S[1], S[2] }, { S[1], S[2], S[3] }, { S[2], S[3], S[4] } };
+      double det = A[0][0] * (A[1][1] * A[2][2] - A[1][2] * A[2][1]) -
+                   A[0][1] * (A[1][0] * A[2][2] - A[1][2] * A[2][0]) +
+                   A[0][2] * (A[1][0] * A[2][1] - A[1][1] * A[2][0]);
+      if (!(fabs(det) > 1e-30)) break;
+      /* Row 2 of A^-1 by cofactors: c2 = sum_j (Ainv2 . [1 u u^2]) y_j */
+      Ainv2[0] = (A[1][0] * A[2][1] - A[1][1] * A[2][0]) / det;
+      Ainv2[1] = -(A[0][0] * A[2][1] - A[0][1] * A[2][0]) / det;
+      Ainv2[2] = (A[0][0] * A[1][1] - A[0][1] * A[1][0]) / det;
+      for (int a = 0; a < 3; a++)
+        for (int col = 0; col < 3; col++) {
+          double M[3][3];
+          memcpy(M, A, sizeof M);
+          for (int r = 0; r < 3; r++) M[r][col] = Sy[a][r];
+          coef[a][col] = (M[0][0] * (M[1][1] * M[2][2] - M[1][2] * M[2][1]) -
+                          M[0][1] * (M[1][0] * M[2][2] - M[1][2] * M[2][0]) +
+                          M[0][2] * (M[1][0] * M[2][1] - M[1][1] * M[2][0])) / det;
+        }
+      have = true;
     }
-    if (cnt < 5 || nl < 2 || nr < 2) continue;
-    /* Solve the 3x3 normal equations [S0 S1 S2; S1 S2 S3; S2 S3 S4] c = Sy by Cramer's rule
-     * (well conditioned: u is centred on the frame). */
-    double A[3][3] = { { S[0], S[1], S[2] }, { S[1], S[2], S[3] }, { S[2], S[3], S[4] } };
-    double det = A[0][0] * (A[1][1] * A[2][2] - A[1][2] * A[2][1]) -
-                 A[0][1] * (A[1][0] * A[2][2] - A[1][2] * A[2][0]) +
-                 A[0][2] * (A[1][0] * A[2][1] - A[1][1] * A[2][0]);
-    if (!(fabs(det) > 1e-30)) continue;
-    for (int a = 0; a < 3; a++) {
-      const double *b = Sy[a];
-      double det2 = A[0][0] * (A[1][1] * b[2] - b[1] * A[2][1]) -
-                    A[0][1] * (A[1][0] * b[2] - b[1] * A[2][0]) +
-                    b[0] * (A[1][0] * A[2][1] - A[1][1] * A[2][0]);
-      c->acc_m_s2[k][a] = 2.0 * det2 / det;
-    }
+    if (!have) continue;
+    for (int a = 0; a < 3; a++) c->acc_m_s2[k][a] = 2.0 * coef[a][2];
     c->acc_ok[k] = 1;
+    /* Record the weights over the frames the second pass kept. */
+    for (int q = 0; q < nused; q++) {
+      size_t j = used[q];
+      double u = d->t_s[j] - tk, u2 = u * u;
+      if (wn == wcap) {
+        size_t nc = wcap ? 2 * wcap : 1024;
+        uint32_t *ni = realloc(c->widx, sizeof *ni * nc);
+        if (!ni) { aw_fusion_prep_cam_free(c); return AW_ERR_NO_MEMORY; }
+        c->widx = ni;
+        double *nv = realloc(c->wval, sizeof *nv * nc);
+        if (!nv) { aw_fusion_prep_cam_free(c); return AW_ERR_NO_MEMORY; }
+        c->wval = nv;
+        wcap = nc;
+      }
+      c->widx[wn] = (uint32_t)j;
+      c->wval[wn] = 2.0 * (Ainv2[0] + Ainv2[1] * u + Ainv2[2] * u2);
+      wn++;
+    }
   }
+  c->wstart[d->n] = wn;
   return AW_OK;
 }
 
@@ -105,6 +154,9 @@ aw_fusion_prep_cam_free(AwCamPrep *c)
   free(c->valid);
   free(c->acc_ok);
   free(c->acc_m_s2);
+  free(c->wstart);
+  free(c->widx);
+  free(c->wval);
   memset(c, 0, sizeof *c);
 }
 

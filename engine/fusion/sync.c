@@ -12,7 +12,10 @@
  * cut into 30 s segments whose offsets give the drift by a weighted straight-line fit. */
 #include "fusion-internal.h"
 
+#include "arcwise/math3.h"
+
 #include <math.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -23,7 +26,43 @@ typedef struct {
   double half;         /* half-width of the IMU box average, s */
   double *sc;          /* camera signal per frame (NaN = unusable) */
   double g;
+  double (*fb0)[3];    /* specific force in the gyro-stabilised first-sample frame */
+  double (*cumb)[3];   /* its running integral */
+  double (*pb)[3];     /* its double integral */
+  bool exact;          /* fine stage: the camera's own fit weights on the IMU double integral */
 } SyncCtx;
+
+/* Double integral of f_b0 at IMU time t, exact for f linear between samples. */
+static void
+imu_pos(const SyncCtx *c, double t, size_t *hint, double out[3])
+{
+  const AwImuPrep *imu = c->imu;
+  size_t i = aw_fusion_locate(imu->t_s, imu->n, t, hint);
+  if (i + 1 >= imu->n) i = imu->n - 2;
+  double dt = imu->t_s[i + 1] - imu->t_s[i], u = t - imu->t_s[i];
+  for (int a = 0; a < 3; a++) {
+    double f0 = c->fb0[i][a], f1 = c->fb0[i + 1][a];
+    out[a] = c->pb[i][a] + u * c->cumb[i][a] + 0.5 * u * u * f0 + u * u * u * (f1 - f0) / (6 * dt);
+  }
+}
+
+/* IMU dynamic acceleration at IMU time ti: box mean of f_b0 over +-half minus its mean over
+ * +-5 s. In the gyro-stabilised frame gravity is (nearly) constant and the mean of the dynamic
+ * acceleration over 10 s is the change of velocity over 10 s divided by 10 s, ~0, so the
+ * difference is the acceleration without gravity, comparable in magnitude with the camera's. */
+static bool
+imu_dyn(const SyncCtx *c, double ti, size_t *hint, double out[3])
+{
+  const AwImuPrep *imu = c->imu;
+  double fm[3], mm[3];
+  if (!aw_fusion_box_mean(imu->t_s, c->cumb, c->fb0, imu->n, ti - c->half, ti + c->half, hint, fm))
+    return false;
+  double t0 = fmax(imu->t_s[0], ti - 5.0), t1 = fmin(imu->t_s[imu->n - 1], ti + 5.0);
+  size_t h2 = 0;
+  if (!aw_fusion_box_mean(imu->t_s, c->cumb, c->fb0, imu->n, t0, t1, &h2, mm)) return false;
+  for (int a = 0; a < 3; a++) out[a] = fm[a] - mm[a];
+  return true;
+}
 
 static inline double
 imu_time(double t_depth, double off_mid, double drift, double t_mid)
@@ -36,7 +75,6 @@ static double
 score(const SyncCtx *c, double off, double drift, double ta, double tb, size_t *n_used)
 {
   const AwCamPrep *cam = c->cam;
-  const AwImuPrep *imu = c->imu;
   double s1 = 0, s2 = 0, s11 = 0, s22 = 0, s12 = 0;
   size_t n = 0, hint = 0;
   for (size_t k = 0; k < cam->n; k++) {
@@ -46,9 +84,25 @@ score(const SyncCtx *c, double off, double drift, double ta, double tb, size_t *
     if (tk < ta || tk > tb) continue;
     double ti = imu_time(tk, off, drift, c->t_mid);
     double fm[3];
-    if (!aw_fusion_box_mean(imu->t_s, imu->cumf, imu->f, imu->n,
-                            ti - c->half, ti + c->half, &hint, fm))
-      continue;
+    if (!imu_dyn(c, ti, &hint, fm)) continue;
+    if (c->exact) {
+      /* Same linear operator as the camera's acceleration estimate, so asymmetric swing shapes
+       * are smoothed identically on both sides and the peak is unbiased. */
+      double acc[3] = { 0, 0, 0 }, mm[3];
+      bool ok = true;
+      size_t h3 = hint;
+      for (size_t q = cam->wstart[k]; q < cam->wstart[k + 1]; q++) {
+        double tj = imu_time(cam->t_s[cam->widx[q]], off, drift, c->t_mid), pj[3];
+        if (tj < c->imu->t_s[0] || tj > c->imu->t_s[c->imu->n - 1]) { ok = false; break; }
+        imu_pos(c, tj, &h3, pj);
+        for (int a = 0; a < 3; a++) acc[a] += cam->wval[q] * pj[a];
+      }
+      if (!ok) continue;
+      double t0 = fmax(c->imu->t_s[0], ti - 5.0), t1 = fmin(c->imu->t_s[c->imu->n - 1], ti + 5.0);
+      size_t h2 = 0;
+      if (!aw_fusion_box_mean(c->imu->t_s, c->cumb, c->fb0, c->imu->n, t0, t1, &h2, mm)) continue;
+      for (int a = 0; a < 3; a++) fm[a] = acc[a] - mm[a];
+    }
     double y = sqrt(fm[0] * fm[0] + fm[1] * fm[1] + fm[2] * fm[2]);
     s1 += x; s2 += y; s11 += x * x; s22 += y * y; s12 += x * y;
     n++;
@@ -196,9 +250,42 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
                         "camera frames span %.3f..%.3f s but the IMU spans %.3f..%.3f s: they do "
                         "not overlap within the +-%.2f s clock-offset range", tc0, tc1, ti0, ti1,
                         max_off);
-  SyncCtx c = { imu, cam, 0.5 * (ti0 + ti1), 0.5 * cam->fit_half_s, NULL, g };
+  SyncCtx c = { imu, cam, 0.5 * (ti0 + ti1), 0.5 * cam->fit_half_s, NULL, g, NULL, NULL, NULL, false };
   c.sc = malloc(sizeof *c.sc * cam->n);
-  if (!c.sc) return AW_ERR_NO_MEMORY;
+  c.fb0 = malloc(sizeof *c.fb0 * imu->n);
+  c.cumb = malloc(sizeof *c.cumb * imu->n);
+  c.pb = malloc(sizeof *c.pb * imu->n);
+  if (!c.sc || !c.fb0 || !c.cumb || !c.pb) { free(c.sc); free(c.fb0); free(c.cumb); free(c.pb); return AW_ERR_NO_MEMORY; }
+  {
+    /* Gyro bias from the still samples (if any), then the attitude chain. */
+    double bg[3] = { 0 };
+    size_t ns = 0;
+    for (size_t i = 0; i < imu->n; i++)
+      if (imu->still[i]) { for (int a = 0; a < 3; a++) bg[a] += imu->w[i][a]; ns++; }
+    if (ns) for (int a = 0; a < 3; a++) bg[a] /= (double)ns;
+    double q[4] = { 1, 0, 0, 0 };
+    for (size_t i = 0; i < imu->n; i++) {
+      if (i > 0) {
+        double dt = imu->t_s[i] - imu->t_s[i - 1], rv[3], dq[4];
+        if (dt > 3 * imu->dt_nom_s + 0.02) dt = 0;   /* gap: hold the attitude */
+        for (int a = 0; a < 3; a++) rv[a] = (0.5 * (imu->w[i][a] + imu->w[i - 1][a]) - bg[a]) * dt;
+        aw_quat_from_rotvec(dq, rv);
+        aw_quat_mul(q, q, dq);
+        aw_quat_normalize(q);
+      }
+      aw_quat_rotate(c.fb0[i], q, imu->f[i]);
+      if (i == 0) { c.cumb[0][0] = c.cumb[0][1] = c.cumb[0][2] = 0; }
+      else
+        for (int a = 0; a < 3; a++)
+          c.cumb[i][a] = c.cumb[i - 1][a] + 0.5 * (imu->t_s[i] - imu->t_s[i - 1]) * (c.fb0[i][a] + c.fb0[i - 1][a]);
+    }
+    c.pb[0][0] = c.pb[0][1] = c.pb[0][2] = 0;
+    for (size_t i = 1; i < imu->n; i++) {
+      double dt = imu->t_s[i] - imu->t_s[i - 1];
+      for (int a = 0; a < 3; a++)
+        c.pb[i][a] = c.pb[i - 1][a] + dt * c.cumb[i - 1][a] + dt * dt * (2 * c.fb0[i - 1][a] + c.fb0[i][a]) / 6.0;
+    }
+  }
   set_cam_signal(&c, NULL);
   /* Motion check: a still or nearly still recording has nothing to align on. */
   double m1 = 0, m2 = 0;
@@ -206,31 +293,26 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
     if (!isnan(c.sc[k])) { m1 += c.sc[k]; m2 += c.sc[k] * c.sc[k]; }
   double sd = sqrt(fmax(0, m2 / (double)n_acc - (m1 / (double)n_acc) * (m1 / (double)n_acc)));
   if (sd < 0.5) {
-    free(c.sc);
+    free(c.sc); free(c.fb0); free(c.cumb); free(c.pb);
     return aw_error_set(err, AW_ERR_NO_CORRELATION, "depth", 0, 0,
                         "the camera saw almost no acceleration (s.d. %.2f m/s^2): there is no "
                         "motion to align the clocks on", sd);
   }
   Peak pk = search(&c, -max_off, max_off, 0.02, 0, -INFINITY, INFINITY);
   if (pk.n < 10 || pk.rho < -1) {
-    free(c.sc);
+    free(c.sc); free(c.fb0); free(c.cumb); free(c.pb);
     return aw_error_set(err, AW_ERR_NO_OVERLAP, "depth", 0, 0,
                         "fewer than 10 camera frames overlap the IMU at any clock offset within "
                         "+-%.2f s", max_off);
   }
-  double g_cam[3] = { 0, g, 0 };
-  bool have_g = estimate_g_cam(&c, pk.off, 0, g_cam);
-  if (have_g) {
-    set_cam_signal(&c, g_cam);
+  (void)estimate_g_cam;
+  {
     double rho2 = pk.rho_second;
+    c.exact = true;
     Peak p2 = search(&c, pk.off - 0.06, pk.off + 0.06, 0.02, 0, -INFINITY, INFINITY);
-    if (p2.rho >= pk.rho - 0.05) { pk = p2; pk.rho_second = rho2; }
-    if (estimate_g_cam(&c, pk.off, 0, g_cam)) {
-      set_cam_signal(&c, g_cam);
-      p2 = search(&c, pk.off - 0.01, pk.off + 0.01, 0.002, 0, -INFINITY, INFINITY);
-      if (p2.rho >= pk.rho - 0.05) { pk = p2; pk.rho_second = rho2; }
-    }
+    if (p2.n >= 10) { pk = p2; pk.rho_second = rho2; }
   }
+  if (getenv("AW_SYNC_DEBUG")) { for (double o = -0.1; o <= 0.1001; o += 0.01) fprintf(stderr, "%+.3f %.4f\n", pk.off + o, score(&c, pk.off + o, 0, -INFINITY, INFINITY, NULL)); }
   double off_mid = pk.off, drift = 0;
   double span = tc1 - tc0;
   if (span >= 60.0) {
@@ -238,7 +320,7 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
     size_t nseg = (size_t)(span / 30.0);
     double *so = calloc(nseg, sizeof *so), *st = calloc(nseg, sizeof *st),
            *sw = calloc(nseg, sizeof *sw);
-    if (!so || !st || !sw) { free(so); free(st); free(sw); free(c.sc); return AW_ERR_NO_MEMORY; }
+    if (!so || !st || !sw) { free(so); free(st); free(sw); free(c.sc); free(c.fb0); free(c.cumb); free(c.pb); return AW_ERR_NO_MEMORY; }
     size_t ns = 0;
     double rng = 0.02 + 2e-4 * span;
     for (size_t j = 0; j < nseg; j++) {
@@ -271,7 +353,7 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
   }
   size_t nu = 0;
   double rho = score(&c, off_mid, drift, -INFINITY, INFINITY, &nu);
-  free(c.sc);
+  free(c.sc); free(c.fb0); free(c.cumb); free(c.pb);
   if (rho < 0.5)
     return aw_error_set(err, AW_ERR_NO_CORRELATION, "depth", 0, 0,
                         "the camera and IMU motion do not agree at any clock offset within "
@@ -283,6 +365,6 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
   rep->clock_confidence = fmax(0, fmin(1, rho)) * fmax(0, fmin(1, sep));
   double var = pk.curv > 0 ? (1 - rho * rho) / (2 * pk.curv * fmax(rho, 0.1) * (double)nu) : 1e-4;
   rep->clock_offset_sigma_s = sqrt(fmax(var, 0));
-  if (g_cam_out) for (int a = 0; a < 3; a++) g_cam_out[a] = have_g ? g_cam[a] : (double)NAN;
+  if (g_cam_out) for (int a = 0; a < 3; a++) g_cam_out[a] = (double)NAN;
   return AW_OK;
 }
