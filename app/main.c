@@ -10,6 +10,7 @@ static const ArcwiseCommand commands[] = {
   { "inspect", "describe capture files: kind, samples, rate, gaps, saturation", arcwise_cmd_inspect },
   { "bench", "run a benchmark and print its figures", arcwise_cmd_bench },
   { "simulate", "write a synthetic recording with ground truth", arcwise_cmd_simulate },
+  { "fuse", "fuse an IMU and a depth stream into one hand path with its uncertainty", arcwise_cmd_fuse },
 };
 
 static const size_t n_commands = sizeof commands / sizeof commands[0];

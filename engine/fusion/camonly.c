@@ -125,7 +125,7 @@ estimate_jerk_psd(const AwCamPrep *cam, const AwFusionSettings *s)
   size_t cap = cam->n, m = 0;
   double *e = malloc(sizeof *e * (cap ? cap : 1));
   if (!e) return 1e4;
-  double h = cam->dt_nom_s;
+  double h = cam->dt_nom_s, raw = 0;
   for (size_t k = 0; k + 3 < cam->n; k++) {
     if (!cam->valid[k] || !cam->valid[k + 1] || !cam->valid[k + 2] || !cam->valid[k + 3]) continue;
     bool even = true;
@@ -140,6 +140,7 @@ estimate_jerk_psd(const AwCamPrep *cam, const AwFusionSettings *s)
       double var[3];
       noise_var(s, cam->pos_m[k + 1], cam->conf ? cam->conf[k + 1] : 1, var);
       sum += d3 * d3 - 20 * var[a];
+      raw += d3 * d3;
     }
     e[m++] = sum / 3.0;
   }
@@ -155,6 +156,9 @@ estimate_jerk_psd(const AwCamPrep *cam, const AwFusionSettings *s)
       for (size_t i = 0; i < m; i++) if (e[i] < 50 * med) { acc += e[i]; c++; }
       free(t);
       if (c > 0) q = acc / (double)c / (0.55 * pow(h, 5));
+      /* When the camera is quieter than its noise model, the difference says little: keep at
+       * least a quarter of what the raw third differences imply. */
+      q = fmax(q, 0.25 * raw / (3.0 * (double)m) / (0.55 * pow(h, 5)));
     }
   }
   free(e);

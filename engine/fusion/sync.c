@@ -312,7 +312,6 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
     Peak p2 = search(&c, pk.off - 0.06, pk.off + 0.06, 0.02, 0, -INFINITY, INFINITY);
     if (p2.n >= 10) { pk = p2; pk.rho_second = rho2; }
   }
-  if (getenv("AW_SYNC_DEBUG")) { for (double o = -0.1; o <= 0.1001; o += 0.01) fprintf(stderr, "%+.3f %.4f\n", pk.off + o, score(&c, pk.off + o, 0, -INFINITY, INFINITY, NULL)); }
   double off_mid = pk.off, drift = 0;
   double span = tc1 - tc0;
   if (span >= 60.0) {

@@ -14,6 +14,7 @@
 
 #include "arcwise/capture.h"
 #include "arcwise/math3.h"
+#include "arcwise/units.h"
 
 typedef struct {
   double duration_s, imu_rate_hz, cam_rate_hz;
@@ -44,7 +45,7 @@ aw_synth_default(AwSynthSpec *s)
   s->imu_rate_hz = 100;
   s->cam_rate_hz = 30;
   s->accel_noise = 180e-6 * 9.80665;
-  s->gyro_noise = 0.007 * M_PI / 180;
+  s->gyro_noise = 0.007 * AW_PI / 180;
   s->cam_sigma_xy_1m = 0.002;
   s->cam_sigma_z_coeff = 1.2e-3;
   s->occl_t0 = s->occl_t1 = -1;
@@ -63,7 +64,7 @@ static inline double
 aw_synth_gauss(uint64_t *st)
 {
   double u = aw_synth_rand(st), v = aw_synth_rand(st);
-  return sqrt(-2 * log(u)) * cos(2 * M_PI * v);
+  return sqrt(-2 * log(u)) * cos(2 * AW_PI * v);
 }
 
 /* Minimum-jerk segment from a to b over [t0, t1]: value and two derivatives. */
@@ -137,7 +138,7 @@ static inline void
 aw_synth_state(const AwSynthSpec *sp, double t, AwSynthState *st)
 {
   /* Swing plane tilted 55 degrees from horizontal, containing grav x. */
-  double ang = 55 * M_PI / 180, r = 0.65;
+  double ang = 55 * AW_PI / 180, r = 0.65;
   double u[3] = { 0, 0, -1 };                       /* arm hanging: address direction */
   double n[3] = { 0, -sin(ang), cos(ang) };        /* plane normal */
   double w3[3];
