@@ -8,6 +8,8 @@
 
 static const ArcwiseCommand commands[] = {
   { "inspect", "describe capture files: kind, samples, rate, gaps, saturation", arcwise_cmd_inspect },
+  { "library", "the swing library: create, import, list, show, reanalyse, backup, check, ...",
+    arcwise_cmd_library },
   { "bench", "run a benchmark and print its figures", arcwise_cmd_bench },
 };
 
