@@ -397,6 +397,8 @@ swing_json(GString *o, const ArcwiseSwingSummary *w)
   json_number(o, w->downswing_s);
   g_string_append(o, ", \"peak_hand_speed_m_s\": ");
   json_number(o, w->peak_hand_speed_m_s);
+  g_string_append(o, ", \"club_speed_impact_m_s\": ");
+  json_number(o, w->club_speed_impact_m_s);
   g_string_append(o, "}");
 }
 

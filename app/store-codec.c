@@ -416,6 +416,160 @@ arcwise_codec_decode_path(GBytes *blob, GError **error)
 }
 #endif
 
+/* ---- AwSwing record ----------------------------------------------------------------------- */
+
+static void
+w_d(GString *s, const char *key, double v)
+{
+  char num[G_ASCII_DTOSTR_BUF_SIZE];
+  g_string_append_printf(s, "%s=%s\n", key, g_ascii_formatd(num, sizeof num, "%.17g", v));
+}
+
+static void
+w_i(GString *s, const char *key, long long v)
+{
+  g_string_append_printf(s, "%s=%lld\n", key, v);
+}
+
+char *
+arcwise_codec_swing_to_text(const AwSwing *sw)
+{
+  GString *s = g_string_new(NULL);
+  char key[96];
+  w_i(s, "i_len", (long long)(sw->i_end - sw->i_start));
+  w_d(s, "t_start_s", sw->t_start_s);
+  w_d(s, "t_end_s", sw->t_end_s);
+  w_i(s, "practice", sw->practice);
+  w_i(s, "half", sw->half);
+  w_i(s, "handed", sw->handed);
+  w_d(s, "club_length_m", sw->club_length_m);
+  w_i(s, "club", sw->club);
+  for (int k = 0; k < 3; k++) {
+    g_snprintf(key, sizeof key, "origin_f_m.%d", k);
+    w_d(s, key, sw->origin_f_m[k]);
+    for (int c = 0; c < 3; c++) {
+      g_snprintf(key, sizeof key, "R_sw_f.%d.%d", k, c);
+      w_d(s, key, sw->R_sw_f[k][c]);
+    }
+  }
+  for (int k = 0; k < AW_EVENT_COUNT_; k++) {
+    g_snprintf(key, sizeof key, "event.%d.t_s", k);
+    w_d(s, key, sw->events[k].t_s);
+    g_snprintf(key, sizeof key, "event.%d.sigma_s", k);
+    w_d(s, key, sw->events[k].sigma_s);
+    g_snprintf(key, sizeof key, "event.%d.estimated", k);
+    w_i(s, key, sw->events[k].estimated);
+  }
+  for (int k = 0; k < AW_PHASE_COUNT_; k++) {
+    const AwPhase *p = &sw->phases[k];
+#define PD(f) g_snprintf(key, sizeof key, "phase.%d." #f, k); w_d(s, key, p->f);
+    g_snprintf(key, sizeof key, "phase.%d.kind", k);
+    w_i(s, key, p->kind);
+    PD(start_s) PD(end_s) PD(cam_occluded_share) PD(cam_info_share_mean) PD(pos_sigma_mean_m)
+    PD(dev_camera_masked_m) PD(dev_imu_masked_m)
+#undef PD
+    g_snprintf(key, sizeof key, "phase.%d.dominance", k);
+    w_i(s, key, p->dominance);
+  }
+  for (int k = 0; k < AW_METRIC_COUNT_; k++) {
+    const AwMetricInfo *info = aw_metric_info((AwMetricId)k);
+    g_snprintf(key, sizeof key, "metric.%s", info != NULL ? info->key : "?");
+    w_d(s, key, sw->metrics[k]);
+  }
+  const AwSwingQuality *q = &sw->quality;
+  w_d(s, "quality.cam_occluded_share", q->cam_occluded_share);
+  w_d(s, "quality.cam_rejected_share", q->cam_rejected_share);
+  w_i(s, "quality.imu_saturated_samples", (long long)q->imu_saturated_samples);
+  w_d(s, "quality.sync_offset_s", q->sync_offset_s);
+  w_d(s, "quality.sync_confidence", q->sync_confidence);
+  w_d(s, "quality.pos_sigma_mean_m", q->pos_sigma_mean_m);
+  w_i(s, "quality.notes", q->notes);
+  return g_string_free(s, FALSE);
+}
+
+AwSwing *
+arcwise_codec_swing_from_text(const char *text)
+{
+  AwSwing *sw = g_new0(AwSwing, 1);
+  /* Missing numbers read as "not available". */
+  sw->t_start_s = sw->t_end_s = sw->club_length_m = NAN;
+  for (int k = 0; k < AW_EVENT_COUNT_; k++)
+    sw->events[k].t_s = sw->events[k].sigma_s = NAN;
+  for (int k = 0; k < AW_METRIC_COUNT_; k++)
+    sw->metrics[k] = NAN;
+  g_autoptr(GHashTable) kv = g_hash_table_new(g_str_hash, g_str_equal);
+  g_auto(GStrv) lines = g_strsplit(text != NULL ? text : "", "\n", -1);
+  for (char **l = lines; *l != NULL; l++) {
+    char *eq = strchr(*l, '=');
+    if (eq != NULL) {
+      *eq = '\0';
+      g_hash_table_insert(kv, *l, eq + 1);
+    }
+  }
+  char key[96];
+#define GET(k) ((const char *)g_hash_table_lookup(kv, k))
+#define RD(k, dst) do { const char *v_ = GET(k); if (v_ != NULL) (dst) = g_ascii_strtod(v_, NULL); } while (0)
+#define RI(k, dst, T) do { const char *v_ = GET(k); if (v_ != NULL) (dst) = (T)g_ascii_strtoll(v_, NULL, 10); } while (0)
+  RI("i_len", sw->i_end, size_t);
+  sw->i_start = 0;
+  RD("t_start_s", sw->t_start_s);
+  RD("t_end_s", sw->t_end_s);
+  RI("practice", sw->practice, bool);
+  RI("half", sw->half, bool);
+  RI("handed", sw->handed, AwHandedness);
+  RD("club_length_m", sw->club_length_m);
+  RI("club", sw->club, AwClubType);
+  for (int k = 0; k < 3; k++) {
+    g_snprintf(key, sizeof key, "origin_f_m.%d", k);
+    RD(key, sw->origin_f_m[k]);
+    for (int c = 0; c < 3; c++) {
+      g_snprintf(key, sizeof key, "R_sw_f.%d.%d", k, c);
+      RD(key, sw->R_sw_f[k][c]);
+    }
+  }
+  for (int k = 0; k < AW_EVENT_COUNT_; k++) {
+    g_snprintf(key, sizeof key, "event.%d.t_s", k);
+    RD(key, sw->events[k].t_s);
+    g_snprintf(key, sizeof key, "event.%d.sigma_s", k);
+    RD(key, sw->events[k].sigma_s);
+    g_snprintf(key, sizeof key, "event.%d.estimated", k);
+    RI(key, sw->events[k].estimated, bool);
+  }
+  for (int k = 0; k < AW_PHASE_COUNT_; k++) {
+    AwPhase *p = &sw->phases[k];
+    p->kind = (AwPhaseKind)k;
+    p->start_s = p->end_s = p->cam_occluded_share = p->cam_info_share_mean = NAN;
+    p->pos_sigma_mean_m = p->dev_camera_masked_m = p->dev_imu_masked_m = NAN;
+#define PD(f) g_snprintf(key, sizeof key, "phase.%d." #f, k); RD(key, p->f);
+    PD(start_s) PD(end_s) PD(cam_occluded_share) PD(cam_info_share_mean) PD(pos_sigma_mean_m)
+    PD(dev_camera_masked_m) PD(dev_imu_masked_m)
+#undef PD
+    g_snprintf(key, sizeof key, "phase.%d.dominance", k);
+    RI(key, p->dominance, AwDominance);
+  }
+  for (int k = 0; k < AW_METRIC_COUNT_; k++) {
+    const AwMetricInfo *info = aw_metric_info((AwMetricId)k);
+    if (info == NULL)
+      continue;
+    g_snprintf(key, sizeof key, "metric.%s", info->key);
+    RD(key, sw->metrics[k]);
+  }
+  AwSwingQuality *q = &sw->quality;
+  q->cam_occluded_share = q->cam_rejected_share = q->sync_offset_s = NAN;
+  q->sync_confidence = q->pos_sigma_mean_m = NAN;
+  RD("quality.cam_occluded_share", q->cam_occluded_share);
+  RD("quality.cam_rejected_share", q->cam_rejected_share);
+  RI("quality.imu_saturated_samples", q->imu_saturated_samples, size_t);
+  RD("quality.sync_offset_s", q->sync_offset_s);
+  RD("quality.sync_confidence", q->sync_confidence);
+  RD("quality.pos_sigma_mean_m", q->pos_sigma_mean_m);
+  RI("quality.notes", q->notes, unsigned);
+#undef GET
+#undef RD
+#undef RI
+  return sw;
+}
+
 /* ---- Prepared records ------------------------------------------------------------------ */
 
 ArcwisePreparedSwing *
@@ -435,6 +589,7 @@ arcwise_prepared_swing_free(ArcwisePreparedSwing *s)
   g_clear_pointer(&s->path_blob, g_bytes_unref);
   g_clear_pointer(&s->events, g_ptr_array_unref);
   g_clear_pointer(&s->metrics, g_ptr_array_unref);
+  g_free(s->swing_text);
   g_free(s);
 }
 

@@ -124,9 +124,9 @@ add_event(GPtrArray *events, const char *name, double t_s)
   g_ptr_array_add(events, e);
 }
 
-/* The engine's swing as stored rows: events by trade name, every metric by its key. The key
- * numbers of lists use the store's fixed names (store.h ARCWISE_METRIC_*). */
-static void
+/* The engine's swing as stored rows: events by trade name, every metric by its engine key
+ * (aw_metric_info), plus the whole AwSwing record as text for the workbench. */
+G_GNUC_UNUSED static void
 swing_to_rows(const AwSwing *sw, ArcwisePreparedSwing *ps)
 {
   static const char *const event_names[AW_EVENT_COUNT_] = {
@@ -141,14 +141,10 @@ swing_to_rows(const AwSwing *sw, ArcwisePreparedSwing *ps)
     if (info != NULL)
       add_metric(ps->metrics, info->key, info->unit, sw->metrics[k]);
   }
-  add_metric(ps->metrics, ARCWISE_METRIC_TEMPO_RATIO, "1", sw->metrics[AW_METRIC_TEMPO_RATIO]);
-  add_metric(ps->metrics, ARCWISE_METRIC_BACKSWING_S, "s", sw->metrics[AW_METRIC_BACKSWING_S]);
-  add_metric(ps->metrics, ARCWISE_METRIC_DOWNSWING_S, "s", sw->metrics[AW_METRIC_DOWNSWING_S]);
-  add_metric(ps->metrics, ARCWISE_METRIC_PEAK_HAND_SPEED, "m/s",
-             sw->metrics[AW_METRIC_PEAK_HAND_SPEED_M_S]);
   add_metric(ps->metrics, "practice", "1", sw->practice ? 1.0 : 0.0);
   add_metric(ps->metrics, "half", "1", sw->half ? 1.0 : 0.0);
   add_metric(ps->metrics, "quality_notes", "1", (double)sw->quality.notes);
+  ps->swing_text = arcwise_codec_swing_to_text(sw);
 }
 #endif
 

@@ -25,6 +25,12 @@ GBytes *arcwise_codec_encode_path(const AwFusedPath *path, double t_from_s, doub
                                   GError **error);
 AwFusedPath *arcwise_codec_decode_path(GBytes *blob, GError **error);
 
+/* The engine's AwSwing as "key=value" lines (17 significant digits: exact for doubles), and
+ * back. Unknown keys are ignored and missing ones stay NaN/0, so a record cached by an older
+ * engine still loads. Indices are stored relative to the swing's span start. */
+char *arcwise_codec_swing_to_text(const AwSwing *sw);
+AwSwing *arcwise_codec_swing_from_text(const char *text);
+
 /* File name as stored: the last component only, never "", "." or "..", no control characters
  * and no separators, at most 200 bytes. Free with g_free. */
 char *arcwise_codec_safe_name(const char *path);
@@ -38,6 +44,7 @@ typedef struct {
   GBytes *path_blob;           /* arcwise_codec_encode_path over the span; NULL: not fused */
   GPtrArray *events;           /* ArcwiseSwingEvent*, NULL: not analysed */
   GPtrArray *metrics;          /* ArcwiseSwingMetric*, NULL: not analysed */
+  char *swing_text;            /* arcwise_codec_swing_to_text, NULL: not analysed */
   gint64 swing_id;             /* re-analysis: the stored swing this replaces; import: 0 */
 } ArcwisePreparedSwing;
 

@@ -113,7 +113,8 @@ static const char *const migrations[ARCWISE_STORE_SCHEMA_VERSION] = {
   ");\n"
   "CREATE TABLE swing_result_data (\n"
   "  swing_id INTEGER PRIMARY KEY REFERENCES swing_result(swing_id) ON DELETE CASCADE,\n"
-  "  path BLOB\n"
+  "  path BLOB,\n"
+  "  swing TEXT\n"
   ");\n"
   "CREATE TABLE swing_event (\n"
   "  swing_id INTEGER NOT NULL REFERENCES swing_result(swing_id) ON DELETE CASCADE,\n"
@@ -764,6 +765,7 @@ arcwise_swing_detail_free(ArcwiseSwingDetail *d)
   aw_fused_path_free(d->path);
 #endif
   arcwise_swing_analysis_free(d->analysis);
+  g_free(d->swing);
   g_free(d);
 }
 
@@ -1191,7 +1193,9 @@ arcwise_swing_filter_init(ArcwiseSwingFilter *f)
   "(SELECT m.value FROM swing_metric m WHERE m.swing_id = s.id AND m.name = 'backswing_s'), " \
   "(SELECT m.value FROM swing_metric m WHERE m.swing_id = s.id AND m.name = 'downswing_s'), " \
   "(SELECT m.value FROM swing_metric m WHERE m.swing_id = s.id "                            \
-  "   AND m.name = 'peak_hand_speed_m_s') "                                                 \
+  "   AND m.name = 'peak_hand_speed_mps'), "                                                \
+  "(SELECT m.value FROM swing_metric m WHERE m.swing_id = s.id "                            \
+  "   AND m.name = 'club_speed_impact_mps') "                                               \
   "FROM swing s JOIN session se ON se.id = s.session_id JOIN player p ON p.id = se.player_id " \
   "LEFT JOIN club c ON c.id = s.club_id LEFT JOIN swing_result r ON r.swing_id = s.id "
 
@@ -1247,6 +1251,7 @@ swing_from_row(sqlite3_stmt *st)
   s->backswing_s = col_real(st, 18);
   s->downswing_s = col_real(st, 19);
   s->peak_hand_speed_m_s = col_real(st, 20);
+  s->club_speed_impact_m_s = col_real(st, 21);
   return s;
 }
 
@@ -1332,7 +1337,8 @@ arcwise_store_load_swing(ArcwiseStore *store, gint64 swing_id, GError **error)
   gboolean ok = (d->summary = arcwise_store_get_swing(store, swing_id, error)) != NULL;
   sqlite3_stmt *st = NULL;
   if (ok)
-    ok = (st = stmt(store, "SELECT r.engine_version, r.settings, r.made_utc, r.analysed, d.path "
+    ok = (st = stmt(store, "SELECT r.engine_version, r.settings, r.made_utc, r.analysed, d.path, "
+                           "d.swing "
                            "FROM swing_result r LEFT JOIN swing_result_data d "
                            "ON d.swing_id = r.swing_id WHERE r.swing_id = ?1", error)) != NULL;
   gboolean analysed = FALSE;
@@ -1344,6 +1350,11 @@ arcwise_store_load_swing(ArcwiseStore *store, gint64 swing_id, GError **error)
       g_autoptr(GBytes) blob = col_bytes(st, 4);
       if (blob != NULL)
         ok = (d->path = arcwise_codec_decode_path(blob, error)) != NULL;
+      if (ok && analysed && sqlite3_column_type(st, 5) != SQLITE_NULL) {
+        d->swing = arcwise_codec_swing_from_text((const char *)sqlite3_column_text(st, 5));
+        if (d->path != NULL)
+          d->swing->i_end = d->path->n;
+      }
       if (ok && analysed) {
         d->analysis = g_new0(ArcwiseSwingAnalysis, 1);
         d->analysis->engine_version = col_text0(st, 0);
@@ -1669,11 +1680,13 @@ insert_result(ArcwiseStore *s, gint64 swing_id, const ArcwisePreparedRecording *
   sqlite3_bind_int(st, 6, analysed ? 1 : 0);
   if (!step_done(s, st, error, "storing a result"))
     return FALSE;
-  st = stmt(s, "INSERT INTO swing_result_data (swing_id, path) VALUES (?1, ?2)", error);
+  st = stmt(s, "INSERT INTO swing_result_data (swing_id, path, swing) VALUES (?1, ?2, ?3)",
+            error);
   if (st == NULL)
     return FALSE;
   sqlite3_bind_int64(st, 1, swing_id);
   bind_bytes(st, 2, ps->path_blob);
+  bind_text(st, 3, ps->swing_text);
   if (!step_done(s, st, error, "storing a fused path"))
     return FALSE;
   for (guint i = 0; ps->events != NULL && i < ps->events->len; i++) {
@@ -2026,7 +2039,7 @@ static const char *const import_result_sql[] = {
   "INSERT INTO main.swing_result (swing_id, engine_version, settings, settings_sha256, "
   "made_utc, analysed) SELECT ?2, engine_version, settings, settings_sha256, made_utc, analysed "
   "FROM xfer.swing_result WHERE swing_id = ?1",
-  "INSERT INTO main.swing_result_data (swing_id, path) SELECT ?2, path "
+  "INSERT INTO main.swing_result_data (swing_id, path, swing) SELECT ?2, path, swing "
   "FROM xfer.swing_result_data WHERE swing_id = ?1",
   "INSERT INTO main.swing_event (swing_id, name, t_s) SELECT ?2, name, t_s "
   "FROM xfer.swing_event WHERE swing_id = ?1",

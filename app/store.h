@@ -22,6 +22,7 @@
 
 #include "arcwise/capture.h"
 #include "arcwise/fusion.h"
+#include "arcwise/analysis.h"
 
 G_BEGIN_DECLS
 
@@ -104,11 +105,14 @@ typedef struct {
   guint n_swings;           /* filled by list/get */
 } ArcwiseSession;
 
-/* Names of the key numbers every analysed swing carries (swing_metric rows); values in SI. */
+/* Metrics are stored under the engine's keys (aw_metric_info(id)->key, analysis.h), in the unit
+ * aw_metric_info gives; also "practice", "half" (0/1) and "quality_notes" (AW_NOTE_* bits).
+ * The key numbers every list row carries: */
 #define ARCWISE_METRIC_TEMPO_RATIO "tempo_ratio"           /* backswing / downswing, 1 */
 #define ARCWISE_METRIC_BACKSWING_S "backswing_s"
 #define ARCWISE_METRIC_DOWNSWING_S "downswing_s"
-#define ARCWISE_METRIC_PEAK_HAND_SPEED "peak_hand_speed_m_s"
+#define ARCWISE_METRIC_PEAK_HAND_SPEED "peak_hand_speed_mps"
+#define ARCWISE_METRIC_CLUB_SPEED "club_speed_impact_mps"
 
 /* One row of a swing list: what a table shows without touching the stored streams. */
 typedef struct {
@@ -133,6 +137,7 @@ typedef struct {
   double backswing_s;
   double downswing_s;
   double peak_hand_speed_m_s;
+  double club_speed_impact_m_s;  /* estimate (lever model, analysis.h) */
 } ArcwiseSwingSummary;
 
 /* A timed event of the analysis (address, top, impact, finish, ...), depth camera clock. */
@@ -157,12 +162,17 @@ typedef struct {
   GPtrArray *metrics;       /* ArcwiseSwingMetric* */
 } ArcwiseSwingAnalysis;
 
-/* One swing, loaded for display. `path` is the fused hand path over the swing's span (NULL when
- * the swing has not been fused yet), `analysis` NULL when not analysed. */
+/* One swing, loaded for display. `path` is the fused hand path over the swing's span only
+ * (NULL when the swing has not been fused yet), `analysis` NULL when not analysed. `swing` is
+ * the engine's own record (analysis.h AwSwing, events with sigmas, phases with sensor trust,
+ * swing frame, quality) as cached, with i_start = 0 and i_end = path->n so that it indexes
+ * `path` directly; NULL when not analysed. Build the AwTrajectory for comparison with
+ * aw_trajectory_from_fused(path, ...). */
 typedef struct {
   ArcwiseSwingSummary *summary;
   AwFusedPath *path;
   ArcwiseSwingAnalysis *analysis;
+  AwSwing *swing;             /* owned, g_free'd by arcwise_swing_detail_free */
 } ArcwiseSwingDetail;
 
 void arcwise_player_free(ArcwisePlayer *p);
