@@ -34,6 +34,7 @@ int arcwise_gui_run(int argc, char **argv);
 /* Command entry points (one per cmd-*.c). */
 int arcwise_cmd_inspect(int argc, char **argv);
 int arcwise_cmd_bench(int argc, char **argv);
+int arcwise_cmd_library(int argc, char **argv);
 int arcwise_cmd_c3d(int argc, char **argv);
 int arcwise_cmd_simulate(int argc, char **argv);
 /* The scenario part of `simulate` (sim-scenario.c). */
