@@ -7,7 +7,7 @@
 #include <string.h>
 
 static const ArcwiseCommand benches[] = {
-  /* { "accuracy", "position, sync and event accuracy over seeded swings", arcwise_bench_accuracy }, */
+  { "accuracy", "position, sync and event accuracy over seeded swings", arcwise_bench_accuracy },
   { "fuse", "fusion speed (ns per IMU sample, 4 s to 30 min) and accuracy on seeded swings", arcwise_bench_fuse },
   { NULL, NULL, NULL },
 };
