@@ -40,3 +40,4 @@ int arcwise_cmd_simulate(int argc, char **argv);
 
 /* Benchmarks (one per bench-*.c), dispatched by cmd-bench.c. */
 int arcwise_bench_accuracy(int argc, char **argv);
+int arcwise_bench_capture(int argc, char **argv);
