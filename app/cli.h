@@ -38,3 +38,4 @@ int arcwise_cmd_c3d(int argc, char **argv);
 int arcwise_cmd_simulate(int argc, char **argv);
 
 /* Benchmarks (one per bench-*.c), dispatched by cmd-bench.c. */
+int arcwise_bench_analysis(int argc, char **argv);
