@@ -39,8 +39,5 @@ int arcwise_cmd_c3d(int argc, char **argv);
 int arcwise_cmd_simulate(int argc, char **argv);
 
 /* Benchmarks (one per bench-*.c), dispatched by cmd-bench.c. */
-<<<<<<< HEAD
-int arcwise_bench_analysis(int argc, char **argv);
-=======
 int arcwise_bench_accuracy(int argc, char **argv);
->>>>>>> main
+int arcwise_bench_analysis(int argc, char **argv);

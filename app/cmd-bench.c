@@ -7,12 +7,8 @@
 #include <string.h>
 
 static const ArcwiseCommand benches[] = {
-<<<<<<< HEAD
-  /* { "accuracy", "position, sync and event accuracy over seeded swings", arcwise_bench_accuracy }, */
-  { "analysis", "swing events, tempo, speeds and swing finding on simulated swings", arcwise_bench_analysis },
-=======
   { "accuracy", "position, sync and event accuracy over seeded swings", arcwise_bench_accuracy },
->>>>>>> main
+  { "analysis", "swing events, tempo, speeds and swing finding on simulated swings", arcwise_bench_analysis },
   { NULL, NULL, NULL },
 };
 
