@@ -7,7 +7,7 @@
 #include <string.h>
 
 static const ArcwiseCommand benches[] = {
-  /* { "accuracy", "position, sync and event accuracy over seeded swings", arcwise_bench_accuracy }, */
+  { "accuracy", "position, sync and event accuracy over seeded swings", arcwise_bench_accuracy },
   { NULL, NULL, NULL },
 };
 
