@@ -6,6 +6,7 @@
 #include "arcwise-config.h"
 
 #include <cairo-pdf.h>
+#include <fontconfig/fontconfig.h>
 #include <cairo.h>
 #include <math.h>
 #include <stdio.h>
@@ -595,4 +596,11 @@ arcwise_report_write_pdf(const ArcwiseReport *r, const char *path, bool force, c
     unlink(tmp);
   free(tmp);
   return ok;
+}
+
+void
+arcwise_export_shutdown(void)
+{
+  cairo_debug_reset_static_data();
+  FcFini();
 }

@@ -6,6 +6,7 @@
 #include "testutil.h"
 
 #include "export-clip.h"
+#include "export-file.h"
 
 #include <stdatomic.h>
 #include <string.h>
@@ -122,5 +123,6 @@ main(int argc, char **argv)
   snprintf(odd, sizeof odd, "%s/odd.mp4", argv[1]);
   AW_CHECK(!arcwise_clip_export(&s, odd, false, NULL, msg, sizeof msg));
   AW_CHECK(strstr(msg, "even") != NULL && access(odd, F_OK) != 0);
+  arcwise_export_shutdown();
   return AW_TEST_END();
 }
