@@ -785,19 +785,33 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
         path->vel_cam_m_s[ii][a] = xsm.v[a] + Rwl[a];
       }
       memcpy(path->q_cam_body[ii], xsm.q, sizeof xsm.q);
+      /* P - P Lambda P can lose positive definiteness to rounding (seen after a long IMU gap);
+       * where the smoothed variance is not positive, the filtered one, which the smoothed
+       * variance can never exceed, is the honest bound: never a sigma of zero. */
       if (lever) {
         /* keypoint = p + R l: J = [I, 0, -[Rl]x] */
         double S[3][3];
         skew(S, Rl);
         for (int a = 0; a < 3; a++) {
-          double var = Ps[a][a];
-          for (int k = 0; k < 3; k++) var -= 2 * S[a][k] * Ps[IT + k][a];
+          double var = Ps[a][a], var_f = Pk[a][a];
+          for (int k = 0; k < 3; k++) {
+            var -= 2 * S[a][k] * Ps[IT + k][a];
+            var_f -= 2 * S[a][k] * Pk[IT + k][a];
+          }
           for (int k = 0; k < 3; k++)
-            for (int q = 0; q < 3; q++) var += S[a][k] * Ps[IT + k][IT + q] * S[a][q];
+            for (int q = 0; q < 3; q++) {
+              var += S[a][k] * Ps[IT + k][IT + q] * S[a][q];
+              var_f += S[a][k] * Pk[IT + k][IT + q] * S[a][q];
+            }
+          if (!(var > 0) || !isfinite(var)) var = var_f;
           path->pos_sigma_cam_m[ii][a] = sqrt(fmax(var, 0));
         }
       } else
-        for (int a = 0; a < 3; a++) path->pos_sigma_cam_m[ii][a] = sqrt(fmax(Ps[a][a], 0));
+        for (int a = 0; a < 3; a++) {
+          double var = Ps[a][a];
+          if (!(var > 0) || !isfinite(var)) var = Pk[a][a];
+          path->pos_sigma_cam_m[ii][a] = sqrt(fmax(var, 0));
+        }
       if (ii == imid) {
         memcpy(rep->accel_bias_m_s2, xsm.ba, sizeof xsm.ba);
         memcpy(rep->gyro_bias_rad_s, xsm.bg, sizeof xsm.bg);
