@@ -139,6 +139,18 @@ param_num(const AwC3dFile *f, const char *group, const char *name)
   return p->values[0];
 }
 
+/* A parameter value used as a count or block number: a float parameter can hold anything, and
+ * converting a negative, huge or NaN double to size_t is undefined behaviour. Counts above 2^32
+ * cannot describe a file that fits in memory anyway. */
+static bool
+as_count(double v, size_t *out)
+{
+  if (!(v >= 0 && v <= 4294967295.0))
+    return false;
+  *out = (size_t)v;
+  return true;
+}
+
 /* int16 parameters that count things are unsigned in practice (frame counts above 32767). */
 static double
 param_count(const AwC3dFile *f, const char *group, const char *name)
@@ -405,11 +417,12 @@ aw_c3d_read_buffer(const uint8_t *data, size_t len, const char *name, AwC3dFile 
   /* Parameters are authoritative where c3d.org says so; the header is a copy. */
   double p_used = param_count(f, "POINT", "USED");
   f->n_points = h_points;
-  if (isfinite(p_used) && p_used >= 0) {
-    if ((size_t)p_used != h_points)
+  size_t p_used_n;
+  if (as_count(p_used, &p_used_n)) {
+    if (p_used_n != h_points)
       note(f, "header says %zu points, POINT:USED says %.0f; using POINT:USED", h_points,
            p_used);
-    f->n_points = (size_t)p_used;
+    f->n_points = p_used_n;
   }
   double p_scale = param_num(f, "POINT", "SCALE");
   f->point_scale = h_scale;
@@ -442,8 +455,9 @@ aw_c3d_read_buffer(const uint8_t *data, size_t len, const char *name, AwC3dFile 
    * consistent with the file's length wins. */
   size_t frames_c[3], n_fc = 0;
   double p_frames = param_count(f, "POINT", "FRAMES");
-  if (isfinite(p_frames) && p_frames >= 0)
-    frames_c[n_fc++] = (size_t)p_frames;
+  size_t p_frames_n;
+  if (as_count(p_frames, &p_frames_n))
+    frames_c[n_fc++] = p_frames_n;
   if (h_last >= h_first)
     frames_c[n_fc++] = h_last - h_first + 1;
   const AwC3dParam *ts = aw_c3d_param(f, "TRIAL", "ACTUAL_START_FIELD");
@@ -466,16 +480,18 @@ aw_c3d_read_buffer(const uint8_t *data, size_t len, const char *name, AwC3dFile 
   }
   size_t start_c[2], n_sc = 0;
   double p_start = param_count(f, "POINT", "DATA_START");
+  size_t p_start_n = 0;
+  bool p_start_ok = as_count(p_start, &p_start_n);
   start_c[n_sc++] = h_start;
-  if (isfinite(p_start) && (size_t)p_start != h_start)
-    start_c[n_sc++] = (size_t)p_start;
+  if (p_start_ok && p_start_n != h_start)
+    start_c[n_sc++] = p_start_n;
   size_t analog_c[2], n_ac = 0;
   analog_c[n_ac++] = h_analog;
   double a_used = param_count(f, "ANALOG", "USED"), a_rate = param_num(f, "ANALOG", "RATE");
   if (isfinite(a_used) && isfinite(a_rate) && a_rate > 0) {
     double per = a_rate / f->point_rate_hz;
-    size_t w = (size_t)llround(a_used * per);
-    if (w != h_analog && fabs(per - round(per)) < 1e-6)
+    size_t w;
+    if (as_count(round(a_used * per), &w) && w != h_analog && fabs(per - round(per)) < 1e-6)
       analog_c[n_ac++] = w;
   }
   size_t word = f->float_data ? 4 : 2;
@@ -501,7 +517,7 @@ aw_c3d_read_buffer(const uint8_t *data, size_t len, const char *name, AwC3dFile 
       }
   if (!found) {
     size_t fb = (4 * f->n_points + h_analog) * word;
-    size_t s = h_start >= min_start ? h_start : (size_t)(isfinite(p_start) ? p_start : 0);
+    size_t s = h_start >= min_start ? h_start : p_start_n;
     st = aw_error_set(err, AW_ERR_INCOMPLETE, name, 0, 0,
                       "truncated: %zu frames of %zu bytes from block %zu need %zu bytes, the "
                       "file has %zu", frames_c[0], fb, s,
