@@ -150,8 +150,11 @@ check_sane(const AwFusedPath *p)
       if (!isfinite(p->pos_cam_m[i][k]) || !isfinite(p->vel_cam_m_s[i][k]) ||
           !isfinite(p->accel_body_m_s2[i][k]) || !isfinite(p->gyro_body_rad_s[i][k]))
         bad_v++;
-      if (!(p->pos_sigma_cam_m[i][k] > 0) || !isfinite(p->pos_sigma_cam_m[i][k]))
-        bad_s++;
+      if (!(p->pos_sigma_cam_m[i][k] > 0) || !isfinite(p->pos_sigma_cam_m[i][k])) {
+        if (bad_s++ < 3)
+          fprintf(stderr, "sample %zu t %.3f s: sigma[%d] = %g, flags 0x%x\n", i, p->t_s[i], k,
+                  p->pos_sigma_cam_m[i][k], (unsigned)p->flags[i]);
+      }
     }
     double qn = 0;
     for (int k = 0; k < 4; k++)
@@ -284,7 +287,7 @@ mean_sigma(const AwFusedPath *p, double ta, double tb)
       s += norm3(p->pos_sigma_cam_m[i]);
       n++;
     }
-  return n > 0 ? s / (double)n : NAN;
+  return n > 0 ? s / (double)n : (double)NAN;
 }
 
 /* ---- the faults ------------------------------------------------------------------------ */
