@@ -42,4 +42,5 @@ int arcwise_simulate_scenario(const char *path, const char *out_dir);
 
 /* Benchmarks (one per bench-*.c), dispatched by cmd-bench.c. */
 int arcwise_bench_accuracy(int argc, char **argv);
+int arcwise_bench_capture(int argc, char **argv);
 int arcwise_bench_analysis(int argc, char **argv);
