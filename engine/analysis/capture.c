@@ -5,6 +5,7 @@
 #include "analysis-private.h"
 
 #include <string.h>
+#include <stdlib.h>
 
 AwStatus
 aw_analyze_capture(const AwImuStream *imu, const AwDepthStream *depth,
