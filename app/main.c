@@ -13,6 +13,7 @@ static const ArcwiseCommand commands[] = {
   { "bench", "run a benchmark and print its figures", arcwise_cmd_bench },
   { "c3d", "describe a C3D motion-capture file, extract a marker trajectory", arcwise_cmd_c3d },
   { "simulate", "write a synthetic recording with ground truth", arcwise_cmd_simulate },
+  { "fuse", "fuse an IMU and a depth stream into one hand path with its uncertainty", arcwise_cmd_fuse },
 };
 
 static const size_t n_commands = sizeof commands / sizeof commands[0];
