@@ -11,6 +11,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 static void
@@ -33,6 +34,7 @@ usage(FILE *out)
           "  -o, --output FILE   write the path here (default: standard output)\n"
           "  --report FILE       write the estimated clock offset, drift, camera-to-gravity\n"
           "                      rotation and counts here (default: standard error)\n"
+          "  --force             replace the output or report file if it exists\n"
           "\n"
           "The path is an estimate from consumer sensors, not a medical or equipment assessment.\n");
 }
@@ -111,12 +113,14 @@ int
 arcwise_cmd_fuse(int argc, char **argv)
 {
   const char *imu_path = NULL, *depth_path = NULL, *out_path = NULL, *report_path = NULL;
+  bool force = false;
   AwFusionSettings s;
   aw_fusion_settings_default(&s);
   for (int i = 1; i < argc; i++) {
     const char *a = argv[i];
     const char *v = i + 1 < argc ? argv[i + 1] : NULL;
     if (strcmp(a, "--help") == 0 || strcmp(a, "-h") == 0) { usage(stdout); return 0; }
+    if (strcmp(a, "--force") == 0) { force = true; continue; }
     if (!v) return arcwise_cli_usage_error("fuse", "option '%s' needs a value or is unknown", a);
     if (strcmp(a, "--imu") == 0) imu_path = v;
     else if (strcmp(a, "--depth") == 0) depth_path = v;
@@ -142,6 +146,14 @@ arcwise_cmd_fuse(int argc, char **argv)
     i++;
   }
   if (!imu_path || !depth_path) return arcwise_cli_usage_error("fuse", "--imu and --depth are required");
+  /* Never replace a file silently (a fused path or report written earlier may be the only copy
+   * of work the user wants); checked before the fusion runs so that nothing is wasted. */
+  const char *outs[2] = { out_path, report_path };
+  for (int k = 0; k < 2 && !force; k++) {
+    struct stat sb;
+    if (outs[k] != NULL && stat(outs[k], &sb) == 0 && S_ISREG(sb.st_mode))
+      return arcwise_cli_fail("fuse", "%s: already exists (use --force to replace it)", outs[k]);
+  }
   AwImuStream *imu = NULL;
   AwDepthStream *dep = NULL;
   AwError err;
