@@ -151,7 +151,14 @@ sql_fail(ArcwiseStore *s, GError **error, const char *what)
     e = ARCWISE_STORE_ERROR_EXISTS;
   else if (primary == SQLITE_CONSTRAINT)
     e = ARCWISE_STORE_ERROR_INVALID;
-  g_set_error(error, ARCWISE_STORE_ERROR, e, "%s: %s: %s", s->path, what, sqlite3_errmsg(s->db));
+  /* "disk I/O error" alone does not tell a full disk from a failing one: add what the system
+   * said (No space left on device, File too large, ...). */
+  int sys = sqlite3_system_errno(s->db);
+  if ((primary == SQLITE_IOERR || primary == SQLITE_FULL || primary == SQLITE_CANTOPEN) && sys != 0)
+    g_set_error(error, ARCWISE_STORE_ERROR, e, "%s: %s: %s (%s)", s->path, what,
+                sqlite3_errmsg(s->db), g_strerror(sys));
+  else
+    g_set_error(error, ARCWISE_STORE_ERROR, e, "%s: %s: %s", s->path, what, sqlite3_errmsg(s->db));
   return FALSE;
 }
 
@@ -452,11 +459,14 @@ open_connection(const char *path, ArcwiseStoreOpenFlags flags, int target_versio
     arcwise_store_close(s);
     return NULL;
   }
-  /* Refuse before changing anything, not even the journal mode. */
-  if (version > ARCWISE_STORE_SCHEMA_VERSION) {
+  /* Refuse writing before changing anything, not even the journal mode. Reading is allowed:
+   * a newer format adds to the schema, and a read-only connection cannot harm the file; a
+   * query that meets a changed table fails with SQLite's message. */
+  if (version > ARCWISE_STORE_SCHEMA_VERSION && !readonly) {
     g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_TOO_NEW,
                 "%s: made by a newer Arcwise (library format %d; this program reads formats up "
-                "to %d). Open it with a newer Arcwise; nothing was changed.",
+                "to %d). Open it with a newer Arcwise, or read-only to look at it; nothing was "
+                "changed.",
                 path, version, ARCWISE_STORE_SCHEMA_VERSION);
     arcwise_store_close(s);
     return NULL;
@@ -466,7 +476,7 @@ open_connection(const char *path, ArcwiseStoreOpenFlags flags, int target_versio
     return NULL;
   }
   if (readonly) {
-    if (version != target_version) {
+    if (version < target_version) {
       g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_INVALID,
                   "%s: library format %d needs upgrading to %d; open it for writing once",
                   path, version, target_version);

@@ -49,7 +49,8 @@ typedef enum {
   ARCWISE_STORE_OPEN_DEFAULT = 0,       /* existing library, read-write, migrated if older */
   ARCWISE_STORE_OPEN_CREATE = 1 << 0,   /* create an empty library when the file is missing */
   ARCWISE_STORE_OPEN_READONLY = 1 << 1, /* never writes; an older library is read as is only
-                                           if no migration is needed, else refused */
+                                           if no migration is needed, else refused; a newer
+                                           one is read (TOO_NEW is for writing only) */
 } ArcwiseStoreOpenFlags;
 
 /* g_get_user_data_dir()/arcwise/library.sqlite (the folder is not created). Free with g_free. */
