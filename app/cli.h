@@ -36,6 +36,7 @@ int arcwise_cmd_inspect(int argc, char **argv);
 int arcwise_cmd_bench(int argc, char **argv);
 int arcwise_cmd_library(int argc, char **argv);
 int arcwise_cmd_c3d(int argc, char **argv);
+int arcwise_cmd_export(int argc, char **argv);
 int arcwise_cmd_simulate(int argc, char **argv);
 /* The scenario part of `simulate` (sim-scenario.c). */
 int arcwise_simulate_scenario(const char *path, const char *out_dir);

@@ -11,6 +11,7 @@ static const ArcwiseCommand commands[] = {
   { "library", "the swing library: create, import, list, show, reanalyse, backup, check, ...",
     arcwise_cmd_library },
   { "bench", "run a benchmark and print its figures", arcwise_cmd_bench },
+  { "export", "share swings: numbers (CSV, JSON), report (PDF), C3D, clip (MP4), still (PNG)", arcwise_cmd_export },
   { "c3d", "describe a C3D motion-capture file, extract a marker trajectory", arcwise_cmd_c3d },
   { "simulate", "write a synthetic recording with ground truth", arcwise_cmd_simulate },
 };
