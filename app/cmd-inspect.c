@@ -262,7 +262,7 @@ text_findings(const AwQualityReport *q, AwFindingKind kind, const char *label)
   }
   switch (kind) {
   case AW_FINDING_GAP:
-    printf("%zu, %.3f s lost in all\n", q->n_gaps, q->gap_total_s);
+    printf("%zu gap%s, %.3f s lost\n", q->n_gaps, q->n_gaps == 1 ? "" : "s", q->gap_total_s);
     break;
   case AW_FINDING_JITTER:
     printf("%zu irregular intervals (off the median by more than a quarter) in %zu stretch%s\n",

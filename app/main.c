@@ -14,6 +14,7 @@ static const ArcwiseCommand commands[] = {
   { "export", "share swings: numbers (CSV, JSON), report (PDF), C3D, clip (MP4), still (PNG)", arcwise_cmd_export },
   { "c3d", "describe a C3D motion-capture file, extract a marker trajectory", arcwise_cmd_c3d },
   { "simulate", "write a synthetic recording with ground truth", arcwise_cmd_simulate },
+  { "fuse", "fuse an IMU and a depth stream into one hand path with its uncertainty", arcwise_cmd_fuse },
 };
 
 static const size_t n_commands = sizeof commands / sizeof commands[0];

@@ -179,7 +179,7 @@ timing(Builder *b, const double *t, size_t n, const AwQualitySettings *set)
 
   double gap_dt = set->gap_factor * med;
   double jit = set->jitter_fraction * med;
-  double sum = 0, sum2 = 0;
+  double sum = 0;
   size_t n_reg = 0;
   /* jitter run being collected */
   bool in_run = false;
@@ -198,7 +198,6 @@ timing(Builder *b, const double *t, size_t n, const AwQualitySettings *set)
       continue;
     }
     sum += dt;
-    sum2 += dt * dt;
     n_reg++;
     double dev = fabs(dt - med);
     if (dev <= jit)
@@ -222,9 +221,14 @@ timing(Builder *b, const double *t, size_t n, const AwQualitySettings *set)
   if (in_run)
     add(b, &run);
   if (n_reg > 1) {
-    double mean = sum / (double)n_reg;
-    double var = (sum2 - (double)n_reg * mean * mean) / (double)(n_reg - 1);
-    r->dt_sd_s = var > 0 ? sqrt(var) : 0.0;
+    /* second pass about the mean: sum of squares minus n mean^2 cancels badly at 1e-16 */
+    double mean = sum / (double)n_reg, ss = 0;
+    for (size_t i = 0; i < m; i++) {
+      double dt = t[i + 1] - t[i];
+      if (dt <= gap_dt)
+        ss += (dt - mean) * (dt - mean);
+    }
+    r->dt_sd_s = sqrt(ss / (double)(n_reg - 1));
   }
   return true;
 }
