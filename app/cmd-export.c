@@ -180,6 +180,20 @@ open_store(const Opts *o, int *rc)
   return s;
 }
 
+/* Oldest session first, then recording, then position in the recording. */
+static gint
+detail_order(gconstpointer pa, gconstpointer pb)
+{
+  const ArcwiseSwingSummary *a = (*(ArcwiseSwingDetail *const *)pa)->summary;
+  const ArcwiseSwingSummary *b = (*(ArcwiseSwingDetail *const *)pb)->summary;
+  int c = g_strcmp0(a->session_date, b->session_date);
+  if (c != 0)
+    return c;
+  if (a->recording_id != b->recording_id)
+    return a->recording_id < b->recording_id ? -1 : 1;
+  return a->index_in_recording < b->index_in_recording ? -1 : a->index_in_recording > b->index_in_recording;
+}
+
 /* Swings of the selection, oldest first, loaded with path and analysis. */
 static GPtrArray *
 load_selection(ArcwiseStore *s, const Opts *o, ArcwiseNumbersScope *scope, char **title, int *rc)
@@ -247,6 +261,7 @@ load_selection(ArcwiseStore *s, const Opts *o, ArcwiseNumbersScope *scope, char 
     g_ptr_array_add(out, d);
   }
   g_ptr_array_unref(list);
+  g_ptr_array_sort(out, detail_order);
   if (out->len == 0) {
     *rc = arcwise_cli_fail(CMD, "no swings selected");
     g_ptr_array_unref(out);
@@ -419,7 +434,8 @@ export_report(ArcwiseStore *store, const Opts *o)
   for (guint i = 0; i < sel->len; i++) {
     const ArcwiseSwingDetail *d = g_ptr_array_index(sel, i);
     ArcwiseReportSwing *x = &rs[i];
-    char *label = g_strdup_printf("%u%s%s%s", i + 1, d->summary->club_kind ? " (" : "",
+    char *label = g_strdup_printf("%" G_GINT64_FORMAT "%s%s%s", d->summary->id,
+                                  d->summary->club_kind ? " (" : "",
                                   d->summary->club_kind ? d->summary->club_kind : "",
                                   d->summary->club_kind ? ")" : "");
     g_ptr_array_add(owned, label);
@@ -513,7 +529,8 @@ export_report(ArcwiseStore *store, const Opts *o)
   ArcwiseReportImage img[2];
   uint8_t *pix[2] = { NULL, NULL };
   char msg[1024] = "";
-  for (guint i = 0; i < sel->len && r.n_images == 0; i++) {
+  bool snap_failed = false;
+  for (guint i = 0; i < sel->len && r.n_images == 0 && !snap_failed; i++) {
     const ArcwiseSwingDetail *d = g_ptr_array_index(sel, i);
     if (d->path == NULL || d->swing == NULL)
       continue;
@@ -524,11 +541,13 @@ export_report(ArcwiseStore *store, const Opts *o)
       if (!arcwise_export_snapshot(d->path, d->swing, views[k], d->swing->events[AW_EVENT_IMPACT].t_s,
                                    w, h, pix[k], (size_t)w * 4, msg, sizeof msg)) {
         fprintf(stderr, "arcwise export: no 3-D snapshot in the report: %s\n", msg);
+        snap_failed = true;
+        r.n_images = 0;
         break;
       }
       img[k] = (ArcwiseReportImage){ pix[k], w, h, (size_t)w * 4, NULL };
-      img[k].caption = k == 0 ? "Swing 1 from the front (face-on), at impact"
-                              : "Swing 1 from behind the hands (down-the-line), at impact";
+      img[k].caption = k == 0 ? "First swing of the session from the front (face-on), at impact"
+                              : "The same swing from behind the hands (down-the-line), at impact";
       r.n_images++;
     }
   }
