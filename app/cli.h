@@ -33,6 +33,8 @@ int arcwise_gui_run(int argc, char **argv);
 
 /* Command entry points (one per cmd-*.c). */
 int arcwise_cmd_inspect(int argc, char **argv);
+int arcwise_cmd_analyze(int argc, char **argv);
+int arcwise_cmd_compare(int argc, char **argv);
 int arcwise_cmd_bench(int argc, char **argv);
 int arcwise_cmd_library(int argc, char **argv);
 int arcwise_cmd_c3d(int argc, char **argv);
