@@ -94,6 +94,9 @@ arcwise_codec_safe_name(const char *path)
 {
   g_autofree char *base = g_path_get_basename(path != NULL ? path : "");
   GString *s = g_string_new(NULL);
+  /* g_path_get_basename gives "/" for a root and "." for an empty path: neither is a name. */
+  if (strcmp(base, "/") == 0 || strcmp(base, ".") == 0)
+    base[0] = '\0';
   for (const char *p = base; *p != '\0'; p++) {
     unsigned char ch = (unsigned char)*p;
     if (ch < 0x20 || ch == 0x7f || ch == '/' || ch == '\\' || ch == ':')

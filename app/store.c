@@ -398,6 +398,13 @@ finalize_stmt(gpointer st)
   sqlite3_finalize(st);
 }
 
+gboolean
+arcwise_store_migrate_to(ArcwiseStore *store, int version, GError **error)
+{
+  g_return_val_if_fail(version >= 0 && version <= ARCWISE_STORE_SCHEMA_VERSION, FALSE);
+  return migrate(store, version, error);
+}
+
 static ArcwiseStore *
 open_connection(const char *path, ArcwiseStoreOpenFlags flags, int target_version,
                 GError **error)
