@@ -587,8 +587,9 @@ typedef struct {
 } ImportTaskData;
 
 static void
-import_task_data_free(ImportTaskData *d)
+import_task_data_clear(gpointer data)
 {
+  ImportTaskData *d = data;
   g_free(d->library_path);
   g_free(d->player_name);
   g_free(d->session_date);
@@ -598,7 +599,13 @@ import_task_data_free(ImportTaskData *d)
   if (d->progress_data_free != NULL)
     d->progress_data_free(d->progress_data);
   g_main_context_unref(d->context);
-  g_free(d);
+}
+
+/* Shared by the task and every progress message still queued: released by the last one. */
+static void
+import_task_data_release(gpointer data)
+{
+  g_rc_box_release_full(data, import_task_data_clear);
 }
 
 typedef struct {
@@ -620,6 +627,7 @@ progress_msg_free(gpointer data)
 {
   ProgressMsg *m = data;
   g_free(m->what);
+  import_task_data_release(m->d);
   g_free(m);
 }
 
@@ -630,14 +638,18 @@ progress_forward(guint done, guint total, const char *what, gpointer user_data)
   if (d->progress == NULL)
     return;
   ProgressMsg *m = g_new0(ProgressMsg, 1);
-  m->d = d;
+  m->d = g_rc_box_acquire(d);
   m->done = done;
   m->total = total;
   m->what = g_strdup(what);
-  /* The task data outlives these sources: the task holds it until the callback has run, and
-   * the callback is dispatched in the same context after them. */
-  g_main_context_invoke_full(d->context, G_PRIORITY_DEFAULT, progress_in_context, m,
-                             progress_msg_free);
+  /* Always through a source (never g_main_context_invoke, which may call right here when the
+   * context is free), so the callback runs in the caller's thread, in order, before the
+   * completion callback queued after it. */
+  GSource *src = g_idle_source_new();
+  g_source_set_priority(src, G_PRIORITY_DEFAULT);
+  g_source_set_callback(src, progress_in_context, m, progress_msg_free);
+  g_source_attach(src, d->context);
+  g_source_unref(src);
 }
 
 static void
@@ -666,7 +678,7 @@ arcwise_store_import_async(const char *library_path, const ArcwiseImportTarget *
                            GDestroyNotify progress_data_free, GAsyncReadyCallback callback,
                            gpointer user_data)
 {
-  ImportTaskData *d = g_new0(ImportTaskData, 1);
+  ImportTaskData *d = g_rc_box_new0(ImportTaskData);
   d->library_path = g_strdup(library_path);
   d->target = *target;
   d->target.player_name = d->player_name = g_strdup(target->player_name);
@@ -688,7 +700,7 @@ arcwise_store_import_async(const char *library_path, const ArcwiseImportTarget *
   GTask *task = g_task_new(NULL, cancellable, callback, user_data);
   static const int import_tag;
   g_task_set_source_tag(task, (gpointer)&import_tag);
-  g_task_set_task_data(task, d, (GDestroyNotify)import_task_data_free);
+  g_task_set_task_data(task, d, import_task_data_release);
   g_task_run_in_thread(task, import_thread);
   g_object_unref(task);
 }
