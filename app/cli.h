@@ -37,6 +37,10 @@ int arcwise_cmd_bench(int argc, char **argv);
 int arcwise_cmd_library(int argc, char **argv);
 int arcwise_cmd_c3d(int argc, char **argv);
 int arcwise_cmd_simulate(int argc, char **argv);
+/* The scenario part of `simulate` (sim-scenario.c). */
+int arcwise_simulate_scenario(const char *path, const char *out_dir);
 
 /* Benchmarks (one per bench-*.c), dispatched by cmd-bench.c. */
 int arcwise_bench_accuracy(int argc, char **argv);
+int arcwise_bench_capture(int argc, char **argv);
+int arcwise_bench_analysis(int argc, char **argv);

@@ -175,7 +175,8 @@ aw_an_swing_metrics(const AwAnWork *w, AwSwing *s)
     }
     s->quality.notes |= AW_NOTE_CLUB_FROM_PATH;
   }
-  m[AW_METRIC_CLUB_SPEED_IMPACT_M_S] = aw_club_speed_lever(speed_imp, omega_perp, s->club_length_m);
+  m[AW_METRIC_CLUB_SPEED_IMPACT_M_S] = aw_club_speed_lever(speed_imp, omega_perp, s->club_length_m,
+                                                         w->set->club_arm_rate_ratio);
 
   /* Positions in the swing frame. */
   double p_top[3], p_imp[3];

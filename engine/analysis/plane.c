@@ -100,11 +100,14 @@ aw_plane_fit(const double (*pts)[3], size_t n, double centroid[3], double normal
 }
 
 double
-aw_club_speed_lever(double hand_speed_m_s, double omega_perp_rad_s, double club_length_m)
+aw_club_speed_lever(double hand_speed_m_s, double omega_perp_rad_s, double club_length_m,
+                    double rate_ratio)
 {
-  /* Under full release the hands and the club head move in the same direction, on the same
-   * rotation, so the speeds add along one line: |v_hand + omega x r| = v_hand + omega_perp L. */
-  if (!isfinite(hand_speed_m_s) || !isfinite(omega_perp_rad_s) || !isfinite(club_length_m))
+  /* Under full release the hands and the club head move in the same direction, so the speeds
+   * add along one line: the head's speed over the hands' is its extra radius L turning at the
+   * club's rate. */
+  if (!isfinite(hand_speed_m_s) || !isfinite(omega_perp_rad_s) || !isfinite(club_length_m) ||
+      !isfinite(rate_ratio))
     return AN_NAN;
-  return fabs(hand_speed_m_s) + fabs(omega_perp_rad_s) * club_length_m;
+  return fabs(hand_speed_m_s) + rate_ratio * fabs(omega_perp_rad_s) * club_length_m;
 }

@@ -271,7 +271,9 @@ try_swing(const AwAnWork *w, size_t ipk, AwSwing *s, size_t *next_i)
     if (sp[i] < vmin) {
       vmin = sp[i];
       itop = i;
-    } else if (sp[i] > vmin + climb) {
+    } else if (sp[i] > vmin + climb && vmin < 0.5 * vpk) {
+      /* Only a deep valley is the top: the ball-contact dip (a few ms, some 5-20 % of the
+       * speed) must not pass for one. */
       hump = true;
       break;
     }
@@ -328,11 +330,78 @@ try_swing(const AwAnWork *w, size_t ipk, AwSwing *s, size_t *next_i)
     k_on++;
   while (k_on > a0 && sp[k_on] > floor_v)
     k_on--;
-  /* The hands leave rest smoothly: speed grows as a power of the time since the onset,
-   * v = c (t - t0)^k. The times at which it crosses L, 4L and 16L give k and t0 by
-   * extrapolation, which a single threshold crossing would place late. */
+  /* The takeaway. The hands leave rest smoothly: a rate grows as a power of the time since
+   * the onset, x = c (t - t0)^k, so the crossings of L, 4L and 16L give k and t0 by
+   * extrapolation, which a single threshold crossing would place late. The watch's angular
+   * rate is the better witness: the lead forearm turns with the arm from the first instant,
+   * while the wrist keypoint barely moves (and may even pause) while the club starts back. */
   double t_take = cross_time(t, sp, k_on, floor_v);
-  {
+  const double (*gy)[3] = w->traj->gyro_body_rad_s;
+  bool took = false;
+  if (gy != NULL && i_still_end > a0) {
+    size_t len = itop - a0 + 1;
+    double *dev = malloc(len * sizeof *dev);
+    if (dev != NULL) {
+      /* Rate at address: the median per axis over the set-up (the set-up's last stretch may
+       * already hold the slow start of the takeaway, which the median ignores), then the
+       * deviation's median and spread (MAD). */
+      size_t c = i_still_end - a0 + 1;
+      double gm[3];
+      for (int ax = 0; ax < 3; ax++) {
+        for (size_t k = a0; k <= i_still_end; k++)
+          dev[k - a0] = gy[k][ax];
+        gm[ax] = median_of(dev, c);
+      }
+      for (size_t k = a0; k <= itop; k++) {
+        double d[3];
+        aw_v3_sub(d, gy[k], gm);
+        dev[k - a0] = aw_v3_norm(d);
+      }
+      double *tmp = malloc(c * sizeof *tmp);
+      double m = 0, sd = 0;
+      if (tmp != NULL) {
+        memcpy(tmp, dev, c * sizeof *tmp);
+        m = median_of(tmp, c);
+        for (size_t k = 0; k < c; k++)
+          tmp[k] = fabs(dev[k] - m);
+        sd = 1.4826 * median_of(tmp, c);
+        free(tmp);
+      }
+      /* At least 0.1 rad/s (6 deg/s): far above a consumer gyro's noise (REFERENCES.md §8)
+       * and far below the arm's rate a tenth of a second into the backswing. */
+      double G = fmax(0.1, m + 5 * sd);
+      /* From where the hands are surely moving, back to the first rise above G. */
+      size_t k = i_still_end + 1 - a0;
+      while (k > 0 && dev[k] > G)
+        k--;
+      while (k + 1 < len && dev[k + 1] <= G)
+        k++;
+      double tl[3];
+      size_t kk = k;
+      bool ok = true;
+      for (int lev = 0; lev < 3 && ok; lev++) {
+        double level = G * pow(4.0, lev);
+        while (kk + 1 < len && dev[kk + 1] < level)
+          kk++;
+        if (kk + 1 >= len)
+          ok = false;
+        else
+          tl[lev] = cross_time(t + a0, dev, kk, level);
+      }
+      if (ok && tl[1] > tl[0] && tl[2] > tl[1]) {
+        double ratio = (tl[2] - tl[1]) / (tl[1] - tl[0]); /* = 4^(1/k) */
+        if (ratio > 4.0) ratio = 4.0;     /* k >= 1 */
+        if (ratio < 1.5874) ratio = 1.5874; /* k <= 3 */
+        double t0 = tl[0] - (tl[1] - tl[0]) / (ratio - 1.0);
+        if (t0 >= t[a0] && t0 < t[itop]) {
+          t_take = t0;
+          took = true;
+        }
+      }
+      free(dev);
+    }
+  }
+  if (!took) {
     double L = fmax(floor_v, 0.02), tl[3];
     size_t k = k_on;
     bool ok = true;
@@ -340,15 +409,13 @@ try_swing(const AwAnWork *w, size_t ipk, AwSwing *s, size_t *next_i)
       double level = L * pow(4.0, lev);
       while (k < itop && sp[k + 1] < level)
         k++;
-      if (k >= itop) {
+      if (k >= itop)
         ok = false;
-        break;
-      }
-      tl[lev] = cross_time(t, sp, k, level);
+      else
+        tl[lev] = cross_time(t, sp, k, level);
     }
     if (ok && tl[1] > tl[0] && tl[2] > tl[1]) {
-      double ratio = (tl[2] - tl[1]) / (tl[1] - tl[0]); /* = 4^(1/k) */
-      /* Clamp k to [1, 3]: from a jerk-free start (k = 1) to a snap-free one. */
+      double ratio = (tl[2] - tl[1]) / (tl[1] - tl[0]);
       if (ratio > 4.0) ratio = 4.0;
       if (ratio < 1.5874) ratio = 1.5874;
       double t0 = tl[0] - (tl[1] - tl[0]) / (ratio - 1.0);

@@ -147,4 +147,5 @@ aw_analysis_settings_default(AwAnalysisSettings *out)
   out->min_peak_speed_m_s = 2.5;
   /* Ball contact: a transient well above the local accelerometer roughness. */
   out->impact_snr = 6.0;
+  out->club_arm_rate_ratio = 2.1;
 }

@@ -120,6 +120,10 @@ typedef struct {
   double min_top_rise_m;         /* a swing's top rises at least this far, else not a swing */
   double min_peak_speed_m_s;     /* a swing's downswing reaches at least this hand speed */
   double impact_snr;             /* accelerometer transient / local noise needed for contact */
+  /* Club-head lever: the club's angular rate at impact over the lead arm's (the watch's), the
+   * wrist's release on top of the arm's turn. Default 2.1 from segment peak rates (club about
+   * 2000-2500 deg/s, lead arm 800-1300 deg/s, REFERENCES.md §6, values from memory). */
+  double club_arm_rate_ratio;
 } AwAnalysisSettings;
 
 void aw_analysis_settings_default(AwAnalysisSettings *out);
@@ -288,11 +292,14 @@ AwStatus aw_analyze_capture(const AwImuStream *imu, const AwDepthStream *depth,
 AwStatus aw_plane_fit(const double (*pts)[3], size_t n, double centroid[3], double normal[3],
                       double *rms_m);
 
-/* Lever model of the club-head speed at impact (see README "Club-head speed"):
- * v_head = |v_hand + omega x r_club|, with r_club = club_length_m along the shaft; under full
- * release the shaft continues the lead arm, so |omega x r| = omega_perp * L, where omega_perp is
- * the angular rate about the swing-plane normal. */
-double aw_club_speed_lever(double hand_speed_m_s, double omega_perp_rad_s, double club_length_m);
+/* Lever model of the club-head speed at impact (see README "Club-head speed"): under full
+ * release the shaft continues the lead arm, the head moves parallel to the hands, and the club
+ * turns rate_ratio times as fast as the arm, so
+ *   v_head = v_hand + rate_ratio * omega_perp * L,
+ * where omega_perp is the watch's (lead forearm's) angular rate about the downswing plane's
+ * normal and L the club length. */
+double aw_club_speed_lever(double hand_speed_m_s, double omega_perp_rad_s, double club_length_m,
+                           double rate_ratio);
 
 /* ---------------------------------------------------------------------------------------------
  * Comparison and consistency */
