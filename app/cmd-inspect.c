@@ -288,12 +288,12 @@ text_findings(const AwQualityReport *q, AwFindingKind kind, const char *label)
     printf("  %-12s", "");
     switch (kind) {
     case AW_FINDING_GAP:
-      printf("%.4f s to %.4f s: %.1f ms, about %zu samples missing\n", f->t_start_s,
-             f->t_end_s, f->value * 1e3, f->count);
+      printf("%.4f s to %.4f s: %.1f ms, about %zu sample%s missing\n", f->t_start_s,
+             f->t_end_s, f->value * 1e3, f->count, f->count == 1 ? "" : "s");
       break;
     case AW_FINDING_JITTER:
-      printf("%.4f s to %.4f s: %zu intervals, worst %.2f ms off\n", f->t_start_s, f->t_end_s,
-             f->count, f->value * 1e3);
+      printf("%.4f s to %.4f s: %zu interval%s, worst %.2f ms off\n", f->t_start_s,
+             f->t_end_s, f->count, f->count == 1 ? "" : "s", f->value * 1e3);
       break;
     case AW_FINDING_SATURATION: {
       bool acc = (f->axes & AW_SAT_ACCEL) != 0;
@@ -309,7 +309,8 @@ text_findings(const AwQualityReport *q, AwFindingKind kind, const char *label)
       break;
     }
     case AW_FINDING_MISSING_FRAMES:
-      printf("%.4f s to %.4f s: %zu frames\n", f->t_start_s, f->t_end_s, f->count);
+      printf("%.4f s to %.4f s: %zu frame%s\n", f->t_start_s, f->t_end_s, f->count,
+             f->count == 1 ? "" : "s");
       break;
     default:
       break;

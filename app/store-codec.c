@@ -188,7 +188,7 @@ put_u64(GByteArray *a, guint64 v)
 }
 
 static void
-put_double(GByteArray *a, double d)
+G_GNUC_UNUSED put_double(GByteArray *a, double d)
 {
   guint64 u;
   memcpy(&u, &d, 8);
@@ -261,7 +261,7 @@ get_u32(Reader *r)
 }
 
 static double
-get_double(Reader *r)
+G_GNUC_UNUSED get_double(Reader *r)
 {
   guint64 u = get_u64(r);
   double d;
