@@ -61,10 +61,10 @@ tile(const AwImuStream *imu, const AwDepthStream *dep, double dur, AwImuStream *
 int
 arcwise_bench_fuse(int argc, char **argv)
 {
-  int n_swings = 60, speed_only = 0, acc_only = 0;
+  int n_swings = 60, speed_only = 0, acc_only = 0, verbose = 0;
   for (int i = 1; i < argc; i++) {
     if (strcmp(argv[i], "--help") == 0) {
-      printf("Usage: arcwise bench fuse [--swings N] [--speed-only] [--accuracy-only]\n\n"
+      printf("Usage: arcwise bench fuse [--swings N] [--speed-only] [--accuracy-only] [--verbose]\n\n"
              "Speed: the whole pipeline on a simulated 4 s swing at 100 Hz (repeated), then on\n"
              "the same swing tiled to 1, 5 and 30 minutes: ns per IMU sample.\n"
              "Accuracy: N seeded swings (default 60) cycling easy, normal, hard: position RMSE\n"
@@ -75,6 +75,7 @@ arcwise_bench_fuse(int argc, char **argv)
     if (strcmp(argv[i], "--swings") == 0 && i + 1 < argc) n_swings = atoi(argv[++i]);
     else if (strcmp(argv[i], "--speed-only") == 0) speed_only = 1;
     else if (strcmp(argv[i], "--accuracy-only") == 0) acc_only = 1;
+    else if (strcmp(argv[i], "--verbose") == 0) verbose = 1;
     else return arcwise_cli_usage_error("bench", "unknown option '%s'", argv[i]);
   }
   if (n_swings < 3) n_swings = 3;
@@ -173,6 +174,11 @@ arcwise_bench_fuse(int argc, char **argv)
     cov += sc.coverage2;
     m++;
     if (sc.n_occl) { ro[no] = sc.rmse_occl_m; rb[no] = sc.base_occl_m; no++; }
+    if (verbose)
+      printf("  swing %2d %-6s RMSE %.2f cm, occluded %.2f cm (baseline %.2f), clock error %+.2f ms, "
+             "2-sigma %.1f %%, frames used %zu, rejected %zu\n", i, aw_sim_level_name((AwSimLevel)(i % 3)),
+             100 * sc.rmse_motion_m, 100 * sc.rmse_occl_m, 100 * sc.base_occl_m, 1e3 * sc.offset_err_s,
+             100 * sc.coverage2, p->report.cam_frames_used, p->report.cam_frames_rejected);
     aw_fused_path_free(p);
     aw_sim_free(sim);
   }

@@ -66,6 +66,7 @@ write_report(FILE *f, const AwFusedPath *p)
   fprintf(f, "gravity_m_s2: %.6f\n", r->gravity_m_s2);
   fprintf(f, "accel_bias_m_s2: %.5f %.5f %.5f\n", r->accel_bias_m_s2[0], r->accel_bias_m_s2[1], r->accel_bias_m_s2[2]);
   fprintf(f, "gyro_bias_rad_s: %.5f %.5f %.5f\n", r->gyro_bias_rad_s[0], r->gyro_bias_rad_s[1], r->gyro_bias_rad_s[2]);
+  fprintf(f, "lever_arm_body_m: %.4f %.4f %.4f\n", r->lever_arm_body_m[0], r->lever_arm_body_m[1], r->lever_arm_body_m[2]);
   fprintf(f, "still_found: %s\n", r->still_found ? "yes" : "no");
   fprintf(f, "camera_frames_used: %zu\ncamera_frames_rejected: %zu\ncamera_frames_missing: %zu\n",
           r->cam_frames_used, r->cam_frames_rejected, r->cam_frames_missing);
@@ -125,6 +126,7 @@ arcwise_cmd_fuse(int argc, char **argv)
       if (!parse_vec3(v, s.lever_arm_body_m) || fabs(s.lever_arm_body_m[0]) > 1 ||
           fabs(s.lever_arm_body_m[1]) > 1 || fabs(s.lever_arm_body_m[2]) > 1)
         return arcwise_cli_usage_error("fuse", "--lever-arm wants X,Y,Z in metres (each within +-1 m), got '%s'", v);
+      s.lever_arm_sigma_m = 0.005;   /* measured by hand: good to about half a centimetre */
     } else if (strcmp(a, "--latitude") == 0) {
       char *end;
       double d = strtod(v, &end);

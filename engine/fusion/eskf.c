@@ -26,10 +26,10 @@
 #include <stdlib.h>
 #include <string.h>
 
-enum { NS = 18, IP = 0, IV = 3, IT = 6, IBA = 9, IBG = 12, IDG = 15, NH = 9 };
+enum { NS = 22, IP = 0, IV = 3, IT = 6, IL = 9, IC = 12, IBA = 13, IBG = 16, IDG = 19, NH = 13 };
 
 typedef struct {
-  double p[3], v[3], q[4], ba[3], bg[3], g[3];
+  double p[3], v[3], q[4], ba[3], bg[3], g[3], l[3], c;
 } Nom;
 
 typedef struct {
@@ -38,7 +38,7 @@ typedef struct {
   double Vth[3][3];  /* F[v][theta] */
   double Vba[3][3];  /* F[v][ba] */
   double Tbg[3][3];  /* F[theta][bg] */
-  double qv, qp, qpv, qth, qba, qbg;
+  double qv, qp, qpv, qth, qba, qbg, qc;
 } Trans;
 
 /* One measurement (or covariance inflation) applied at a step. H is non-zero only on the
@@ -227,7 +227,9 @@ propagate_cov(const Trans *T, double P[NS][NS])
     P[IT + r][IT + r] += T->qth;
     P[IBA + r][IBA + r] += T->qba;
     P[IBG + r][IBG + r] += T->qbg;
+    P[IL + r][IL + r] += 1e-12;   /* keeps the lever-arm block positive definite */
   }
+  P[IC][IC] += T->qc;
 }
 
 typedef struct {
@@ -260,6 +262,7 @@ nominal_step(const Model *m, size_t i, const Nom *in, Nom *out, Trans *T)
     T->qth = fmin(dt, 1.0);
     T->qba = m->sba2 * dt;
     T->qbg = m->sbg2 * dt;
+    T->qc = 1e-10 * dt;
     return;
   }
   double w0[3], w1[3], wm[3], f0[3], f1[3];
@@ -316,6 +319,8 @@ nominal_step(const Model *m, size_t i, const Nom *in, Nom *out, Trans *T)
   T->qpv = T->qv * dt / 2.0;
   T->qba = m->sba2 * dt;
   T->qbg = m->sbg2 * dt;
+  /* The clock offset wanders by at most ~10 us per sqrt(s) beyond the fitted drift. */
+  T->qc = 1e-10 * dt;
 }
 
 static bool
@@ -386,7 +391,9 @@ inject(Nom *x, const double d[NS])
     x->ba[a] += d[IBA + a];
     x->bg[a] += d[IBG + a];
     x->g[a] += d[IDG + a];
+    x->l[a] += d[IL + a];
   }
+  x->c += d[IC];
   double dq[4];
   aw_quat_from_rotvec(dq, &d[IT]);
   aw_quat_mul(x->q, dq, x->q);
@@ -414,24 +421,31 @@ cam_noise(const AwFusionSettings *s, const double p[3], double conf, double R[3]
   R[2][2] = sz * sz * w;
 }
 
-/* Camera measurement model h = p + v delta + a delta^2 / 2 + R_cam_body l. */
+/* Camera measurement model: the keypoint p + R_cam_body l at the frame time, which lies
+ * delta - c after the sample (c: correction of the clock offset):
+ * h = p + v e + a e^2 / 2 + R l,  e = delta - c. */
 static void
 cam_predict(const Model *m, const Nom *x, size_t i, double delta, double h[3], double Hb[3][NH])
 {
   double R[3][3], Rl[3], f[3], a[3];
   aw_quat_to_mat(R, x->q);
-  aw_mat_mul_v3(Rl, (const double (*)[3])R, m->lever);
+  aw_mat_mul_v3(Rl, (const double (*)[3])R, x->l);
   for (int k = 0; k < 3; k++) f[k] = m->imu->f[i][k] - x->ba[k];
   aw_mat_mul_v3(a, (const double (*)[3])R, f);
   for (int k = 0; k < 3; k++) a[k] += x->g[k];
-  for (int k = 0; k < 3; k++) h[k] = x->p[k] + x->v[k] * delta + 0.5 * a[k] * delta * delta + Rl[k];
+  double e = delta - x->c;
+  for (int k = 0; k < 3; k++) h[k] = x->p[k] + x->v[k] * e + 0.5 * a[k] * e * e + Rl[k];
   double S[3][3];
   skew(S, Rl);
   memset(Hb, 0, sizeof(double) * 3 * NH);
   for (int r = 0; r < 3; r++) {
     Hb[r][IP + r] = 1.0;
-    Hb[r][IV + r] = delta;
-    for (int c = 0; c < 3; c++) Hb[r][IT + c] = -S[r][c];
+    Hb[r][IV + r] = e;
+    for (int c = 0; c < 3; c++) {
+      Hb[r][IT + c] = -S[r][c];
+      Hb[r][IL + c] = R[r][c];
+    }
+    Hb[r][IC] = -(x->v[r] + a[r] * e);
   }
 }
 
@@ -546,7 +560,6 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
               s->gyro_noise_density_rad_s_rthz * s->gyro_noise_density_rad_s_rthz,
               s->accel_bias_walk_m_s3_rthz * s->accel_bias_walk_m_s3_rthz,
               s->gyro_bias_walk_rad_s2_rthz * s->gyro_bias_walk_rad_s2_rthz };
-  bool lever = aw_v3_norm(m.lever) > 0;
   bool use_cam = s->mask != AW_FUSION_CAMERA_MASKED;
 
   /* Camera frames mapped to their nearest IMU sample (frames in IMU gaps are not used). */
@@ -592,6 +605,7 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
   memcpy(x.q, cal->q_cam_body0, sizeof x.q);
   memcpy(x.bg, cal->gyro_bias_rad_s, sizeof x.bg);
   memcpy(x.g, cal->g_cam_m_s2, sizeof x.g);
+  memcpy(x.l, m.lever, sizeof x.l);
   double P[NS][NS];
   memset(P, 0, sizeof P);
   {
@@ -623,7 +637,10 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
       P[IBA + a][IBA + a] = s->accel_bias_init_m_s2 * s->accel_bias_init_m_s2;
       P[IBG + a][IBG + a] = sbg * sbg;
       P[IDG + a][IDG + a] = 0.15 * 0.15;
+      P[IL + a][IL + a] = s->lever_arm_sigma_m * s->lever_arm_sigma_m;
     }
+    /* Clock: the correlation's own spread plus 5 ms for sensor filter delays it cannot see. */
+    P[IC][IC] = rep->clock_offset_sigma_s * rep->clock_offset_sigma_s + 0.005 * 0.005;
   }
 
   /* Forward pass. */
@@ -758,49 +775,50 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
         for (int c = 0; c < NS; c++) acc += Pk[r][c] * lam[c];
         d[r] = -acc;
       }
-      int nr = lever ? NH : 3;
-      double W[NH][NS], Ps[NH][NH];
-      for (int r = 0; r < nr; r++)
-        for (int c = 0; c < NS; c++) {
-          double acc = 0;
-          for (int k = 0; k < NS; k++) acc += Pk[r][k] * L[k][c];
-          W[r][c] = acc;
-        }
-      for (int r = 0; r < nr; r++)
-        for (int c = 0; c < nr; c++) {
-          double acc = 0;
-          for (int k = 0; k < NS; k++) acc += W[r][k] * Pk[k][c];
-          Ps[r][c] = Pk[r][c] - acc;
-        }
       Nom xsm = xs[ii];
       inject(&xsm, d);
       double R[3][3], Rl[3], wv[3], wl[3], Rwl[3];
       aw_quat_to_mat(R, xsm.q);
-      aw_mat_mul_v3(Rl, (const double (*)[3])R, m.lever);
+      aw_mat_mul_v3(Rl, (const double (*)[3])R, xsm.l);
       for (int a = 0; a < 3; a++) wv[a] = imu->w[ii][a] - xsm.bg[a];
-      aw_v3_cross(wl, wv, m.lever);
+      aw_v3_cross(wl, wv, xsm.l);
+      path->t_s[ii] = tau[ii] + xsm.c;
       aw_mat_mul_v3(Rwl, (const double (*)[3])R, wl);
       for (int a = 0; a < 3; a++) {
         path->pos_cam_m[ii][a] = xsm.p[a] + Rl[a];
         path->vel_cam_m_s[ii][a] = xsm.v[a] + Rwl[a];
       }
       memcpy(path->q_cam_body[ii], xsm.q, sizeof xsm.q);
-      if (lever) {
-        /* keypoint = p + R l: J = [I, 0, -[Rl]x] */
-        double S[3][3];
+      {
+        /* keypoint = p + R l: J = [I, 0, -[Rl]x, R, 0 ...]; smoothed P_s = P - P L P, so
+         * J P_s J^T = J P J^T - (J P) L (J P)^T. */
+        double S[3][3], JP[3][NS], X[3][NS];
         skew(S, Rl);
-        for (int a = 0; a < 3; a++) {
-          double var = Ps[a][a];
-          for (int k = 0; k < 3; k++) var -= 2 * S[a][k] * Ps[IT + k][a];
-          for (int k = 0; k < 3; k++)
-            for (int q = 0; q < 3; q++) var += S[a][k] * Ps[IT + k][IT + q] * S[a][q];
-          path->pos_sigma_cam_m[ii][a] = sqrt(fmax(var, 0));
+        for (int r = 0; r < 3; r++)
+          for (int c = 0; c < NS; c++) {
+            double acc = Pk[IP + r][c];
+            for (int k = 0; k < 3; k++) acc += -S[r][k] * Pk[IT + k][c] + R[r][k] * Pk[IL + k][c];
+            JP[r][c] = acc;
+          }
+        for (int r = 0; r < 3; r++)
+          for (int c = 0; c < NS; c++) {
+            double acc = 0;
+            for (int k = 0; k < NS; k++) acc += JP[r][k] * L[k][c];
+            X[r][c] = acc;
+          }
+        for (int r = 0; r < 3; r++) {
+          double jpj = JP[r][IP + r];
+          for (int k = 0; k < 3; k++) jpj += -S[r][k] * JP[r][IT + k] + R[r][k] * JP[r][IL + k];
+          double red = 0;
+          for (int k = 0; k < NS; k++) red += X[r][k] * JP[r][k];
+          path->pos_sigma_cam_m[ii][r] = sqrt(fmax(jpj - red, 1e-12));
         }
-      } else
-        for (int a = 0; a < 3; a++) path->pos_sigma_cam_m[ii][a] = sqrt(fmax(Ps[a][a], 0));
+      }
       if (ii == imid) {
         memcpy(rep->accel_bias_m_s2, xsm.ba, sizeof xsm.ba);
         memcpy(rep->gyro_bias_rad_s, xsm.bg, sizeof xsm.bg);
+        memcpy(rep->lever_arm_body_m, xsm.l, sizeof xsm.l);
+        rep->clock_offset_s += xsm.c;
         double gn = aw_v3_norm(xsm.g);
         double up[3], ex[3] = { 1, 0, 0 }, xg[3], yg[3], Rg[3][3];
         aw_v3_scale(up, xsm.g, -1.0 / (gn > 0 ? gn : 1));

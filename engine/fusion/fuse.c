@@ -42,6 +42,9 @@ aw_fusion_settings_default(AwFusionSettings *s)
   s->cam_conf_min = 0.05;
   s->gate_recover_s = 0.5;       /* longer than an occlusion snap lasts */
   s->motion_jerk_psd_m2_s5 = 0;  /* estimated from the frames */
+  /* A watch sits a few centimetres from the wrist keypoint a camera reports: unknown to
+   * +-3 cm per axis unless measured (then pass it with a smaller sigma). */
+  s->lever_arm_sigma_m = 0.03;
 }
 
 AwFusedPath *

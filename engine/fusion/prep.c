@@ -204,20 +204,35 @@ aw_fusion_prep_imu(const AwImuStream *imu, const AwFusionSettings *s, double g, 
   }
   m->acc_range = detect_range(m->f, n, imu->meta.accel_range_m_s2);
   m->gyr_range = detect_range(m->w, n, imu->meta.gyro_range_rad_s);
+  size_t half = (size_t)ceil(0.5 * s->still_window_s / m->dt_nom_s);
+  if (half < 1) half = 1;
+  /* Window means of the gyro: stillness is judged on the rate's deviation from its local mean,
+   * so a gyro offset of several deg/s (consumer parts, REFERENCES.md section 8) does not hide
+   * a still hand; the mean itself must stay below 20 deg/s, beyond any offset spec. */
+  double (*cw)[3] = malloc(sizeof *cw * (n + 1));
+  if (!cw) { free(quiet); aw_fusion_prep_imu_free(m); return AW_ERR_NO_MEMORY; }
+  cw[0][0] = cw[0][1] = cw[0][2] = 0;
+  for (size_t i = 0; i < n; i++)
+    for (int a = 0; a < 3; a++) cw[i + 1][a] = cw[i][a] + m->w[i][a];
   for (size_t i = 0; i < n; i++) {
     for (int a = 0; a < 3; a++) {
       /* 0.5 % below full scale: quantisation keeps clipped values a count or two short. */
       if (m->acc_range > 0 && fabs(m->f[i][a]) >= 0.995 * m->acc_range) m->sat_acc[i] = 1;
       if (m->gyr_range > 0 && fabs(m->w[i][a]) >= 0.995 * m->gyr_range) m->sat_gyr[i] = 1;
     }
-    double wn = sqrt(m->w[i][0] * m->w[i][0] + m->w[i][1] * m->w[i][1] + m->w[i][2] * m->w[i][2]);
+    size_t lo = i >= half ? i - half : 0, hi = i + half < n ? i + half : n - 1;
+    double mw[3], dw = 0, mn = 0;
+    for (int a = 0; a < 3; a++) {
+      mw[a] = (cw[hi + 1][a] - cw[lo][a]) / (double)(hi - lo + 1);
+      dw += (m->w[i][a] - mw[a]) * (m->w[i][a] - mw[a]);
+      mn += mw[a] * mw[a];
+    }
     double fn = sqrt(m->f[i][0] * m->f[i][0] + m->f[i][1] * m->f[i][1] + m->f[i][2] * m->f[i][2]);
-    quiet[i] = wn < s->still_gyro_rad_s && fabs(fn - g) < s->still_accel_m_s2;
+    quiet[i] = sqrt(dw) < s->still_gyro_rad_s && sqrt(mn) < 0.35 && fabs(fn - g) < s->still_accel_m_s2;
   }
+  free(cw);
   /* Still = every sample of a window of still_window_s around it is quiet, and the window has no
    * IMU gap. Prefix counts keep this O(n) at any rate. */
-  size_t half = (size_t)ceil(0.5 * s->still_window_s / m->dt_nom_s);
-  if (half < 1) half = 1;
   size_t *cnt = malloc(sizeof *cnt * (n + 1));
   if (!cnt) { free(quiet); aw_fusion_prep_imu_free(m); return AW_ERR_NO_MEMORY; }
   cnt[0] = 0;

@@ -55,6 +55,7 @@ typedef struct {
   double cam_conf_min;                    /* detections below this confidence count as missing */
   double gate_recover_s;                  /* after this long of consecutive rejections, re-anchor */
   double motion_jerk_psd_m2_s5;           /* camera-only motion model; 0 = estimate from data */
+  double lever_arm_sigma_m;               /* 1-sigma of lever_arm_body_m per axis (refined) */
 } AwFusionSettings;
 
 void aw_fusion_settings_default(AwFusionSettings *out);
@@ -83,6 +84,7 @@ typedef struct {
   double motion_jerk_psd_m2_s5; /* the camera-only model's jerk density used */
   size_t imu_gaps;              /* IMU gaps bridged by the motion model */
   size_t gate_recoveries;       /* re-anchorings after long rejections */
+  double lever_arm_body_m[3];   /* keypoint relative to the IMU as refined by the filter */
 } AwFusionReport;
 
 typedef struct {
