@@ -65,6 +65,14 @@ arcwise_store_current_settings(void)
   }
   kv(s, "fusion.max_clock_offset_s", f.max_clock_offset_s);
   g_string_append_printf(s, "fusion.mask=%d\n", (int)f.mask);
+  /* Fields added to the struct later are covered by the hash of its bytes (zeroed first, so
+   * padding is defined). */
+  AwFusionSettings fz;
+  memset(&fz, 0, sizeof fz);
+  aw_fusion_settings_default(&fz);
+  char fsha[65];
+  arcwise_codec_sha256_hex(&fz, sizeof fz, fsha);
+  g_string_append_printf(s, "fusion.struct_sha256=%s\n", fsha);
 #else
   g_string_append(s, "fusion=none\n");
 #endif
@@ -77,6 +85,12 @@ arcwise_store_current_settings(void)
   kv(s, "analysis.min_top_rise_m", a.min_top_rise_m);
   kv(s, "analysis.min_peak_speed_m_s", a.min_peak_speed_m_s);
   kv(s, "analysis.impact_snr", a.impact_snr);
+  AwAnalysisSettings az;
+  memset(&az, 0, sizeof az);
+  aw_analysis_settings_default(&az);
+  char asha[65];
+  arcwise_codec_sha256_hex(&az, sizeof az, asha);
+  g_string_append_printf(s, "analysis.struct_sha256=%s\n", asha);
 #else
   g_string_append(s, "analysis=none\n");
 #endif
@@ -202,15 +216,35 @@ arcwise_pipeline_prepare(const char *imu_path, GBytes *imu_bytes, const char *de
     as.club = club;
   if (!isnan(club_length_m))
     as.club_length_m = club_length_m;
-  AwTrajectory traj;
-  if (ok)
+  /* Sensor trust: the same recording fused with each stream masked (analysis.h). A masked run
+   * that fails only leaves that comparison out, as aw_analyze_capture does. */
+  AwFusedPath *masked[2] = { NULL, NULL };
+  AwTrajectory traj, tr_m[2];
+  if (ok) {
     aw_trajectory_from_fused(path, imu->meta.accel_range_m_s2, imu->meta.gyro_range_rad_s, &traj);
+    AwFusionSettings fs;
+    aw_fusion_settings_default(&fs);
+    AwError merr;
+    for (int m = 0; m < 2; m++) {
+      fs.mask = m == 0 ? AW_FUSION_CAMERA_MASKED : AW_FUSION_IMU_MASKED;
+      if (aw_fuse(imu, depth, &fs, &masked[m], &merr) != AW_OK || masked[m]->n != path->n) {
+        aw_fused_path_free(masked[m]);
+        masked[m] = NULL;
+      } else {
+        aw_trajectory_from_fused(masked[m], 0, 0, &tr_m[m]);
+      }
+    }
+  }
   if (ok && fixed_spans == NULL) {
     AwAnalysis *an = NULL;
     if (aw_analyze(&traj, &as, &an, &err) != AW_OK) {
       g_autofree char *stage = g_strdup_printf("%s + %s: ", r->imu_name, r->depth_name);
       ok = engine_fail(error, &err, stage);
     }
+    AwError terr;
+    if (ok)
+      (void)aw_analysis_add_trust(an, &traj, masked[0] != NULL ? &tr_m[0] : NULL,
+                                  masked[1] != NULL ? &tr_m[1] : NULL, &terr);
     for (size_t k = 0; ok && an != NULL && k < an->n_swings; k++) {
       const AwSwing *sw = &an->swings[k];
       ArcwisePreparedSwing *ps = arcwise_prepared_swing_new();
@@ -224,7 +258,7 @@ arcwise_pipeline_prepare(const char *imu_path, GBytes *imu_bytes, const char *de
     }
     aw_analysis_free(an);
   } else if (ok) {
-    /* Re-analysis of given spans: the analysis runs on each span's part of the path. */
+    /* Re-analysis of given spans: the analysis runs on each span's part of the paths. */
     for (guint k = 0; ok && k < fixed_spans->len / 2; k++) {
       double a = g_array_index(fixed_spans, double, 2 * k);
       double b = g_array_index(fixed_spans, double, 2 * k + 1);
@@ -239,23 +273,34 @@ arcwise_pipeline_prepare(const char *imu_path, GBytes *imu_bytes, const char *de
         i0++;
       while (i1 > i0 && path->t_s[i1 - 1] > b)
         i1--;
-      AwTrajectory sub = traj;
-      sub.n = i1 - i0;
-      sub.t_s += i0;
-      sub.pos_m += i0;
-#define SHIFT(f) if (sub.f != NULL) sub.f += i0;
-      SHIFT(vel_m_s) SHIFT(q_f_body) SHIFT(accel_body_m_s2) SHIFT(gyro_body_rad_s)
-      SHIFT(pos_sigma_m) SHIFT(cam_info_share) SHIFT(flags)
+      AwTrajectory sub[3] = { traj, tr_m[0], tr_m[1] };
+      for (int m = 0; m < 3; m++) {
+        if (m > 0 && masked[m - 1] == NULL)
+          continue;
+        AwTrajectory *t = &sub[m];
+        t->n = i1 - i0;
+        t->t_s += i0;
+        t->pos_m += i0;
+#define SHIFT(f) if (t->f != NULL) t->f += i0;
+        SHIFT(vel_m_s) SHIFT(q_f_body) SHIFT(accel_body_m_s2) SHIFT(gyro_body_rad_s)
+        SHIFT(pos_sigma_m) SHIFT(cam_info_share) SHIFT(flags)
 #undef SHIFT
+      }
       AwAnalysis *an = NULL;
+      AwError terr;
       /* A span whose swing the new engine no longer finds keeps a fused path and shows as not
        * analysed: the swing and its annotations stay. */
-      if (ok && aw_analyze(&sub, &as, &an, &err) == AW_OK && an->n_swings > 0)
+      if (ok && aw_analyze(&sub[0], &as, &an, &terr) == AW_OK && an->n_swings > 0) {
+        (void)aw_analysis_add_trust(an, &sub[0], masked[0] != NULL ? &sub[1] : NULL,
+                                    masked[1] != NULL ? &sub[2] : NULL, &terr);
         swing_to_rows(&an->swings[0], ps);
+      }
       aw_analysis_free(an);
       g_ptr_array_add(r->swings, ps);
     }
   }
+  aw_fused_path_free(masked[0]);
+  aw_fused_path_free(masked[1]);
 #else
   /* No analysis in this build: the whole recording is one swing, fused, not analysed. */
   if (ok) {

@@ -195,6 +195,8 @@ test_path_record(void)
   GBytes *blob = arcwise_codec_encode_path(p, NAN, NAN, &e);
   AW_CHECK(blob != NULL);
   AwFusedPath *q = blob != NULL ? arcwise_codec_decode_path(blob, &e) : NULL;
+  if (q == NULL)
+    fprintf(stderr, "decode: %s\n", e != NULL ? e->message : "?");
   AW_CHECK(q != NULL && q->n == n);
   if (q != NULL && q->n == n) {
     AW_CHECK(same_bits(p->t_s, q->t_s, n * sizeof(double)));
