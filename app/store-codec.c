@@ -375,7 +375,7 @@ arcwise_codec_decode_path(GBytes *blob, GError **error)
   guint64 n = get_u64(&r);
   guint32 report_len = get_u32(&r);
   const guint8 *report = take(&r, report_len);
-  /* Every row takes 21 doubles and one u32: reject a count the data cannot hold. */
+  /* Every row takes 21 doubles and one u32 (172 bytes): reject a count the data cannot hold. */
   if (r.bad || n > r.left / 172) {
     g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_CORRUPT,
                 "stored fused path is truncated");
