@@ -606,6 +606,9 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
   memcpy(x.bg, cal->gyro_bias_rad_s, sizeof x.bg);
   memcpy(x.g, cal->g_cam_m_s2, sizeof x.g);
   memcpy(x.l, m.lever, sizeof x.l);
+  /* Without a measured lever arm, start from the calibration's estimate. */
+  if (cal->have_joint && aw_v3_norm(m.lever) == 0 && s->lever_arm_sigma_m > 0.01)
+    memcpy(x.l, cal->lever_body_m, sizeof x.l);
   double P[NS][NS];
   memset(P, 0, sizeof P);
   {
@@ -639,8 +642,9 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
       P[IDG + a][IDG + a] = 0.15 * 0.15;
       P[IL + a][IL + a] = s->lever_arm_sigma_m * s->lever_arm_sigma_m;
     }
-    /* Clock: the correlation's own spread plus 5 ms for sensor filter delays it cannot see. */
-    P[IC][IC] = rep->clock_offset_sigma_s * rep->clock_offset_sigma_s + 0.005 * 0.005;
+    /* Clock: three times the correlation peak's spread plus 20 ms: asymmetric swing shapes and
+     * sensor filter delays bias the peak by more than its width suggests. */
+    P[IC][IC] = 9 * rep->clock_offset_sigma_s * rep->clock_offset_sigma_s + 0.02 * 0.02;
   }
 
   /* Forward pass. */

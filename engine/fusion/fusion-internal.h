@@ -70,6 +70,9 @@ typedef struct {
   double gyro_bias_rad_s[3];
   bool still_found;
   double resid_rms_m_s2;      /* rms of the Wahba fit residual */
+  double clock_shift_s;       /* refinement of the clock offset found here (add to it) */
+  double lever_body_m[3];     /* keypoint relative to the IMU from the joint solution */
+  bool have_joint;
 } AwCalib;
 AwStatus aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam,
                              const AwFusionSettings *s, double g, const double g_cam0[3],
