@@ -38,6 +38,7 @@ int arcwise_cmd_compare(int argc, char **argv);
 int arcwise_cmd_bench(int argc, char **argv);
 int arcwise_cmd_library(int argc, char **argv);
 int arcwise_cmd_c3d(int argc, char **argv);
+int arcwise_cmd_export(int argc, char **argv);
 int arcwise_cmd_simulate(int argc, char **argv);
 int arcwise_cmd_fuse(int argc, char **argv);
 /* The scenario part of `simulate` (sim-scenario.c). */
