@@ -683,8 +683,12 @@ backup_to(sqlite3 *src, const char *src_name, const char *dest_path, GError **er
     g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_FAILED, "%s: backup failed: %s",
                 dest_path, sqlite3_errmsg(dst));
   /* A single file is the point of a backup: fold any WAL into it before closing. */
-  if (ok)
-    ok = sqlite3_exec(dst, "PRAGMA journal_mode = DELETE", NULL, NULL, NULL) == SQLITE_OK;
+  if (ok && sqlite3_exec(dst, "PRAGMA journal_mode = DELETE", NULL, NULL, NULL) != SQLITE_OK) {
+    /* every FALSE return says why (callers print error->message) */
+    g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_FAILED, "%s: backup failed: %s",
+                dest_path, sqlite3_errmsg(dst));
+    ok = FALSE;
+  }
   sqlite3_close(dst);
   if (ok && g_rename(tmp, dest_path) != 0) {
     g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_FAILED, "%s: %s", dest_path,
