@@ -41,7 +41,7 @@ typedef enum {
 } ArcwiseStoreError;
 
 /* The schema version this program writes (PRAGMA user_version). */
-#define ARCWISE_STORE_SCHEMA_VERSION 3
+#define ARCWISE_STORE_SCHEMA_VERSION 4
 
 typedef struct _ArcwiseStore ArcwiseStore;
 
