@@ -349,6 +349,15 @@ arcwise_store_default_path(void)
   return g_build_filename(g_get_user_data_dir(), "arcwise", "library.sqlite", NULL);
 }
 
+char *
+arcwise_store_chosen_path(void)
+{
+  const char *env = g_getenv("ARCWISE_LIBRARY");
+  if (env != NULL && env[0] != '\0')
+    return g_strdup(env);
+  return arcwise_store_default_path();
+}
+
 const char *
 arcwise_store_get_path(ArcwiseStore *store)
 {
