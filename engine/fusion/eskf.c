@@ -25,6 +25,7 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+#include <stdio.h>
 
 enum { NS = 22, IP = 0, IV = 3, IT = 6, IL = 9, IC = 12, IBA = 13, IBG = 16, IDG = 19, NH = 13 };
 
@@ -307,12 +308,13 @@ nominal_step(const Model *m, size_t i, const Nom *in, Nom *out, Trans *T)
   T->qv = m->sa2 * dt + ss * ss * dt * dt;
   T->qth = m->sg2 * dt + sw * sw * dt * dt;
   if (imu->sat_acc[i] || imu->sat_acc[i + 1]) {
-    /* A clipped accelerometer says only that |a| >= full scale: half the range, per step. */
-    double e = 0.5 * imu->acc_range * dt;
+    /* A clipped sample was reconstructed (prep.c): its error is of the order of the
+     * reconstructed excess over full scale, per step. */
+    double e = fmax((double)imu->acc_excess[i], (double)imu->acc_excess[i + 1]) * dt;
     T->qv += e * e;
   }
   if (imu->sat_gyr[i] || imu->sat_gyr[i + 1]) {
-    double e = 0.5 * imu->gyr_range * dt;
+    double e = fmax((double)imu->gyr_excess[i], (double)imu->gyr_excess[i + 1]) * dt;
     T->qth += e * e;
   }
   T->qp = T->qv * dt * dt / 3.0;
@@ -561,6 +563,10 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
               s->accel_bias_walk_m_s3_rthz * s->accel_bias_walk_m_s3_rthz,
               s->gyro_bias_walk_rad_s2_rthz * s->gyro_bias_walk_rad_s2_rthz };
   bool use_cam = s->mask != AW_FUSION_CAMERA_MASKED;
+  /* A recording's own still periods show its sensor noise; never assume it quieter than the
+   * datasheet figure. */
+  if (imu->accel_noise_meas > s->accel_noise_density_m_s2_rthz) m.sa2 = imu->accel_noise_meas * imu->accel_noise_meas;
+  if (imu->gyro_noise_meas > s->gyro_noise_density_rad_s_rthz) m.sg2 = imu->gyro_noise_meas * imu->gyro_noise_meas;
 
   /* Camera frames mapped to their nearest IMU sample (frames in IMU gaps are not used). */
   size_t *fstart = calloc(n + 1, sizeof *fstart);
