@@ -938,3 +938,26 @@ aw_capture_detect_file(const char *path, AwCaptureKind *kind, AwError *err)
   free(data);
   return st;
 }
+
+AwStatus
+aw_capture_read_file(const char *path, AwCaptureKind *kind, AwImuStream **imu,
+                     AwDepthStream **depth, AwError *err)
+{
+  if (kind == NULL || imu == NULL || depth == NULL)
+    return aw_error_set(err, AW_ERR_INVALID_ARG, path, 0, 0, "no output");
+  char *data;
+  size_t len;
+  AwStatus st = aw_capture_slurp(path, &data, &len, err);
+  if (st != AW_OK)
+    return st;
+  AwCaptureKind k;
+  st = aw_capture_detect_buffer(data, len, path, &k, err);
+  if (st == AW_OK && k == AW_CAPTURE_IMU)
+    st = aw_imu_read_buffer(data, len, path, imu, err);
+  else if (st == AW_OK)
+    st = aw_depth_read_buffer(data, len, path, depth, err);
+  free(data);
+  if (st == AW_OK)
+    *kind = k;
+  return st;
+}

@@ -73,6 +73,178 @@ aw_fusion_wahba(double B[3][3], double q[4])
   aw_quat_normalize(q);
 }
 
+static int
+cmp_dbl(const void *a, const void *b)
+{
+  double x = *(const double *)a, y = *(const double *)b;
+  return (x > y) - (x < y);
+}
+
+/* Camera-fit operator applied to the double integral of f_b0 (exact for f linear between
+ * samples), so both sides of a_cam = R f_b0 + g pass through the same linear filter. */
+typedef struct {
+  const double *tau;
+  const double (*fb0)[3], (*vb0)[3], (*pb0)[3];
+  const double (*qb0)[4];   /* attitude of the body relative to its first sample */
+  size_t n;
+  const AwCamPrep *cam;
+  const size_t *frames;   /* camera frames used */
+  size_t m;
+  double lever_sigma;     /* prior 1-sigma of the lever arm */
+} WCtx;
+
+static bool
+w_imu_acc(const WCtx *w, size_t k, double shift, size_t *hint, double out[3], double M[3][3])
+{
+  const AwCamPrep *cam = w->cam;
+  out[0] = out[1] = out[2] = 0;
+  memset(M, 0, sizeof(double) * 9);
+  for (size_t q = cam->wstart[k]; q < cam->wstart[k + 1]; q++) {
+    double t = cam->t_s[cam->widx[q]] - shift;
+    if (t < w->tau[0] || t > w->tau[w->n - 1]) return false;
+    size_t i = aw_fusion_locate(w->tau, w->n, t, hint);
+    if (i + 1 >= w->n) i = w->n - 2;
+    double dt = w->tau[i + 1] - w->tau[i], u = t - w->tau[i];
+    for (int a = 0; a < 3; a++) {
+      double f0 = w->fb0[i][a], f1 = w->fb0[i + 1][a];
+      double pj = w->pb0[i][a] + u * w->vb0[i][a] + 0.5 * u * u * f0 + u * u * u * (f1 - f0) / (6 * dt);
+      out[a] += cam->wval[q] * pj;
+    }
+    /* the lever term: the fit operator on R_b0_body(t) */
+    double r = u / dt, qi[4], R[3][3];
+    for (int c = 0; c < 4; c++) qi[c] = (1 - r) * w->qb0[i][c] + r * w->qb0[i + 1][c];
+    aw_quat_normalize(qi);
+    aw_quat_to_mat(R, qi);
+    for (int a = 0; a < 3; a++)
+      for (int c = 0; c < 3; c++) M[a][c] += cam->wval[q] * R[a][c];
+  }
+  return true;
+}
+
+/* Wahba's problem at a clock shift, with the lever arm l (body frame) solved alternately:
+ * a_cam_k = R (F_k + M_k l) + g. Returns the residual rms. */
+static double
+w_resid(const WCtx *w, double shift, double q_out[4], double g_out[3], double l_out[3])
+{
+  double (*F)[3] = malloc(sizeof *F * (w->m ? w->m : 1));
+  double (*M)[3][3] = malloc(sizeof *M * (w->m ? w->m : 1));
+  unsigned char *ok = malloc(w->m ? w->m : 1);
+  if (!F || !M || !ok) { free(F); free(M); free(ok); return INFINITY; }
+  size_t cnt = 0, hint = 0;
+  for (size_t j = 0; j < w->m; j++) {
+    ok[j] = w_imu_acc(w, w->frames[j], shift, &hint, F[j], M[j]);
+    cnt += ok[j];
+  }
+  if (cnt < 10) { free(F); free(M); free(ok); return INFINITY; }
+  double l[3] = { 0, 0, 0 }, q[4] = { 1, 0, 0, 0 }, R[3][3], g[3] = { 0, 0, 0 }, rms = INFINITY;
+  for (int it = 0; it < 5; it++) {
+    double ac[3] = { 0 }, fc[3] = { 0 };
+    double (*Fl)[3] = F;   /* F + M l computed in place below into a temporary */
+    double tmpc[3];
+    for (size_t j = 0; j < w->m; j++) {
+      if (!ok[j]) continue;
+      aw_v3_add(ac, ac, w->cam->acc_m_s2[w->frames[j]]);
+      aw_mat_mul_v3(tmpc, (const double (*)[3])M[j], l);
+      for (int c = 0; c < 3; c++) fc[c] += Fl[j][c] + tmpc[c];
+    }
+    aw_v3_scale(ac, ac, 1.0 / (double)cnt);
+    aw_v3_scale(fc, fc, 1.0 / (double)cnt);
+    double B[3][3] = { { 0 } };
+    for (size_t j = 0; j < w->m; j++) {
+      if (!ok[j]) continue;
+      const double *a = w->cam->acc_m_s2[w->frames[j]];
+      double fl[3];
+      aw_mat_mul_v3(fl, (const double (*)[3])M[j], l);
+      for (int c = 0; c < 3; c++) fl[c] += F[j][c];
+      for (int r = 0; r < 3; r++)
+        for (int c = 0; c < 3; c++) B[r][c] += (fl[r] - fc[r]) * (a[c] - ac[c]);
+    }
+    aw_fusion_wahba(B, q);
+    aw_quat_to_mat(R, q);
+    double Rf[3];
+    aw_mat_mul_v3(Rf, (const double (*)[3])R, fc);
+    aw_v3_sub(g, ac, Rf);
+    /* residual, and the normal equations for l: R^T (a - g) - F = M l */
+    double N[3][3] = { { 0 } }, bv[3] = { 0 }, ss = 0;
+    for (size_t j = 0; j < w->m; j++) {
+      if (!ok[j]) continue;
+      const double *a = w->cam->acc_m_s2[w->frames[j]];
+      double d[3], y[3], fl[3], e[3], Rfl[3];
+      aw_v3_sub(d, a, g);
+      aw_mat_tmul_v3(y, (const double (*)[3])R, d);
+      aw_mat_mul_v3(fl, (const double (*)[3])M[j], l);
+      for (int c = 0; c < 3; c++) fl[c] += F[j][c];
+      aw_mat_mul_v3(Rfl, (const double (*)[3])R, fl);
+      for (int c = 0; c < 3; c++) e[c] = d[c] - Rfl[c];
+      ss += aw_v3_dot(e, e);
+      for (int r = 0; r < 3; r++) {
+        double yr = y[r] - F[j][r];
+        for (int c = 0; c < 3; c++) {
+          bv[c] += M[j][r][c] * yr;
+          for (int k = 0; k < 3; k++) N[c][k] += M[j][r][c] * M[j][r][k];
+        }
+      }
+    }
+    rms = sqrt(ss / (double)cnt);
+    if (it == 1 && cnt > 20) {
+      /* Trim frames far off the fit (snapped or mis-detected keypoints agree with their
+       * neighbours, so the local fit keeps them; the rotation does not explain them). */
+      double *e2 = malloc(sizeof *e2 * cnt), *ev = malloc(sizeof *ev * w->m);
+      if (e2 && ev) {
+        size_t c2 = 0;
+        for (size_t j = 0; j < w->m; j++) {
+          ev[j] = INFINITY;
+          if (!ok[j]) continue;
+          const double *a = w->cam->acc_m_s2[w->frames[j]];
+          double d[3], fl[3], Rfl[3], e[3];
+          aw_v3_sub(d, a, g);
+          aw_mat_mul_v3(fl, (const double (*)[3])M[j], l);
+          for (int c = 0; c < 3; c++) fl[c] += F[j][c];
+          aw_mat_mul_v3(Rfl, (const double (*)[3])R, fl);
+          for (int c = 0; c < 3; c++) e[c] = d[c] - Rfl[c];
+          ev[j] = aw_v3_norm(e);
+          e2[c2++] = ev[j];
+        }
+        qsort(e2, c2, sizeof *e2, cmp_dbl);
+        double lim = 3.0 * e2[c2 / 2] + 0.5;
+        size_t kept = 0;
+        for (size_t j = 0; j < w->m; j++) if (ok[j] && ev[j] <= lim) kept++;
+        if (kept >= 10) {
+          for (size_t j = 0; j < w->m; j++) if (ok[j] && ev[j] > lim) ok[j] = 0;
+          cnt = kept;
+        }
+      }
+      free(e2);
+      free(ev);
+    }
+    /* Prior toward zero: a lever arm is centimetres and motion without rotation cannot see it.
+     * Weight = residual variance per frame / prior variance (a Gaussian prior in the same LS). */
+    double rv = fmax(rms * rms, 0.25);
+    for (int c = 0; c < 3; c++) N[c][c] += rv / (w->lever_sigma * w->lever_sigma);
+    double det = N[0][0] * (N[1][1] * N[2][2] - N[1][2] * N[2][1]) -
+                 N[0][1] * (N[1][0] * N[2][2] - N[1][2] * N[2][0]) +
+                 N[0][2] * (N[1][0] * N[2][1] - N[1][1] * N[2][0]);
+    if (!(fabs(det) > 0)) break;
+    for (int col = 0; col < 3; col++) {
+      double T[3][3];
+      memcpy(T, N, sizeof T);
+      for (int r = 0; r < 3; r++) T[r][col] = bv[r];
+      l[col] = (T[0][0] * (T[1][1] * T[2][2] - T[1][2] * T[2][1]) -
+                T[0][1] * (T[1][0] * T[2][2] - T[1][2] * T[2][0]) +
+                T[0][2] * (T[1][0] * T[2][1] - T[1][1] * T[2][0])) / det;
+    }
+    double ln = aw_v3_norm(l);
+    if (ln > 0.3) aw_v3_scale(l, l, 0.3 / ln);   /* beyond any watch-to-wrist distance */
+  }
+  if (q_out) memcpy(q_out, q, sizeof q);
+  if (g_out) aw_v3_copy(g_out, g);
+  if (l_out) aw_v3_copy(l_out, l);
+  free(F);
+  free(M);
+  free(ok);
+  return rms;
+}
+
 AwStatus
 aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam,
                     const AwFusionSettings *s, double g, const double g_cam0[3], AwCalib *out,
@@ -99,7 +271,8 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
   /* Attitude relative to the first sample, and the specific force in that frame. */
   double (*fb0)[3] = malloc(sizeof *fb0 * n);
   double (*cum)[3] = malloc(sizeof *cum * n);
-  if (!fb0 || !cum) { free(fb0); free(cum); return AW_ERR_NO_MEMORY; }
+  double (*qb0)[4] = malloc(sizeof *qb0 * n);
+  if (!fb0 || !cum || !qb0) { free(fb0); free(cum); free(qb0); return AW_ERR_NO_MEMORY; }
   double q[4] = { 1, 0, 0, 0 };
   size_t n_ok = n;   /* samples before the first IMU gap: the gyro chain is unbroken there */
   for (size_t i = 0; i < n; i++) {
@@ -114,10 +287,80 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
       aw_quat_normalize(q);
     }
     aw_quat_rotate(fb0[i], q, imu->f[i]);
+    memcpy(qb0[i], q, sizeof q);
     if (i == 0) memset(cum[0], 0, sizeof cum[0]);
     else
       for (int a = 0; a < 3; a++)
         cum[i][a] = cum[i - 1][a] + 0.5 * (tau[i] - tau[i - 1]) * (fb0[i][a] + fb0[i - 1][a]);
+  }
+  /* The calibration window starts where the camera first sees motion: still frames pin only
+   * the tilt, and the heading about gravity needs accelerations in several directions. */
+  double t_motion = -INFINITY;
+  for (size_t k = 0, run = 0; k < cam->n; k++) {
+    if (!cam->acc_ok[k]) { run = 0; continue; }
+    run = aw_v3_norm(cam->acc_m_s2[k]) > 3.0 ? run + 1 : 0;
+    if (run >= 3) { t_motion = cam->t_s[k] - 2.0; break; }
+  }
+  /* Clock refinement: the shift of the IMU clock that best explains the camera's acceleration
+   * vectors by one rotation (a far sharper criterion than the magnitudes of stage 1). */
+  out->clock_shift_s = 0;
+  {
+    double (*pb0)[3] = malloc(sizeof *pb0 * n);
+    size_t *frames = malloc(sizeof *frames * (cam->n ? cam->n : 1));
+    if (pb0 && frames) {
+      pb0[0][0] = pb0[0][1] = pb0[0][2] = 0;
+      for (size_t i = 1; i < n; i++) {
+        double dt = tau[i] - tau[i - 1];
+        for (int a = 0; a < 3; a++)
+          pb0[i][a] = pb0[i - 1][a] + dt * cum[i - 1][a] + dt * dt * (2 * fb0[i - 1][a] + fb0[i][a]) / 6.0;
+      }
+      size_t m0 = 0;
+      double t_first0 = NAN;
+      for (size_t k = 0; k < cam->n; k++) {
+        if (!cam->acc_ok[k]) continue;
+        double tk = cam->t_s[k];
+        if (n_ok < 2 || tk - 0.25 < tau[0] || tk + 0.25 > tau[n_ok - 1] || tk < t_motion) continue;
+        if (isnan(t_first0)) t_first0 = tk;
+        if (tk > t_first0 + 20.0) break;
+        frames[m0++] = k;
+      }
+      WCtx w = { tau, (const double (*)[3])fb0, (const double (*)[3])cum, (const double (*)[3])pb0,
+                 (const double (*)[4])qb0, n_ok, cam, frames, m0, fmax(s->lever_arm_sigma_m, 1e-3) };
+      if (m0 >= 10) {
+        double best = 0, br = INFINITY, step = 0.005;
+        for (int j = -10; j <= 10; j++) {
+          double r = w_resid(&w, j * step, NULL, NULL, NULL);
+          if (r < br) { br = r; best = j * step; }
+        }
+        for (int lev = 0; lev < 2; lev++) {
+          double c0 = best;
+          for (int j = -5; j <= 5; j++) {
+            double sh = c0 + j * step / 5.0, r = w_resid(&w, sh, NULL, NULL, NULL);
+            if (r < br) { br = r; best = sh; }
+          }
+          step /= 5.0;
+        }
+        double rm = w_resid(&w, best - step, NULL, NULL, NULL), rp = w_resid(&w, best + step, NULL, NULL, NULL);
+        double den = rm - 2 * br + rp;
+        if (den > 0 && isfinite(den)) {
+          double d = 0.5 * (rm - rp) / den;
+          if (fabs(d) <= 1) best += d * step;
+        }
+        if (isfinite(br)) {
+          out->clock_shift_s = best;
+          /* The rotation, gravity and lever arm of the joint solution at that shift. */
+          double qq[4], gg[3], ll[3];
+          if (isfinite(w_resid(&w, best, qq, gg, ll))) {
+            memcpy(out->q_cam_body0, qq, sizeof qq);
+            aw_v3_copy(out->g_cam_m_s2, gg);
+            aw_v3_copy(out->lever_body_m, ll);
+            out->have_joint = true;
+          }
+        }
+      }
+    }
+    free(pb0);
+    free(frames);
   }
   /* Pairs over the first 20 s of overlapping frames: long enough to see varied accelerations,
    * short enough that an uncorrected gyro bias rotates the chain little. */
@@ -135,11 +378,11 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
   for (size_t k = 0; k < cam->n; k++) {
     if (!cam->acc_ok[k]) continue;
     double tk = cam->t_s[k];
-    if (n_ok < 2 || tk + h > tau[n_ok - 1]) continue;
+    if (n_ok < 2 || tk + h > tau[n_ok - 1] || tk < t_motion) continue;
     if (!isnan(t_first) && tk > t_first + 20.0) break;
     double fm[3];
     if (!aw_fusion_box_mean(tau, cum, fb0, n_ok,
-                            tk - h, tk + h, &hint, fm))
+                            tk - out->clock_shift_s - h, tk - out->clock_shift_s + h, &hint, fm))
       continue;
     if (isnan(t_first)) t_first = tk;
     aw_v3_copy(A[m], cam->acc_m_s2[k]);
@@ -149,6 +392,7 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
   }
   free(fb0);
   free(cum);
+  free(qb0);
   if (m < 10) {
     free(A); free(F); free(res); free(use);
     return aw_error_set(err, AW_ERR_TOO_FEW, "depth", 0, 0,
@@ -213,9 +457,14 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
   size_t mu = 0;
   for (size_t i = 0; i < m; i++) if (use[i]) { ss += res[i] * res[i]; mu++; }
   out->resid_rms_m_s2 = sqrt(ss / (double)(mu ? mu : 1));
-  memcpy(out->q_cam_body0, qc, sizeof qc);
-  aw_v3_copy(out->g_cam_m_s2, gc);
+  if (out->have_joint) {
+    double ng = aw_v3_norm(out->g_cam_m_s2);
+    if (ng > 0.5 * g) aw_v3_scale(out->g_cam_m_s2, out->g_cam_m_s2, g / ng);
+    else aw_v3_copy(out->g_cam_m_s2, gc);
+  } else {
+    memcpy(out->q_cam_body0, qc, sizeof qc);
+    aw_v3_copy(out->g_cam_m_s2, gc);
+  }
   free(A); free(F); free(res); free(use);
-  (void)s;
   return AW_OK;
 }

@@ -25,6 +25,7 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+#include <stdio.h>
 
 enum { NS = 22, IP = 0, IV = 3, IT = 6, IL = 9, IC = 12, IBA = 13, IBG = 16, IDG = 19, NH = 13 };
 
@@ -561,6 +562,10 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
               s->accel_bias_walk_m_s3_rthz * s->accel_bias_walk_m_s3_rthz,
               s->gyro_bias_walk_rad_s2_rthz * s->gyro_bias_walk_rad_s2_rthz };
   bool use_cam = s->mask != AW_FUSION_CAMERA_MASKED;
+  /* A recording's own still periods show its sensor noise; never assume it quieter than the
+   * datasheet figure. */
+  if (imu->accel_noise_meas > s->accel_noise_density_m_s2_rthz) m.sa2 = imu->accel_noise_meas * imu->accel_noise_meas;
+  if (imu->gyro_noise_meas > s->gyro_noise_density_rad_s_rthz) m.sg2 = imu->gyro_noise_meas * imu->gyro_noise_meas;
 
   /* Camera frames mapped to their nearest IMU sample (frames in IMU gaps are not used). */
   size_t *fstart = calloc(n + 1, sizeof *fstart);
@@ -606,6 +611,9 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
   memcpy(x.bg, cal->gyro_bias_rad_s, sizeof x.bg);
   memcpy(x.g, cal->g_cam_m_s2, sizeof x.g);
   memcpy(x.l, m.lever, sizeof x.l);
+  /* Without a measured lever arm, start from the calibration's estimate. */
+  if (cal->have_joint && aw_v3_norm(m.lever) == 0 && s->lever_arm_sigma_m > 0.01)
+    memcpy(x.l, cal->lever_body_m, sizeof x.l);
   double P[NS][NS];
   memset(P, 0, sizeof P);
   {
@@ -639,8 +647,9 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
       P[IDG + a][IDG + a] = 0.15 * 0.15;
       P[IL + a][IL + a] = s->lever_arm_sigma_m * s->lever_arm_sigma_m;
     }
-    /* Clock: the correlation's own spread plus 5 ms for sensor filter delays it cannot see. */
-    P[IC][IC] = rep->clock_offset_sigma_s * rep->clock_offset_sigma_s + 0.005 * 0.005;
+    /* Clock: three times the correlation peak's spread plus 20 ms: asymmetric swing shapes and
+     * sensor filter delays bias the peak by more than its width suggests. */
+    P[IC][IC] = 9 * rep->clock_offset_sigma_s * rep->clock_offset_sigma_s + 0.02 * 0.02;
   }
 
   /* Forward pass. */

@@ -176,6 +176,9 @@ aw_fuse(const AwImuStream *imu, const AwDepthStream *depth, const AwFusionSettin
   AwCalib cal;
   st = aw_fusion_calibrate(&im, tau, &cam, s, g, gc0, &cal, err);
   if (st != AW_OK) goto fail;
+  /* The calibration's vector match refines the clock: shift the IMU grid by it. */
+  rep->clock_offset_s += cal.clock_shift_s;
+  for (size_t i = 0; i < imu->n; i++) { tau[i] += cal.clock_shift_s; path->t_s[i] = tau[i]; }
   rep->still_found = cal.still_found;
   memcpy(rep->q_cam_body0, cal.q_cam_body0, sizeof cal.q_cam_body0);
   memcpy(rep->gyro_bias_rad_s, cal.gyro_bias_rad_s, sizeof cal.gyro_bias_rad_s);

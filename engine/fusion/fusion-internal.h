@@ -40,6 +40,7 @@ typedef struct {
   unsigned char *sat_gyr;
   unsigned char *still;       /* inside a still window */
   double acc_range, gyr_range;
+  double accel_noise_meas, gyro_noise_meas;  /* white-noise densities measured when still (0 = none) */
 } AwImuPrep;
 
 AwStatus aw_fusion_prep_cam(const AwDepthStream *d, const AwFusionSettings *s, AwCamPrep *out);
@@ -70,6 +71,9 @@ typedef struct {
   double gyro_bias_rad_s[3];
   bool still_found;
   double resid_rms_m_s2;      /* rms of the Wahba fit residual */
+  double clock_shift_s;       /* refinement of the clock offset found here (add to it) */
+  double lever_body_m[3];     /* keypoint relative to the IMU from the joint solution */
+  bool have_joint;
 } AwCalib;
 AwStatus aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam,
                              const AwFusionSettings *s, double g, const double g_cam0[3],

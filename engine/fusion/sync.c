@@ -167,6 +167,42 @@ search(const SyncCtx *c, double lo, double hi, double step0, double drift, doubl
   return pk;
 }
 
+/* Up to three best local maxima of the coarse score, at least 0.1 s apart. */
+static int
+coarse_peaks(const SyncCtx *c, double lo, double hi, double step, double out[3], double *rho2)
+{
+  size_t nstep = (size_t)ceil((hi - lo) / step) + 1;
+  double *rc = malloc(sizeof *rc * nstep);
+  if (!rc) return 0;
+  for (size_t i = 0; i < nstep; i++) rc[i] = score(c, lo + step * (double)i, 0, -INFINITY, INFINITY, NULL);
+  int k = 0;
+  double val[3] = { -3, -3, -3 };
+  for (size_t i = 0; i < nstep; i++) {
+    bool peak = (i == 0 || rc[i] >= rc[i - 1]) && (i + 1 == nstep || rc[i] >= rc[i + 1]);
+    if (!peak || rc[i] < -1) continue;
+    double o = lo + step * (double)i;
+    /* insert into the sorted top three */
+    for (int j = 0; j < 3; j++)
+      if (rc[i] > val[j]) {
+        for (int q = 2; q > j; q--) { val[q] = val[q - 1]; out[q] = out[q - 1]; }
+        val[j] = rc[i];
+        out[j] = o;
+        break;
+      }
+  }
+  for (int j = 0; j < 3; j++) if (val[j] > -1) k = j + 1;
+  /* drop peaks within 0.1 s of a better one */
+  int m = 0;
+  for (int j = 0; j < k; j++) {
+    bool near = false;
+    for (int q = 0; q < m; q++) if (fabs(out[j] - out[q]) < 0.1) near = true;
+    if (!near) { out[m] = out[j]; val[m] = val[j]; m++; }
+  }
+  *rho2 = m > 1 ? val[1] : -2;
+  free(rc);
+  return m;
+}
+
 /* Least squares for gravity in the camera frame at a given alignment (see file comment). */
 static bool
 estimate_g_cam(const SyncCtx *c, double off, double drift, double g_out[3])
@@ -307,10 +343,22 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
   }
   (void)estimate_g_cam;
   {
-    double rho2 = pk.rho_second;
+    /* The box-averaged signal finds the neighbourhood; the exact signal decides between the
+     * best few candidates (an asymmetric swing can put the box signal's peak on the wrong
+     * side of a double-humped acceleration profile). */
+    double cand[3], rho2;
+    int nc = coarse_peaks(&c, -max_off, max_off, 0.02, cand, &rho2);
     c.exact = true;
-    Peak p2 = search(&c, pk.off - 0.06, pk.off + 0.06, 0.02, 0, -INFINITY, INFINITY);
-    if (p2.n >= 10) { pk = p2; pk.rho_second = rho2; }
+    Peak best = pk;
+    best.rho = -3;
+    double second = -2;
+    for (int j = 0; j < nc; j++) {
+      Peak p2 = search(&c, cand[j] - 0.06, cand[j] + 0.06, 0.02, 0, -INFINITY, INFINITY);
+      if (p2.n < 10) continue;
+      if (p2.rho > best.rho) { if (best.rho > -2) second = fmax(second, best.rho); best = p2; }
+      else second = fmax(second, p2.rho);
+    }
+    if (best.rho > -2) { pk = best; pk.rho_second = fmax(second, rho2 < pk.rho ? rho2 : second); }
   }
   double off_mid = pk.off, drift = 0;
   double span = tc1 - tc0;

@@ -115,6 +115,29 @@ test_rest_and_derivatives(bool left, AwSimView view, int shots)
     aw_mat_tmul_v3(pt, (const double (*)[3])tr->R_cam_grav, s_top.wrist_cam_m);
     AW_CHECK((pt[0] - pa[0]) * (left ? 1 : -1) > 0.2);
     AW_CHECK(pt[2] - pa[2] > 0.5); /* hands rise to the top */
+    /* The backswing stays in its declared plane; at impact the hands move within the
+     * declared downswing plane. */
+    double worst = 0;
+    for (double t = sw->t_takeaway_s; t <= sw->t_top_s; t += 0.01) {
+      AwSimState st;
+      aw_sim_eval(sim, t, &st);
+      double d[3];
+      aw_v3_sub(d, st.wrist_cam_m, s_addr.wrist_cam_m);
+      worst = fmax(worst, fabs(aw_v3_dot(d, sw->backswing_plane_normal_cam)));
+    }
+    AW_CHECK(worst < 1e-9);
+    AwSimState s_imp;
+    aw_sim_eval(sim, sw->t_impact_s - 1e-4, &s_imp);
+    AW_CHECK(fabs(aw_v3_dot(s_imp.wrist_vel_cam_m_s, sw->downswing_plane_normal_cam)) <
+             1e-3 * aw_v3_norm(s_imp.wrist_vel_cam_m_s));
+    AW_CHECK_NEAR(aw_v3_norm(sw->backswing_plane_normal_cam), 1.0, 1e-12);
+    /* Inclination to the horizontal as requested: the normal's angle from vertical. */
+    double up_cam[3], up[3] = { 0, 0, 1 };
+    aw_mat_mul_v3(up_cam, (const double (*)[3])tr->R_cam_grav, up);
+    AW_CHECK_NEAR(acos(fabs(aw_v3_dot(up_cam, sw->backswing_plane_normal_cam))),
+                  sw->style.backswing_plane_rad, 1e-9);
+    AW_CHECK_NEAR(acos(fabs(aw_v3_dot(up_cam, sw->downswing_plane_normal_cam))),
+                  sw->style.downswing_plane_rad, 1e-9);
   }
   /* Specific force and rate against independent differences of the truth (camera frame):
    * f_body = R_cam_body^T (a_cam - g_cam), omega from q(t)^-1 q(t + d). */
