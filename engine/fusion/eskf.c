@@ -308,12 +308,13 @@ nominal_step(const Model *m, size_t i, const Nom *in, Nom *out, Trans *T)
   T->qv = m->sa2 * dt + ss * ss * dt * dt;
   T->qth = m->sg2 * dt + sw * sw * dt * dt;
   if (imu->sat_acc[i] || imu->sat_acc[i + 1]) {
-    /* A clipped accelerometer says only that |a| >= full scale: half the range, per step. */
-    double e = 0.5 * imu->acc_range * dt;
+    /* A clipped sample was reconstructed (prep.c): its error is of the order of the
+     * reconstructed excess over full scale, per step. */
+    double e = fmax((double)imu->acc_excess[i], (double)imu->acc_excess[i + 1]) * dt;
     T->qv += e * e;
   }
   if (imu->sat_gyr[i] || imu->sat_gyr[i + 1]) {
-    double e = 0.5 * imu->gyr_range * dt;
+    double e = fmax((double)imu->gyr_excess[i], (double)imu->gyr_excess[i + 1]) * dt;
     T->qth += e * e;
   }
   T->qp = T->qv * dt * dt / 3.0;
@@ -410,11 +411,12 @@ typedef struct {
   size_t frame;
 } CamMeas;
 
+/* Camera noise: the settings' model scaled by the level measured in the recording. */
 static void
-cam_noise(const AwFusionSettings *s, const double p[3], double conf, double R[3][3])
+cam_noise(const AwFusionSettings *s, double scale, const double p[3], double conf, double R[3][3])
 {
   double z = fmax(p[2], 0.1);
-  double sxy = s->cam_sigma_xy_m * z, sz = s->cam_sigma_z_coeff_per_m * z * z;
+  double sxy = scale * s->cam_sigma_xy_m * z, sz = scale * s->cam_sigma_z_coeff_per_m * z * z;
   double w = 1.0 / fmax(conf, 0.05);   /* confidence scales the variance */
   memset(R, 0, sizeof(double) * 9);
   R[0][0] = sxy * sxy * w;
@@ -633,7 +635,7 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
       aw_mat_mul_v3(Rl, (const double (*)[3])R, m.lever);
       for (int a = 0; a < 3; a++) x.p[a] = cam->pos_m[kb][a] - Rl[a];
       double Rc[3][3];
-      cam_noise(s, cam->pos_m[kb], cam->conf ? cam->conf[kb] : 1, Rc);
+      cam_noise(s, cam->noise_scale, cam->pos_m[kb], cam->conf ? cam->conf[kb] : 1, Rc);
       sp = sqrt(Rc[0][0] + Rc[1][1] + Rc[2][2] + 1e-4) + 2.0 * best;
     }
     double sv = imu->still[0] ? 0.05 : 1.5;
@@ -695,7 +697,7 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
         double delta = cam->t_s[k] - tau[i];
         double h[3], Hb[3][NH], R[3][3], y[3];
         cam_predict(&m, &x, i, delta, h, Hb);
-        cam_noise(s, cam->pos_m[k], cam->conf ? cam->conf[k] : 1, R);
+        cam_noise(s, cam->noise_scale, cam->pos_m[k], cam->conf ? cam->conf[k] : 1, R);
         for (int a = 0; a < 3; a++) y[a] = cam->pos_m[k][a] - h[a];
         Upd *u = upd_push(&ul);
         if (!u) { st = AW_ERR_NO_MEMORY; goto out; }

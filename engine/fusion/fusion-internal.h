@@ -23,6 +23,7 @@ typedef struct {
   double fit_half_s;          /* half-width of the local fit */
   /* The fit is linear in the positions: acc[k] = sum over j of wval * pos[widx], j in
    * wstart[k] .. wstart[k+1]; the sync applies the same weights to the IMU. */
+  double noise_scale;         /* camera noise relative to the settings' model, from the data */
   size_t *wstart;
   uint32_t *widx;
   double *wval;
@@ -41,6 +42,8 @@ typedef struct {
   unsigned char *still;       /* inside a still window */
   double acc_range, gyr_range;
   double accel_noise_meas, gyro_noise_meas;  /* white-noise densities measured when still (0 = none) */
+  double (*f_own)[3], (*w_own)[3];  /* copies with clipped runs reconstructed (f, w point here) */
+  float *acc_excess, *gyr_excess;   /* |reconstructed| - full scale on clipped samples, else 0 */
 } AwImuPrep;
 
 AwStatus aw_fusion_prep_cam(const AwDepthStream *d, const AwFusionSettings *s, AwCamPrep *out);
