@@ -140,5 +140,5 @@ static inline void aw_quat_rotate(double out[3], const double q[4], const double
 {
   double R[3][3];
   aw_quat_to_mat(R, q);
-  aw_mat_mul_v3(out, R, v);
+  aw_mat_mul_v3(out, (const double (*)[3])R, v); /* C17 needs the cast to add const */
 }
