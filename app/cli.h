@@ -34,5 +34,7 @@ int arcwise_gui_run(int argc, char **argv);
 /* Command entry points (one per cmd-*.c). */
 int arcwise_cmd_inspect(int argc, char **argv);
 int arcwise_cmd_bench(int argc, char **argv);
+int arcwise_cmd_c3d(int argc, char **argv);
+int arcwise_cmd_simulate(int argc, char **argv);
 
 /* Benchmarks (one per bench-*.c), dispatched by cmd-bench.c. */

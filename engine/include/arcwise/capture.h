@@ -26,6 +26,9 @@ typedef struct {
   double accel_range_m_s2;     /* full-scale range (+-), 0 when not declared */
   double gyro_range_rad_s;     /* full-scale range (+-), 0 when not declared */
   AwWrist wrist;
+  /* Added by the capture module (after the fields above, which others code against). */
+  char units[96];              /* the units the file declared, normalised, e.g.
+                                  "t=ms accel=g gyro=deg/s"; the defaults when none declared */
 } AwImuMeta;
 
 typedef struct {
@@ -39,6 +42,9 @@ typedef struct {
 typedef struct {
   char device[128];
   double nominal_rate_hz;
+  /* Added by the capture module. */
+  AwWrist wrist;               /* which wrist the keypoint follows, when the file says */
+  char units[96];              /* declared units, normalised, e.g. "t=s pos=mm" */
 } AwDepthMeta;
 
 typedef struct {
@@ -48,6 +54,16 @@ typedef struct {
   double *conf;                /* detection confidence in [0, 1]; 0 when missing */
   AwDepthMeta meta;
 } AwDepthStream;
+
+/* Accepted sample rates (median interval), Hz, and the limits beyond which a value cannot be a
+ * real measurement of a golf swing by a wrist sensor (README "Validation"). */
+#define AW_IMU_RATE_MIN_HZ 20.0
+#define AW_IMU_RATE_MAX_HZ 2000.0
+#define AW_DEPTH_RATE_MIN_HZ 5.0
+#define AW_DEPTH_RATE_MAX_HZ 240.0
+#define AW_IMU_ACCEL_MAX_G 100.0        /* |a| above this (in standard gravities) is rejected */
+#define AW_IMU_GYRO_MAX_RAD_S 50.0      /* |w| above this is rejected */
+#define AW_DEPTH_Z_MAX_M 20.0           /* depth z must be in (0, 20] m */
 
 /* Allocation helpers: a stream of n zeroed samples (NULL on failure). */
 AwImuStream *aw_imu_stream_new(size_t n);
@@ -68,3 +84,20 @@ AwStatus aw_depth_read_buffer(const char *data, size_t len, const char *name,
  * and renamed into place, so a crash never leaves a half-written file. */
 AwStatus aw_imu_write_file(const char *path, const AwImuStream *s, AwError *err);
 AwStatus aw_depth_write_file(const char *path, const AwDepthStream *s, AwError *err);
+
+/* The kind of stream a file holds, told from its header row. */
+typedef enum {
+  AW_CAPTURE_UNKNOWN = 0,
+  AW_CAPTURE_IMU,
+  AW_CAPTURE_DEPTH,
+} AwCaptureKind;
+
+/* Reads the comment lines and the header row only and says which kind of stream follows.
+ * A header naming neither full set of columns is an AW_ERR_PARSE error that names the missing
+ * columns (*kind stays untouched). */
+AwStatus aw_capture_detect_buffer(const char *data, size_t len, const char *name,
+                                  AwCaptureKind *kind, AwError *err);
+AwStatus aw_capture_detect_file(const char *path, AwCaptureKind *kind, AwError *err);
+
+/* "imu", "depth" or "unknown" (never NULL). */
+const char *aw_capture_kind_to_string(AwCaptureKind kind);

@@ -1,0 +1,38 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+#pragma once
+
+/* Output files of the exports: written to a temporary file beside the target and renamed into
+ * place on commit, so a crash or kill mid-write leaves any earlier file as it was. An existing
+ * target is never replaced unless `force` (the command line's --force; the workbench asks). */
+
+#include <stdbool.h>
+#include <stddef.h>
+#include <stdio.h>
+
+typedef struct {
+  char *path;   /* target */
+  char *tmp;    /* temporary file beside it */
+  FILE *fp;     /* open on tmp for writing */
+  bool force;
+} ArcwiseOutFile;
+
+/* Fails (false, message in err) when path exists and !force, or the temporary file cannot be
+ * created. */
+bool arcwise_out_open(ArcwiseOutFile *o, const char *path, bool force, char *err, size_t err_size);
+
+/* Flushes, syncs, closes and renames into place; on failure removes the temporary file. */
+bool arcwise_out_commit(ArcwiseOutFile *o, char *err, size_t err_size);
+
+/* Closes and removes the temporary file (safe after a commit or on a zeroed struct). */
+void arcwise_out_abort(ArcwiseOutFile *o);
+
+/* True when path exists and may not be replaced; fills err with the standard message. */
+bool arcwise_out_refuse(const char *path, bool force, char *err, size_t err_size);
+
+/* A temporary path beside `path` (malloc'd; the caller unlinks and frees it), for encoders that
+ * open files themselves (libavformat, cairo). */
+char *arcwise_out_tmp_path(const char *path);
+
+/* Renames tmp onto path, re-checking `force` first; removes tmp on failure. */
+bool arcwise_out_rename(const char *tmp, const char *path, bool force, char *err,
+                        size_t err_size);
