@@ -34,7 +34,13 @@ int arcwise_gui_run(int argc, char **argv);
 /* Command entry points (one per cmd-*.c). */
 int arcwise_cmd_inspect(int argc, char **argv);
 int arcwise_cmd_bench(int argc, char **argv);
+int arcwise_cmd_library(int argc, char **argv);
 int arcwise_cmd_c3d(int argc, char **argv);
 int arcwise_cmd_simulate(int argc, char **argv);
+/* The scenario part of `simulate` (sim-scenario.c). */
+int arcwise_simulate_scenario(const char *path, const char *out_dir);
 
 /* Benchmarks (one per bench-*.c), dispatched by cmd-bench.c. */
+int arcwise_bench_accuracy(int argc, char **argv);
+int arcwise_bench_capture(int argc, char **argv);
+int arcwise_bench_analysis(int argc, char **argv);

@@ -7,7 +7,9 @@
 #include <string.h>
 
 static const ArcwiseCommand benches[] = {
-  /* { "accuracy", "position, sync and event accuracy over seeded swings", arcwise_bench_accuracy }, */
+  { "accuracy", "position, sync and event accuracy over seeded swings", arcwise_bench_accuracy },
+  { "capture", "IMU reader speed on a 10-minute 200 Hz file", arcwise_bench_capture },
+  { "analysis", "swing events, tempo, speeds and swing finding on simulated swings", arcwise_bench_analysis },
   { NULL, NULL, NULL },
 };
 

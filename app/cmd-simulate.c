@@ -32,6 +32,11 @@ usage(FILE *out)
           "  --depth-rate HZ     camera frame rate (default 30)\n"
           "  --out DIR           output folder\n"
           "\n"
+          "       arcwise simulate --scenario FILE --out DIR\n"
+          "\n"
+          "Simulates every session of an invented coaching scenario (demo-data/README.md) into\n"
+          "DIR/SESSION/ and writes DIR/manifest.csv.\n"
+          "\n"
           "The motion is invented. Swinging a club indoors can hurt people: keep clear space\n"
           "around the player, the camera and the screen.\n");
 }
@@ -74,7 +79,7 @@ arcwise_cmd_simulate(int argc, char **argv)
   AwSimView view = AW_SIM_FACE_ON;
   long swings = 1;
   double imu_rate = 0, depth_rate = 0;
-  const char *out = NULL;
+  const char *out = NULL, *scenario = NULL;
   for (int i = 1; i < argc; i++) {
     const char *a = argv[i];
     const char *v = i + 1 < argc ? argv[i + 1] : NULL;
@@ -116,6 +121,11 @@ arcwise_cmd_simulate(int argc, char **argv)
       i++;
     } else if (strcmp(a, "--left-handed") == 0) {
       left = true;
+    } else if (strcmp(a, "--scenario") == 0) {
+      if (v == NULL)
+        return arcwise_cli_usage_error(cmd, "--scenario needs a file");
+      scenario = v;
+      i++;
     } else if (strcmp(a, "--out") == 0) {
       if (v == NULL)
         return arcwise_cli_usage_error(cmd, "--out needs a folder");
@@ -124,6 +134,11 @@ arcwise_cmd_simulate(int argc, char **argv)
     } else {
       return arcwise_cli_usage_error(cmd, "unknown option '%s'", a);
     }
+  }
+  if (scenario != NULL) {
+    if (out == NULL || have_seed || have_level)
+      return arcwise_cli_usage_error(cmd, "--scenario takes only --out");
+    return arcwise_simulate_scenario(scenario, out);
   }
   if (!have_seed || !have_level || out == NULL)
     return arcwise_cli_usage_error(cmd, "--seed, --level and --out are required");

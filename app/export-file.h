@@ -36,3 +36,8 @@ char *arcwise_out_tmp_path(const char *path);
 /* Renames tmp onto path, re-checking `force` first; removes tmp on failure. */
 bool arcwise_out_rename(const char *tmp, const char *path, bool force, char *err,
                         size_t err_size);
+
+/* Releases the process-wide caches of cairo and fontconfig, so that leak checkers see only our
+ * own allocations. Call once at the end of a command or test that drew text; no cairo or
+ * fontconfig call may follow. */
+void arcwise_export_shutdown(void);

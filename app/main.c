@@ -8,6 +8,8 @@
 
 static const ArcwiseCommand commands[] = {
   { "inspect", "describe capture files: kind, samples, rate, gaps, saturation", arcwise_cmd_inspect },
+  { "library", "the swing library: create, import, list, show, reanalyse, backup, check, ...",
+    arcwise_cmd_library },
   { "bench", "run a benchmark and print its figures", arcwise_cmd_bench },
   { "c3d", "describe a C3D motion-capture file, extract a marker trajectory", arcwise_cmd_c3d },
   { "simulate", "write a synthetic recording with ground truth", arcwise_cmd_simulate },

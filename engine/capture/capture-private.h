@@ -26,3 +26,9 @@ int aw_capture_format_double(char buf[32], double v);
 /* Reads a whole file into a freshly allocated buffer (NUL-terminated for convenience; *len does
  * not count the NUL). On failure returns AW_ERR_IO / AW_ERR_NO_MEMORY and fills err. */
 AwStatus aw_capture_slurp(const char *path, char **data, size_t *len, AwError *err);
+
+/* Median of a[0..n) by quickselect; a is reordered. NaN when n is 0. */
+double aw_capture_median_inplace(double *a, size_t n);
+
+/* Median of the intervals t[i+1] - t[i] (n >= 2); NaN when n < 2 or out of memory. */
+double aw_capture_median_interval(const double *t, size_t n);

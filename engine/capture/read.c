@@ -528,58 +528,6 @@ count_lines(const char *data, size_t len)
   return n;
 }
 
-/* Quickselect: the k-th smallest of a[0..n) (a is reordered). */
-static double
-select_kth(double *a, size_t n, size_t k)
-{
-  size_t lo = 0, hi = n - 1;
-  while (lo < hi) {
-    double pivot = a[lo + (hi - lo) / 2];
-    size_t i = lo, j = hi;
-    while (i <= j) {
-      while (a[i] < pivot)
-        i++;
-      while (a[j] > pivot)
-        j--;
-      if (i <= j) {
-        double tmp = a[i];
-        a[i] = a[j];
-        a[j] = tmp;
-        i++;
-        if (j == 0)
-          break;
-        j--;
-      }
-    }
-    if (k <= j)
-      hi = j;
-    else if (k >= i)
-      lo = i;
-    else
-      return a[k];
-  }
-  return a[k];
-}
-
-/* Median of the intervals of t (n >= 2); NaN when out of memory. */
-static double
-median_interval(const double *t, size_t n)
-{
-  size_t m = n - 1;
-  double *d = malloc(m * sizeof *d);
-  if (d == NULL)
-    return NAN;
-  for (size_t i = 0; i < m; i++)
-    d[i] = t[i + 1] - t[i];
-  double med = select_kth(d, m, m / 2);
-  if (m % 2 == 0) {
-    double lower = select_kth(d, m / 2, m / 2 - 1);  /* the lower half is now d[0..m/2) */
-    med = 0.5 * (med + lower);
-  }
-  free(d);
-  return med;
-}
-
 typedef struct {
   double v[MAX_ROLES];
   bool empty[MAX_ROLES];
@@ -743,7 +691,7 @@ read_rows(Reader *r, Lines *it, size_t cap, size_t *n_out, double *t_s, double (
   if (n == 1)
     return fail(r, AW_ERR_TOO_FEW, 0, 0,
                 "only one sample: a stream needs at least two to have a rate");
-  double med = median_interval(t_s, n);
+  double med = aw_capture_median_interval(t_s, n);
   if (isnan(med))
     return fail(r, AW_ERR_NO_MEMORY, 0, 0, "out of memory");
   double rate = 1.0 / med;

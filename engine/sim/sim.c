@@ -936,9 +936,22 @@ build_timeline(AwSim *sim, AwRng *rng)
   double skill = aw_rng_uniform(rng);
   for (int shot = 0; shot < K; shot++) {
     AwSwingStyle style;
-    if (c->style_fixed)
+    if (c->style_fixed) {
       style = c->style;
-    else
+      double v = c->style_variation;
+      if (v > 0) {
+        style.tempo += v * aw_rng_range(rng, -0.15, 0.15);
+        style.backswing_s += v * aw_rng_range(rng, -0.04, 0.04);
+        style.hand_speed_impact_m_s += v * aw_rng_range(rng, -0.4, 0.4);
+        style.backswing_plane_rad += v * aw_deg_to_rad(aw_rng_range(rng, -2, 2));
+        style.downswing_plane_rad += v * aw_deg_to_rad(aw_rng_range(rng, -2, 2));
+        style.path_yaw_rad += v * aw_deg_to_rad(aw_rng_range(rng, -1.5, 1.5));
+        style.arm_top_rad += v * aw_deg_to_rad(aw_rng_range(rng, -4, 4));
+        /* Stay inside the full-swing tempo band when the requested tempo is inside it. */
+        if (c->style.tempo >= 2.5 && c->style.tempo <= 4.0)
+          style.tempo = fmin(4.0, fmax(2.5, style.tempo));
+      }
+    } else
       draw_style(rng, skill, c->left_handed, &style);
     /* Every shot of the session keeps the player's body: only the swing varies. */
     style.left_handed = sim->left;

@@ -104,7 +104,10 @@ typedef struct {
   int n_swings;                   /* 1: one swing; K > 1: a continuous session of K shots */
   bool session_extras;            /* waggles, practice swings, walking (default n_swings > 1) */
   double truth_rate_hz;           /* rate of the sampled truth path (default 200) */
-  bool style_fixed;               /* every shot uses `style` exactly (else drawn per shot) */
+  bool style_fixed;               /* every shot uses `style` (else drawn per shot) */
+  double style_variation;         /* with style_fixed: shot-to-shot spread around `style`, as a
+                                     multiple of a typical player's (0 = identical shots;
+                                     1 = tempo +-0.15, hand speed +-0.4 m/s, planes +-2 deg) */
   bool left_handed;               /* used when style_fixed is false */
   AwSwingStyle style;
   double turntable_rate_rad_s;    /* test motion: if not 0, the recording is 1 s still at

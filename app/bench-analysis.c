@@ -1,0 +1,289 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* `arcwise bench analysis`: event, tempo and speed accuracy of the swing analysis over seeded
+ * simulated swings, and swing finding over simulated continuous sessions. */
+#include "cli.h"
+
+#include "arcwise/analysis.h"
+#include "arcwise/math3.h"
+#include "arcwise/sim.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+/* A path as a perfect fusion would give it: one row per IMU sample, on the depth clock, with
+ * the true hand path and watch orientation and the simulated (noisy, clipped) IMU readings. */
+typedef struct {
+  size_t n;
+  double *t, (*p)[3], (*v)[3], (*q)[4], (*a)[3], (*g)[3];
+} BenchPath;
+
+static void
+bench_path_free(BenchPath *b)
+{
+  free(b->t); free(b->p); free(b->v); free(b->q); free(b->a); free(b->g);
+  memset(b, 0, sizeof *b);
+}
+
+static int
+ideal_path(const AwSim *sim, BenchPath *b, AwTrajectory *tr)
+{
+  const AwImuStream *imu = aw_sim_imu(sim);
+  const AwSimTruth *truth = aw_sim_truth(sim);
+  size_t n = imu->n;
+  memset(b, 0, sizeof *b);
+  b->n = n;
+  b->t = malloc(n * sizeof *b->t);
+  b->p = malloc(n * sizeof *b->p);
+  b->v = malloc(n * sizeof *b->v);
+  b->q = malloc(n * sizeof *b->q);
+  b->a = malloc(n * sizeof *b->a);
+  b->g = malloc(n * sizeof *b->g);
+  if (!b->t || !b->p || !b->v || !b->q || !b->a || !b->g)
+    return -1;
+  for (size_t i = 0; i < n; i++) {
+    /* Perfect sync includes the IMU's group delay: each reading averages the interval
+     * before its time stamp, so it belongs half that window earlier (what the fusion's
+     * correlation-based sync estimates). */
+    const AwSimConfig *cfg = aw_sim_config(sim);
+    double td = imu->t_s[i] * (1 + truth->clock_drift) + truth->clock_offset_s -
+                0.5 * cfg->imu.antialias_window_s;
+    AwSimState st;
+    aw_sim_eval(sim, td, &st);
+    b->t[i] = td;
+    aw_v3_copy(b->p[i], st.wrist_cam_m);
+    aw_v3_copy(b->v[i], st.wrist_vel_cam_m_s);
+    memcpy(b->q[i], st.q_cam_body, sizeof b->q[i]);
+    aw_v3_copy(b->a[i], imu->accel_m_s2[i]);
+    aw_v3_copy(b->g[i], imu->gyro_rad_s[i]);
+  }
+  memset(tr, 0, sizeof *tr);
+  tr->n = n;
+  tr->t_s = b->t;
+  tr->pos_m = (const double (*)[3])b->p;
+  tr->vel_m_s = (const double (*)[3])b->v;
+  tr->q_f_body = (const double (*)[4])b->q;
+  tr->accel_body_m_s2 = (const double (*)[3])b->a;
+  tr->gyro_body_rad_s = (const double (*)[3])b->g;
+  /* Up in the camera frame: the grav frame's z through R_cam_grav. */
+  for (int k = 0; k < 3; k++)
+    tr->up[k] = truth->R_cam_grav[k][2];
+  tr->sync_offset_s = truth->clock_offset_s;
+  tr->sync_confidence = 1.0;
+  tr->accel_range_m_s2 = imu->meta.accel_range_m_s2;
+  tr->gyro_range_rad_s = imu->meta.gyro_range_rad_s;
+  return 0;
+}
+
+static int
+cmp_d(const void *a, const void *b)
+{
+  double x = *(const double *)a, y = *(const double *)b;
+  return x < y ? -1 : x > y ? 1 : 0;
+}
+
+static double
+quantile(double *v, size_t n, double q)
+{
+  if (n == 0)
+    return NAN;
+  qsort(v, n, sizeof *v, cmp_d);
+  double pos = q * (double)(n - 1);
+  size_t i = (size_t)pos;
+  double f = pos - (double)i;
+  return i + 1 < n ? v[i] * (1 - f) + v[i + 1] * f : v[i];
+}
+
+typedef struct {
+  size_t n;
+  double *top_ms, *imp_ms, *tempo_pct, *hand_pct, *club_pct;
+  size_t missed, found;
+} Errs;
+
+static void
+errs_row(const char *name, Errs *e, const char *goal_top)
+{
+  printf("%-10s %4zu/%-4zu  top %5.1f/%5.1f ms  impact %5.1f/%5.1f ms  tempo %4.1f %%  "
+         "hand %4.1f %%  club %4.1f %%\n",
+         name, e->found, e->found + e->missed, quantile(e->top_ms, e->n, 0.5),
+         quantile(e->top_ms, e->n, 0.9), quantile(e->imp_ms, e->n, 0.5),
+         quantile(e->imp_ms, e->n, 0.9), quantile(e->tempo_pct, e->n, 0.5),
+         quantile(e->hand_pct, e->n, 0.5), quantile(e->club_pct, e->n, 0.5));
+  (void)goal_top;
+}
+
+static void
+usage(FILE *out)
+{
+  fprintf(out,
+          "Usage: arcwise bench analysis [--n N] [--sessions K] [--seed S]\n"
+          "\n"
+          "Simulates N single swings (levels easy, normal, hard in turn; face-on and\n"
+          "down-the-line in turn; default 60) and K continuous sessions of 10 shots with\n"
+          "waggles, practice swings and walking (default 10), analyses each and prints the\n"
+          "median / 90th percentile of the absolute event errors, median relative errors of\n"
+          "tempo, hand speed and club-head speed, and how many swings were found and how many\n"
+          "motions were wrongly taken for swings.\n"
+          "Estimator 'ideal': the true hand path with the simulated IMU readings (the analysis\n"
+          "alone, as if the fusion were perfect).\n");
+}
+
+int
+arcwise_bench_analysis(int argc, char **argv)
+{
+  int n_swings = 60, n_sessions = 10;
+  unsigned long seed0 = 1000;
+  for (int i = 1; i < argc; i++) {
+    if (strcmp(argv[i], "--help") == 0 || strcmp(argv[i], "-h") == 0) {
+      usage(stdout);
+      return 0;
+    } else if (strcmp(argv[i], "--n") == 0 && i + 1 < argc) {
+      n_swings = atoi(argv[++i]);
+    } else if (strcmp(argv[i], "--sessions") == 0 && i + 1 < argc) {
+      n_sessions = atoi(argv[++i]);
+    } else if (strcmp(argv[i], "--seed") == 0 && i + 1 < argc) {
+      seed0 = strtoul(argv[++i], NULL, 10);
+    } else {
+      return arcwise_cli_usage_error("bench analysis", "unknown option '%s'", argv[i]);
+    }
+  }
+  if (n_swings < 0 || n_swings > 10000 || n_sessions < 0 || n_sessions > 1000)
+    return arcwise_cli_usage_error("bench analysis", "--n 0..10000, --sessions 0..1000");
+
+  Errs e = { 0 };
+  size_t cap = (size_t)n_swings + 1;
+  e.top_ms = calloc(cap, sizeof(double));
+  e.imp_ms = calloc(cap, sizeof(double));
+  e.tempo_pct = calloc(cap, sizeof(double));
+  e.hand_pct = calloc(cap, sizeof(double));
+  e.club_pct = calloc(cap, sizeof(double));
+  int rc = 0;
+  for (int k = 0; k < n_swings; k++) {
+    AwSimConfig cfg;
+    aw_sim_config_default(&cfg, (AwSimLevel)(k % 3));
+    cfg.seed = seed0 + (uint64_t)k;
+    cfg.view = (k / 3) % 2 ? AW_SIM_DOWN_THE_LINE : AW_SIM_FACE_ON;
+    cfg.left_handed = (k % 5) == 4;
+    AwSim *sim = NULL;
+    AwError err;
+    if (aw_sim_new(&cfg, &sim, &err) != AW_OK) {
+      fprintf(stderr, "simulation %d failed: %s\n", k, err.message);
+      rc = 1;
+      continue;
+    }
+    const AwSimTruth *truth = aw_sim_truth(sim);
+    BenchPath bp;
+    AwTrajectory tr;
+    AwAnalysis *an = NULL;
+    AwAnalysisSettings set;
+    aw_analysis_settings_default(&set);
+    const AwSimSwing *ts = &truth->swings[0];
+    set.handed = ts->style.left_handed ? AW_HANDED_LEFT : AW_HANDED_RIGHT;
+    set.club_length_m = ts->style.club_length_m;
+    if (ideal_path(sim, &bp, &tr) == 0 && aw_analyze(&tr, &set, &an, &err) == AW_OK) {
+      /* The detected swing nearest the true impact. */
+      const AwSwing *best = NULL;
+      for (size_t j = 0; j < an->n_swings; j++)
+        if (best == NULL || fabs(an->swings[j].events[AW_EVENT_IMPACT].t_s - ts->t_impact_s) <
+                              fabs(best->events[AW_EVENT_IMPACT].t_s - ts->t_impact_s))
+          best = &an->swings[j];
+      e.found++;
+      size_t i = e.n++;
+      e.top_ms[i] = 1e3 * fabs(best->events[AW_EVENT_TOP].t_s - ts->t_top_s);
+      e.imp_ms[i] = 1e3 * fabs(best->events[AW_EVENT_IMPACT].t_s - ts->t_impact_s);
+      double tempo_true = (ts->t_top_s - ts->t_takeaway_s) / (ts->t_impact_s - ts->t_top_s);
+      e.tempo_pct[i] = 100 * fabs(best->metrics[AW_METRIC_TEMPO_RATIO] / tempo_true - 1);
+      e.hand_pct[i] = 100 * fabs(best->metrics[AW_METRIC_HAND_SPEED_IMPACT_M_S] /
+                                 ts->hand_speed_impact_m_s - 1);
+      e.club_pct[i] = 100 * fabs(best->metrics[AW_METRIC_CLUB_SPEED_IMPACT_M_S] /
+                                 ts->club_speed_impact_m_s - 1);
+      if (getenv("ARCWISE_BENCH_VERBOSE"))
+        fprintf(stderr,
+                "%3d %-6s top %+6.1f imp %+6.1f ms take %+6.1f tempo %.2f/%.2f hand %.2f/%.2f "
+                "club %.1f/%.1f est %d\n",
+                k, aw_sim_level_name(cfg.level),
+                1e3 * (best->events[AW_EVENT_TOP].t_s - ts->t_top_s),
+                1e3 * (best->events[AW_EVENT_IMPACT].t_s - ts->t_impact_s),
+                1e3 * (best->events[AW_EVENT_TAKEAWAY].t_s - ts->t_takeaway_s),
+                best->metrics[AW_METRIC_TEMPO_RATIO], tempo_true,
+                best->metrics[AW_METRIC_HAND_SPEED_IMPACT_M_S], ts->hand_speed_impact_m_s,
+                best->metrics[AW_METRIC_CLUB_SPEED_IMPACT_M_S], ts->club_speed_impact_m_s,
+                best->events[AW_EVENT_IMPACT].estimated);
+    } else {
+      e.missed++;
+      if (getenv("ARCWISE_BENCH_VERBOSE"))
+        fprintf(stderr, "%3d missed: %s\n", k, err.message);
+    }
+    aw_analysis_free(an);
+    bench_path_free(&bp);
+    aw_sim_free(sim);
+  }
+  printf("Swing analysis on %d simulated swings (median/90th percentile of |error|; relative "
+         "errors median)\n", n_swings);
+  printf("goal               top 10/20 ms  impact 10/20 ms  tempo 3 %%  hand 5 %%  club 8 %%\n");
+  errs_row("ideal", &e, "");
+
+  /* Continuous sessions. */
+  size_t truth_total = 0, truth_found = 0, false_found = 0, practice_flag_ok = 0, n_practice = 0;
+  for (int k = 0; k < n_sessions; k++) {
+    AwSimConfig cfg;
+    aw_sim_config_default(&cfg, (AwSimLevel)(k % 3));
+    cfg.seed = seed0 + 50000 + (uint64_t)k;
+    cfg.n_swings = 10;
+    cfg.session_extras = true;
+    cfg.view = k % 2 ? AW_SIM_DOWN_THE_LINE : AW_SIM_FACE_ON;
+    cfg.left_handed = k % 4 == 3;
+    AwSim *sim = NULL;
+    AwError err;
+    if (aw_sim_new(&cfg, &sim, &err) != AW_OK) {
+      fprintf(stderr, "session %d failed: %s\n", k, err.message);
+      rc = 1;
+      continue;
+    }
+    const AwSimTruth *truth = aw_sim_truth(sim);
+    BenchPath bp;
+    AwTrajectory tr;
+    AwAnalysis *an = NULL;
+    AwAnalysisSettings set;
+    aw_analysis_settings_default(&set);
+    set.handed = cfg.left_handed ? AW_HANDED_LEFT : AW_HANDED_RIGHT;
+    if (ideal_path(sim, &bp, &tr) == 0 && aw_analyze(&tr, &set, &an, &err) == AW_OK) {
+      for (size_t s = 0; s < truth->n_swings; s++) {
+        const AwSimSwing *ts = &truth->swings[s];
+        truth_total++;
+        n_practice += ts->practice;
+        for (size_t j = 0; j < an->n_swings; j++)
+          if (fabs(an->swings[j].events[AW_EVENT_IMPACT].t_s - ts->t_impact_s) < 0.15) {
+            truth_found++;
+            practice_flag_ok += ts->practice && an->swings[j].practice;
+            break;
+          }
+      }
+      for (size_t j = 0; j < an->n_swings; j++) {
+        bool match = false;
+        for (size_t s = 0; s < truth->n_swings; s++)
+          match |= fabs(an->swings[j].events[AW_EVENT_IMPACT].t_s - truth->swings[s].t_impact_s) < 0.15;
+        if (!match) {
+          false_found++;
+          if (getenv("ARCWISE_BENCH_VERBOSE"))
+            fprintf(stderr, "session %d: false swing at %.2f s\n", k,
+                    an->swings[j].events[AW_EVENT_IMPACT].t_s);
+        }
+      }
+    } else {
+      truth_total += truth->n_swings;
+      fprintf(stderr, "session %d: %s\n", k, err.message);
+    }
+    aw_analysis_free(an);
+    bench_path_free(&bp);
+    aw_sim_free(sim);
+  }
+  if (n_sessions > 0)
+    printf("Swing finding in %d sessions of 10 shots (with waggles, practice swings, walks): "
+           "%zu of %zu swings found, %zu motions wrongly taken for swings, %zu of %zu practice "
+           "swings flagged as practice\n",
+           n_sessions, truth_found, truth_total, false_found, practice_flag_ok, n_practice);
+  free(e.top_ms); free(e.imp_ms); free(e.tempo_pct); free(e.hand_pct); free(e.club_pct);
+  return rc;
+}

@@ -1,0 +1,487 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* Events, metrics, mirroring, frames, swing finding and bad input on analytic swings whose
+ * truth is known by construction (swing-model.h). */
+#include "testutil.h"
+#include "swing-model.h"
+
+#include "arcwise/analysis.h"
+#include "arcwise/math3.h"
+
+#include <stdio.h>
+#include <string.h>
+
+typedef struct {
+  size_t n, cap;
+  double *t;
+  double (*p)[3];
+  double (*acc)[3];
+  double (*gyro)[3];
+  double (*q)[4];
+} Path;
+
+static void
+path_push(Path *P, double t, const double p[3])
+{
+  if (P->n == P->cap) {
+    P->cap = P->cap ? 2 * P->cap : 1024;
+    P->t = realloc(P->t, P->cap * sizeof *P->t);
+    P->p = realloc(P->p, P->cap * sizeof *P->p);
+  }
+  P->t[P->n] = t;
+  memcpy(P->p[P->n], p, sizeof P->p[0]);
+  P->n++;
+}
+
+static void
+path_free(Path *P)
+{
+  free(P->t); free(P->p); free(P->acc); free(P->gyro); free(P->q);
+  memset(P, 0, sizeof *P);
+}
+
+/* Samples one swing; R maps world to the output frame, offset shifts it; t0 shifts time. */
+static void
+sample_swing(Path *P, const TestSwingSpec *s, const double R[3][3], const double off[3],
+             double t0, double t_from, double t_to)
+{
+  double dt = 1.0 / s->rate_hz;
+  long k0 = lround(ceil((t_from) / dt - 1e-9));
+  for (long k = k0; k * dt < t_to - 1e-12; k++) {
+    double t = k * dt, pw[3], vw[3], pf[3];
+    test_swing_eval(s, t, pw, vw);
+    aw_mat_mul_v3(pf, R, pw);
+    aw_v3_add(pf, pf, off);
+    path_push(P, t + t0, pf);
+  }
+}
+
+static void
+traj_of(const Path *P, const double up[3], AwTrajectory *tr)
+{
+  memset(tr, 0, sizeof *tr);
+  tr->n = P->n;
+  tr->t_s = P->t;
+  tr->pos_m = (const double (*)[3])P->p;
+  tr->accel_body_m_s2 = (const double (*)[3])P->acc;
+  tr->gyro_body_rad_s = (const double (*)[3])P->gyro;
+  tr->q_f_body = (const double (*)[4])P->q;
+  aw_v3_copy(tr->up, up);
+  tr->sync_offset_s = NAN;
+  tr->sync_confidence = NAN;
+}
+
+static const double I3[3][3] = { { 1, 0, 0 }, { 0, 1, 0 }, { 0, 0, 1 } };
+static const double Z3[3] = { 0, 0, 0 };
+static const double UP[3] = { 0, 0, 1 };
+
+/* 24/8 frames at 30 fps: the most common tour tempo of Novosel & Garrity (2004), quoted by
+ * Grober & Cholewicki; Tb = 0.800 s, Td = 0.267 s, ratio 3.0. Tolerance: one camera frame
+ * (REFERENCES.md "Suggested test checks" #17). */
+static void
+test_tempo_24_8(void)
+{
+  TestSwingSpec s;
+  test_swing_spec_default(&s);
+  s.rate_hz = 30.0;
+  s.backswing_s = 24.0 / 30.0;
+  s.downswing_s = 8.0 / 30.0;
+  Path P = { 0 };
+  sample_swing(&P, &s, I3, Z3, 0.0, 0.0, test_swing_t_end(&s));
+  AwTrajectory tr;
+  traj_of(&P, UP, &tr);
+  AwAnalysis *a = NULL;
+  AwError err;
+  AwStatus st = aw_analyze(&tr, NULL, &a, &err);
+  AW_CHECK(st == AW_OK);
+  if (st != AW_OK) {
+    fprintf(stderr, "analyze: %s\n", err.message);
+    path_free(&P);
+    return;
+  }
+  AW_CHECK(a->n_swings == 1);
+  const AwSwing *w = &a->swings[0];
+  double frame = 1.0 / 30.0;
+  AW_CHECK_NEAR(w->metrics[AW_METRIC_BACKSWING_S], 0.800, frame);
+  AW_CHECK_NEAR(w->metrics[AW_METRIC_DOWNSWING_S], 0.267, frame);
+  /* One frame on either duration moves the ratio to 24/9 = 2.67 or 24/7 = 3.43. */
+  AW_CHECK_NEAR(w->metrics[AW_METRIC_TEMPO_RATIO], 3.0, 0.43);
+  AW_CHECK_NEAR(w->events[AW_EVENT_TOP].t_s, test_swing_t_top(&s), frame);
+  AW_CHECK_NEAR(w->events[AW_EVENT_IMPACT].t_s, test_swing_t_impact(&s), frame);
+  AW_CHECK(w->events[AW_EVENT_IMPACT].estimated); /* no accelerometer: estimated, flagged */
+  AW_CHECK(!w->half);
+  aw_analysis_free(a);
+  path_free(&P);
+}
+
+/* At 100 Hz with an accelerometer and gyro: contact found, speeds and planes analytic. */
+static void
+fill_imu(Path *P, const TestSwingSpec *s, double t0, double spike_t)
+{
+  P->acc = calloc(P->n, sizeof *P->acc);
+  P->gyro = calloc(P->n, sizeof *P->gyro);
+  P->q = calloc(P->n, sizeof *P->q);
+  double ci = cos(s->incline_rad), si = sin(s->incline_rad);
+  /* The plane normal e1 x e2 of the model. */
+  double nrm[3] = { 0, -si, ci };
+  for (size_t i = 0; i < P->n; i++) {
+    double w;
+    test_swing_phi(s, P->t[i] - t0, &w);
+    /* A smooth specific force (gravity plus a slowly varying part) and the contact spike. */
+    P->acc[i][2] = 9.81 + 0.5 * sin(P->t[i]);
+    /* Contact: 120 m/s^2 for 4 ms, box-averaged over each sample interval as an
+     * anti-aliased IMU reports it. */
+    double dt = 1.0 / s->rate_hz, lo = P->t[i] - 0.5 * dt, hi = P->t[i] + 0.5 * dt;
+    double ov = fmin(hi, spike_t + 0.002) - fmax(lo, spike_t - 0.002);
+    if (ov > 0)
+      P->acc[i][0] -= 120.0 * ov / dt;
+    for (int a = 0; a < 3; a++)
+      P->gyro[i][a] = w * nrm[a] * (s->mirror && a == 0 ? -1 : 1);
+    aw_quat_identity(P->q[i]);
+  }
+}
+
+static AwAnalysis *
+analyze_ok(const Path *P, const double up[3], const AwAnalysisSettings *set)
+{
+  AwTrajectory tr;
+  traj_of(P, up, &tr);
+  AwAnalysis *a = NULL;
+  AwError err;
+  if (aw_analyze(&tr, set, &a, &err) != AW_OK) {
+    fprintf(stderr, "analyze failed: %s\n", err.message);
+    return NULL;
+  }
+  return a;
+}
+
+static void
+test_metrics_100hz(void)
+{
+  TestSwingSpec s;
+  test_swing_spec_default(&s);
+  Path P = { 0 };
+  sample_swing(&P, &s, I3, Z3, 0.0, 0.0, test_swing_t_end(&s));
+  fill_imu(&P, &s, 0.0, test_swing_t_impact(&s));
+  AwAnalysisSettings set;
+  aw_analysis_settings_default(&set);
+  set.club_length_m = 1.0;
+  AwAnalysis *a = analyze_ok(&P, UP, &set);
+  AW_CHECK(a != NULL && a->n_swings == 1);
+  if (a == NULL || a->n_swings != 1) {
+    path_free(&P);
+    aw_analysis_free(a);
+    return;
+  }
+  const AwSwing *w = &a->swings[0];
+  const double *m = w->metrics;
+  AW_CHECK(!w->events[AW_EVENT_IMPACT].estimated);
+  AW_CHECK(!w->practice);
+  AW_CHECK_NEAR(w->events[AW_EVENT_IMPACT].t_s, test_swing_t_impact(&s), 0.006);
+  AW_CHECK_NEAR(w->events[AW_EVENT_TOP].t_s, test_swing_t_top(&s), 0.01);
+  AW_CHECK_NEAR(w->events[AW_EVENT_TAKEAWAY].t_s, test_swing_t_takeaway(&s), 0.03);
+  /* Top and impact each within half an IMU sample (5 ms) move the ratio by up to 0.15. */
+  AW_CHECK_NEAR(m[AW_METRIC_TEMPO_RATIO], 3.0, 0.15);
+  /* Analytic speed at impact: r * omega_imp, omega_imp = 2 theta / Td. The metric averages the
+   * sample before contact, up to one sample earlier, where the speed is still rising. */
+  double w_imp = 2 * s.top_angle_rad / s.downswing_s;
+  double v_imp = s.radius_m * w_imp;
+  AW_CHECK_NEAR(m[AW_METRIC_HAND_SPEED_IMPACT_M_S] / v_imp, 1.0, 0.05);
+  /* The model's speed peaks in a kink at impact, which the derivative's window rounds. */
+  AW_CHECK_NEAR(m[AW_METRIC_PEAK_HAND_SPEED_M_S] / v_imp, 1.0, 0.02);
+  /* Lever: v_hand + ratio * omega * L with the gyro about the plane normal. */
+  AW_CHECK_NEAR(m[AW_METRIC_CLUB_SPEED_IMPACT_M_S] / (v_imp + set.club_arm_rate_ratio * w_imp * 1.0),
+                1.0, 0.05);
+  AW_CHECK_NEAR(m[AW_METRIC_PLANE_BACKSWING_DEG], 60.0, 0.01);
+  AW_CHECK_NEAR(m[AW_METRIC_PLANE_DOWNSWING_DEG], 60.0, 0.01);
+  /* The path turns at omega_imp; 5 ms of impact timing turn the chord by about 2 degrees. */
+  AW_CHECK_NEAR(m[AW_METRIC_PATH_DIRECTION_DEG], 0.0, 3.0);
+  /* Top height: r (1 - cos theta) sin(incline). */
+  double h_top = s.radius_m * (1 - cos(s.top_angle_rad)) * sin(s.incline_rad);
+  AW_CHECK_NEAR(m[AW_METRIC_TOP_HEIGHT_M], h_top, 1e-3);
+  AW_CHECK_NEAR(m[AW_METRIC_TOP_BEHIND_M], s.radius_m * sin(s.top_angle_rad), 1e-3);
+  /* The top lies toward the player: negative "out". */
+  AW_CHECK_NEAR(m[AW_METRIC_TOP_OUT_M], -s.radius_m * (1 - cos(s.top_angle_rad)) * cos(s.incline_rad), 1e-3);
+  /* Impact is timed to within the IMU's sample (10 ms); the hands travel v_imp per second. */
+  AW_CHECK_NEAR(m[AW_METRIC_IMPACT_AHEAD_M], 0.0, v_imp * 0.006);
+  /* Path length: r times the whole arc (theta back, theta down, phi_f through). */
+  double phi_f = w_imp * s.follow_s / 2;
+  AW_CHECK_NEAR(m[AW_METRIC_PATH_LENGTH_M], s.radius_m * (2 * s.top_angle_rad + phi_f), 0.01);
+  AW_CHECK_NEAR(m[AW_METRIC_PEAK_FOREARM_RATE_RAD_S], w_imp, 0.3);
+  AW_CHECK(w->quality.notes & AW_NOTE_IMPACT_ESTIMATED ? 0 : 1);
+
+  /* The same swing seen from a tilted camera (x right, y down, z forward, pitched 12 degrees,
+   * rolled 3, looking at the player face-on): identical metrics, since up comes from the data. */
+  double ang = 12.0 * (3.14159265358979323846 / 180.0), roll = 3.0 * (3.14159265358979323846 / 180.0);
+  double q1[4], q2[4], q[4], rv1[3] = { ang, 0, 0 }, rv2[3] = { 0, 0, roll }, R[3][3];
+  aw_quat_from_rotvec(q1, rv1);
+  aw_quat_from_rotvec(q2, rv2);
+  /* world (x target, y toward the player, z up) -> face-on camera beyond the ball looking at
+   * the player (x right = target, y down, z forward = +y) */
+  double C[3][3] = { { 1, 0, 0 }, { 0, 0, -1 }, { 0, 1, 0 } }, Rt[3][3];
+  aw_quat_mul(q, q2, q1);
+  aw_quat_to_mat(R, q);
+  for (int r = 0; r < 3; r++)
+    for (int c = 0; c < 3; c++) {
+      Rt[r][c] = 0;
+      for (int k = 0; k < 3; k++)
+        Rt[r][c] += R[r][k] * C[k][c];
+    }
+  Path Q = { 0 };
+  double off[3] = { 0.1, 0.4, 2.5 }, up_c[3];
+  sample_swing(&Q, &s, (const double (*)[3])Rt, off, 0.0, 0.0, test_swing_t_end(&s));
+  fill_imu(&Q, &s, 0.0, test_swing_t_impact(&s));
+  for (size_t i = 0; i < Q.n; i++) /* orientation: body = world axes */
+    aw_mat_to_quat(Q.q[i], (const double (*)[3])Rt);
+  aw_mat_mul_v3(up_c, (const double (*)[3])Rt, UP);
+  AwAnalysis *b = analyze_ok(&Q, up_c, &set);
+  AW_CHECK(b != NULL && b->n_swings == 1);
+  if (b != NULL && b->n_swings == 1)
+    for (int k = 0; k < AW_METRIC_COUNT_; k++) {
+      double x = a->swings[0].metrics[k], y = b->swings[0].metrics[k];
+      if (isfinite(x) || isfinite(y))
+        AW_CHECK_NEAR(y, x, 1e-6 * (1 + fabs(x)));
+    }
+  aw_analysis_free(b);
+  path_free(&Q);
+
+  /* Left-handed: the mirror image with handed = left gives equal metrics. */
+  TestSwingSpec sl = s;
+  sl.mirror = 1;
+  Path L = { 0 };
+  sample_swing(&L, &sl, I3, Z3, 0.0, 0.0, test_swing_t_end(&sl));
+  fill_imu(&L, &sl, 0.0, test_swing_t_impact(&sl));
+  AwAnalysisSettings setl = set;
+  setl.handed = AW_HANDED_LEFT;
+  AwAnalysis *l = analyze_ok(&L, UP, &setl);
+  AW_CHECK(l != NULL && l->n_swings == 1);
+  if (l != NULL && l->n_swings == 1) {
+    for (int k = 0; k < AW_METRIC_COUNT_; k++) {
+      double x = a->swings[0].metrics[k], y = l->swings[0].metrics[k];
+      if (isfinite(x) || isfinite(y))
+        AW_CHECK_NEAR(y, x, 1e-6 * (1 + fabs(x)));
+    }
+    /* Mirrored, not identical: the target axis points the other way in the world. */
+    AW_CHECK_NEAR(l->swings[0].R_sw_f[0][0], -a->swings[0].R_sw_f[0][0], 1e-9);
+  }
+  aw_analysis_free(l);
+  path_free(&L);
+
+  /* A practice swing: no contact spike, so impact is estimated and flagged. */
+  Path Pr = { 0 };
+  sample_swing(&Pr, &s, I3, Z3, 0.0, 0.0, test_swing_t_end(&s));
+  fill_imu(&Pr, &s, 0.0, -100.0);
+  AwAnalysis *pr = analyze_ok(&Pr, UP, &set);
+  AW_CHECK(pr != NULL && pr->n_swings == 1);
+  if (pr != NULL && pr->n_swings == 1) {
+    AW_CHECK(pr->swings[0].practice);
+    AW_CHECK(pr->swings[0].events[AW_EVENT_IMPACT].estimated);
+    AW_CHECK(pr->swings[0].quality.notes & AW_NOTE_IMPACT_ESTIMATED);
+    AW_CHECK_NEAR(pr->swings[0].events[AW_EVENT_IMPACT].t_s, test_swing_t_impact(&s), 0.02);
+  }
+  aw_analysis_free(pr);
+  path_free(&Pr);
+
+  /* Comparison: a copy moved and turned in the room compares as identical; the consistency of
+   * two equal swings has zero spread. */
+  AwTrajectory ta, tb;
+  Path Q2 = { 0 };
+  sample_swing(&Q2, &s, (const double (*)[3])Rt, off, 5.0, 0.0, test_swing_t_end(&s));
+  fill_imu(&Q2, &s, 5.0, test_swing_t_impact(&s) + 5.0);
+  for (size_t i = 0; i < Q2.n; i++)
+    aw_mat_to_quat(Q2.q[i], (const double (*)[3])Rt);
+  AwAnalysis *b2 = analyze_ok(&Q2, up_c, &set);
+  traj_of(&P, UP, &ta);
+  traj_of(&Q2, up_c, &tb);
+  AW_CHECK(b2 != NULL && b2->n_swings == 1);
+  if (b2 != NULL && b2->n_swings == 1) {
+    AwSwingComparison cmp;
+    AwError err;
+    AW_CHECK(aw_swing_compare(&ta, &a->swings[0], &tb, &b2->swings[0], &cmp, &err) == AW_OK);
+    AW_CHECK_NEAR(cmp.overall_rms_m, 0.0, 1e-3);
+    for (int p = AW_PHASE_BACKSWING; p <= AW_PHASE_FOLLOW_THROUGH; p++)
+      AW_CHECK_NEAR(cmp.phase_rms_m[p], 0.0, 1e-3);
+    AW_CHECK_NEAR(cmp.event_dt_s[AW_EVENT_IMPACT], 0.0, 1e-3);
+    const AwSwing *pair[2] = { &a->swings[0], &b2->swings[0] };
+    AwConsistency cons;
+    aw_session_consistency(pair, 2, &cons);
+    AW_CHECK(cons.n[AW_METRIC_TEMPO_RATIO] == 2);
+    AW_CHECK_NEAR(cons.sd[AW_METRIC_TEMPO_RATIO], 0.0, 1e-6);
+    AW_CHECK_NEAR(cons.mean[AW_METRIC_PLANE_BACKSWING_DEG], 60.0, 0.01);
+  }
+  /* A slower backswing: the warp aligns by events, so the path deviation stays small while
+   * the timing difference shows. */
+  TestSwingSpec s2 = s;
+  s2.backswing_s = 1.0;
+  Path P3 = { 0 };
+  sample_swing(&P3, &s2, I3, Z3, 0.0, 0.0, test_swing_t_end(&s2));
+  fill_imu(&P3, &s2, 0.0, test_swing_t_impact(&s2));
+  AwAnalysis *c3 = analyze_ok(&P3, UP, &set);
+  AW_CHECK(c3 != NULL && c3->n_swings == 1);
+  if (c3 != NULL && c3->n_swings == 1) {
+    AwTrajectory t3;
+    traj_of(&P3, UP, &t3);
+    AwSwingComparison cmp;
+    AW_CHECK(aw_swing_compare(&ta, &a->swings[0], &t3, &c3->swings[0], &cmp, NULL) == AW_OK);
+    AW_CHECK_NEAR(cmp.event_dt_s[AW_EVENT_TOP], 0.2, 0.02);
+    AW_CHECK_NEAR(cmp.phase_duration_diff_s[AW_PHASE_BACKSWING], 0.2, 0.02);
+    AW_CHECK(cmp.phase_rms_m[AW_PHASE_BACKSWING] < 0.05);
+    AW_CHECK_NEAR(cmp.metric_diff[AW_METRIC_TEMPO_RATIO], 3.75 - 3.0, 0.15);
+  }
+  aw_analysis_free(c3);
+  path_free(&P3);
+  aw_analysis_free(b2);
+  path_free(&Q2);
+  aw_analysis_free(a);
+  path_free(&P);
+}
+
+/* Appends a stretch of still hands at p. */
+static void
+push_still(Path *P, double *t, double dur, double rate, const double p[3])
+{
+  for (double e = 0; e < dur - 1e-9; e += 1.0 / rate) {
+    path_push(P, *t, p);
+    *t += 1.0 / rate;
+  }
+}
+
+/* A waggle: small to-and-fro of the hands at address (3 cm, 2 Hz). */
+static void
+push_waggle(Path *P, double *t, double rate, const double p[3])
+{
+  for (double e = 0; e < 1.5; e += 1.0 / rate) {
+    double q[3] = { p[0] - 0.03 * sin(2 * 3.14159265 * 2 * e), p[1], p[2] + 0.01 * sin(2 * 3.14159265 * 2 * e) };
+    path_push(P, *t, q);
+    *t += 1.0 / rate;
+  }
+}
+
+/* Walking 2 m at 1.3 m/s with the hands bobbing and swinging (+-0.25 m, 1 Hz). */
+static void
+push_walk(Path *P, double *t, double rate, double p[3], double dir)
+{
+  double dur = 2.0 / 1.3;
+  double p0[3] = { p[0], p[1], p[2] };
+  for (double e = 0; e < dur; e += 1.0 / rate) {
+    double q[3] = { p0[0] + 0.25 * sin(2 * 3.14159265 * e) * 0.5, p0[1] + dir * 1.3 * e,
+                    p0[2] + 0.03 * sin(4 * 3.14159265 * e) };
+    path_push(P, *t, q);
+    *t += 1.0 / rate;
+  }
+  p[0] = P->p[P->n - 1][0];
+  p[1] = P->p[P->n - 1][1];
+  p[2] = P->p[P->n - 1][2];
+}
+
+static void
+test_continuous_and_bad_input(void)
+{
+  TestSwingSpec s;
+  test_swing_spec_default(&s);
+  Path P = { 0 };
+  double t = 0, here[3] = { 0, 0, 0.8 };
+  const int K = 4;
+  double t_imp[4];
+  for (int k = 0; k < K; k++) {
+    push_still(&P, &t, 1.0, s.rate_hz, here);
+    push_waggle(&P, &t, s.rate_hz, here);
+    /* The swing itself (its own set-up still is part of the spec). */
+    double off[3];
+    double p0[3], v0[3];
+    test_swing_eval(&s, 0, p0, v0);
+    aw_v3_sub(off, here, p0);
+    double t0 = t;
+    sample_swing(&P, &s, I3, off, t0, 0.0, test_swing_t_end(&s));
+    t = P.t[P.n - 1] + 1.0 / s.rate_hz;
+    t_imp[k] = t0 + test_swing_t_impact(&s);
+    double pe[3];
+    aw_v3_copy(pe, P.p[P.n - 1]);
+    /* Hands back down, then a walk away and back. */
+    push_still(&P, &t, 0.5, s.rate_hz, pe);
+    push_walk(&P, &t, s.rate_hz, here, +1);
+    push_still(&P, &t, 1.0, s.rate_hz, here);
+    push_walk(&P, &t, s.rate_hz, here, -1);
+  }
+  push_still(&P, &t, 1.0, s.rate_hz, here);
+  AwAnalysis *a = analyze_ok(&P, UP, NULL);
+  AW_CHECK(a != NULL && a->n_swings == (size_t)K);
+  if (a != NULL && a->n_swings == (size_t)K)
+    for (int k = 0; k < K; k++) {
+      AW_CHECK_NEAR(a->swings[k].events[AW_EVENT_IMPACT].t_s, t_imp[k], 0.02);
+      AW_CHECK(a->swings[k].t_start_s < t_imp[k] && a->swings[k].t_end_s > t_imp[k]);
+      AW_CHECK(P.t[a->swings[k].i_start] == a->swings[k].t_start_s);
+    }
+  aw_analysis_free(a);
+
+  /* No swing: only still hands, waggles and walks. */
+  Path N = { 0 };
+  t = 0;
+  here[0] = 0; here[1] = 0; here[2] = 0.8;
+  push_still(&N, &t, 1.0, s.rate_hz, here);
+  push_waggle(&N, &t, s.rate_hz, here);
+  push_walk(&N, &t, s.rate_hz, here, 1);
+  push_still(&N, &t, 1.0, s.rate_hz, here);
+  AwTrajectory tr;
+  traj_of(&N, UP, &tr);
+  AwError err;
+  AwAnalysis *none = NULL;
+  AW_CHECK(aw_analyze(&tr, NULL, &none, &err) == AW_ERR_NO_SWING);
+  AW_CHECK(none == NULL);
+  AW_CHECK(strstr(err.message, "no swing") != NULL);
+  fprintf(stderr, "(expected) %s\n", err.message);
+
+  /* A recording that stops in the downswing. */
+  Path C = { 0 };
+  sample_swing(&C, &s, I3, Z3, 0.0, 0.0, test_swing_t_impact(&s) + 0.02);
+  traj_of(&C, UP, &tr);
+  AwAnalysis *cut = NULL;
+  AwStatus st = aw_analyze(&tr, NULL, &cut, &err);
+  AW_CHECK(st == AW_ERR_INCOMPLETE);
+  AW_CHECK(cut == NULL);
+  AW_CHECK(strstr(err.message, "mid-swing") != NULL);
+  fprintf(stderr, "(expected) %s\n", err.message);
+
+  /* Club length outside the Rules of Golf (48 in = 1.2192 m). */
+  AwAnalysisSettings set;
+  aw_analysis_settings_default(&set);
+  set.club_length_m = 1.25;
+  traj_of(&P, UP, &tr);
+  AW_CHECK(aw_analyze(&tr, &set, &cut, &err) == AW_ERR_RANGE);
+  path_free(&C);
+  path_free(&N);
+  path_free(&P);
+}
+
+static void
+test_tables(void)
+{
+  AwClubType c;
+  AW_CHECK(aw_club_from_name("driver", &c) && c == AW_CLUB_DRIVER);
+  AW_CHECK(aw_club_from_name("7I", &c) && c == AW_CLUB_7I);
+  AW_CHECK(aw_club_from_name("pw", &c) && c == AW_CLUB_PW);
+  AW_CHECK(!aw_club_from_name("putter", &c));
+  /* Rules of Golf, Equipment Rules Part 2 1c: 18 in to 48 in. */
+  for (int k = 0; k < AW_CLUB_COUNT_; k++) {
+    const AwClubInfo *ci = aw_club_info((AwClubType)k);
+    AW_CHECK(ci != NULL && ci->default_length_m >= AW_CLUB_LENGTH_MIN_M &&
+             ci->default_length_m <= AW_CLUB_LENGTH_MAX_M);
+  }
+  AW_CHECK_NEAR(AW_CLUB_LENGTH_MAX_M, 48 * 0.0254, 1e-12);
+  for (int k = 0; k < AW_METRIC_COUNT_; k++)
+    AW_CHECK(aw_metric_info((AwMetricId)k) != NULL && (int)aw_metric_info((AwMetricId)k)->id == k);
+  for (unsigned b = 0; b < AW_NOTE_NOTE_COUNT_; b++)
+    AW_CHECK(aw_quality_note_text(1u << b) != NULL);
+  AW_CHECK(aw_quality_note_text(1u << 30) == NULL);
+  /* Lever model, worked by hand: 8 m/s + 2 * 15 rad/s * 1.0 m = 38 m/s. */
+  AW_CHECK_NEAR(aw_club_speed_lever(8.0, 15.0, 1.0, 2.0), 38.0, 1e-12);
+}
+
+int
+main(void)
+{
+  test_tables();
+  test_tempo_24_8();
+  test_metrics_100hz();
+  test_continuous_and_bad_input();
+  return AW_TEST_END();
+}
