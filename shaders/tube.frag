@@ -26,7 +26,7 @@ vec3 speed_ramp(float f)
 {
   // Our own ramp: deep blue, teal, lime, amber, coral. Luminance rises with speed so it
   // still reads on a washed-out projector.
-  const vec3 c0 = vec3(0.16, 0.26, 0.55);
+  const vec3 c0 = vec3(0.30, 0.45, 0.92);
   const vec3 c1 = vec3(0.13, 0.66, 0.68);
   const vec3 c2 = vec3(0.66, 0.86, 0.33);
   const vec3 c3 = vec3(0.98, 0.70, 0.24);

@@ -82,7 +82,7 @@ arcwise_scene_speed_rgb(float f, float rgb[3])
 {
   /* Must match speed_ramp() in shaders/tube.frag. */
   static const float c[5][3] = {
-    { 0.16f, 0.26f, 0.55f }, { 0.13f, 0.66f, 0.68f }, { 0.66f, 0.86f, 0.33f },
+    { 0.30f, 0.45f, 0.92f }, { 0.13f, 0.66f, 0.68f }, { 0.66f, 0.86f, 0.33f },
     { 0.98f, 0.70f, 0.24f }, { 0.96f, 0.36f, 0.33f },
   };
   f = f < 0 ? 0 : f > 1 ? 1 : f;

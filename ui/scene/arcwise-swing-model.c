@@ -32,6 +32,8 @@ model_alloc(size_t n, bool with_club)
   if (with_club)
     m->club_m = g_malloc0_n(n, sizeof(float[3]));
   m->handed = 1;
+  for (int k = 0; k < 3; k++)
+    m->R_scene_cam[k][k] = 1.0;
   m->events.address_s = m->events.top_s = m->events.impact_s = m->events.finish_s = NAN;
   return m;
 }
@@ -103,8 +105,8 @@ arcwise_swing_model_update_phases(ArcwiseSwingModel *m)
     }
   }
   for (int p = 0; p < ARCWISE_SCENE_N_PHASES; p++) {
-    m->phase_cam_share[p] = count[p] ? (float)(share_sum[p] / (double)count[p]) : NAN;
-    m->phase_occluded[p] = count[p] ? (float)(occl_sum[p] / (double)count[p]) : NAN;
+    m->phase_cam_share[p] = count[p] ? (float)(share_sum[p] / (double)count[p]) : (float)NAN;
+    m->phase_occluded[p] = count[p] ? (float)(occl_sum[p] / (double)count[p]) : (float)NAN;
   }
   for (int k = 0; k < 3; k++)
     m->centre_m[k] = m->n ? 0.5f * (lo[k] + hi[k]) : 0.0f;
@@ -202,6 +204,15 @@ arcwise_swing_model_new_from_fused(const AwFusedPath *path, double t0_s, double 
 
   ArcwiseSwingModel *m = model_alloc(n, pl.club_length_m > 0);
   m->handed = handed;
+  /* R_scene_cam = rows x, y, z (in grav) times R_grav_cam. */
+  for (int r = 0; r < 3; r++) {
+    const double *axis = r == 0 ? x_dir : r == 1 ? y_dir : z_dir;
+    for (int c = 0; c < 3; c++)
+      m->R_scene_cam[r][c] = axis[0] * R_cam_grav[c][0] + axis[1] * R_cam_grav[c][1] +
+                             axis[2] * R_cam_grav[c][2];
+  }
+  /* ball (grav) back to the camera frame: origin_cam = R_cam_grav ball. */
+  aw_mat_mul_v3(m->origin_cam_m, (const double (*)[3])R_cam_grav, ball);
   double t_base = path->t_s[first];
   for (size_t i = 0; i < n; i++) {
     size_t j = first + i;
@@ -244,6 +255,20 @@ arcwise_swing_model_new_from_fused(const AwFusedPath *path, double t0_s, double 
   g_free(gv);
   arcwise_swing_model_update_phases(m);
   return m;
+}
+
+void
+arcwise_swing_model_set_club_cam(ArcwiseSwingModel *m, const double (*club_cam_m)[3])
+{
+  if (m->club_m == NULL)
+    m->club_m = g_malloc0_n(m->n, sizeof(float[3]));
+  for (size_t i = 0; i < m->n; i++) {
+    double d[3], o[3];
+    aw_v3_sub(d, club_cam_m[i], m->origin_cam_m);
+    aw_mat_mul_v3(o, (const double (*)[3])m->R_scene_cam, d);
+    for (int k = 0; k < 3; k++)
+      m->club_m[i][k] = (float)o[k];
+  }
 }
 
 /* ---- invented demo swing ------------------------------------------------------------------ */
@@ -366,4 +391,71 @@ arcwise_swing_model_new_demo(int variant, int handed)
   m->events.finish_s = t_hold + t_back + t_down + t_follow;
   arcwise_swing_model_update_phases(m);
   return m;
+}
+
+ArcwiseSwingModel *
+arcwise_swing_model_copy_shifted(const ArcwiseSwingModel *m, const float offset_m[3])
+{
+  ArcwiseSwingModel *c = g_memdup2(m, sizeof *m);
+  c->t_s = g_memdup2(m->t_s, m->n * sizeof m->t_s[0]);
+  c->pos_m = g_memdup2(m->pos_m, m->n * sizeof m->pos_m[0]);
+  c->speed_m_s = g_memdup2(m->speed_m_s, m->n * sizeof m->speed_m_s[0]);
+  c->phase = g_memdup2(m->phase, m->n);
+  c->occluded = g_memdup2(m->occluded, m->n);
+  c->cam_share = g_memdup2(m->cam_share, m->n * sizeof m->cam_share[0]);
+  c->band_m = g_memdup2(m->band_m, m->n * sizeof m->band_m[0]);
+  c->club_m = m->club_m ? g_memdup2(m->club_m, m->n * sizeof m->club_m[0]) : NULL;
+  for (size_t i = 0; i < c->n; i++)
+    for (int k = 0; k < 3; k++) {
+      c->pos_m[i][k] += offset_m[k];
+      if (c->club_m)
+        c->club_m[i][k] += offset_m[k];
+    }
+  for (int k = 0; k < 3; k++)
+    c->centre_m[k] += offset_m[k];
+  return c;
+}
+
+void
+arcwise_swing_model_position_at(const ArcwiseSwingModel *m, double t, float out[3])
+{
+  size_t i = arcwise_swing_model_index_at(m, t);
+  size_t j = i + 1 < m->n ? i + 1 : i;
+  double span = (double)(m->t_s[j] - m->t_s[i]);
+  double u = span > 0 ? (t - (double)m->t_s[i]) / span : 0.0;
+  u = u < 0 ? 0 : u > 1 ? 1 : u;
+  for (int k = 0; k < 3; k++)
+    out[k] = (float)((double)m->pos_m[i][k] + ((double)m->pos_m[j][k] - (double)m->pos_m[i][k]) * u);
+}
+
+double
+arcwise_swing_sync_time(const ArcwiseSwingModel *a, const ArcwiseSwingModel *b, double t,
+                        int only_event)
+{
+  const double ea[4] = { a->events.address_s, a->events.top_s, a->events.impact_s,
+                         a->events.finish_s };
+  const double eb[4] = { b->events.address_s, b->events.top_s, b->events.impact_s,
+                         b->events.finish_s };
+  if (only_event >= 0 && only_event < 4) {
+    if (isfinite(ea[only_event]) && isfinite(eb[only_event]))
+      return t - ea[only_event] + eb[only_event];
+    return t;
+  }
+  /* Knots: the events both swings have, in order. */
+  double ka[6], kb[6];
+  int nk = 0;
+  for (int k = 0; k < 4; k++)
+    if (isfinite(ea[k]) && isfinite(eb[k]) && (nk == 0 || (ea[k] > ka[nk - 1] && eb[k] > kb[nk - 1]))) {
+      ka[nk] = ea[k];
+      kb[nk] = eb[k];
+      nk++;
+    }
+  if (nk == 0)
+    return t;
+  if (nk == 1 || t <= ka[0])
+    return t - ka[0] + kb[0];
+  for (int k = 0; k + 1 < nk; k++)
+    if (t <= ka[k + 1])
+      return kb[k] + (t - ka[k]) * (kb[k + 1] - kb[k]) / (ka[k + 1] - ka[k]);
+  return t - ka[nk - 1] + kb[nk - 1];
 }

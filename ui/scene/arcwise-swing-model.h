@@ -35,6 +35,10 @@ typedef struct {
   int handed;                  /* +1 right-handed, -1 left-handed */
   float centre_m[3];           /* middle of the path's bounding box, for camera presets */
   float peak_speed_m_s;
+  /* The placement used: pos_scene = R_scene_cam (pos_cam - origin_cam_m). Identity and zero
+   * for the demo swing. Lets callers map other camera-frame data (e.g. a club path). */
+  double R_scene_cam[3][3];
+  double origin_cam_m[3];
   /* Share of the camera's information per phase (0..1), for the trust legend. */
   float phase_cam_share[ARCWISE_SCENE_N_PHASES];
   float phase_occluded[ARCWISE_SCENE_N_PHASES];     /* fraction of samples occluded */
@@ -70,6 +74,10 @@ ArcwiseSwingModel *arcwise_swing_model_new_from_fused(const AwFusedPath *path, d
  * loaded. `variant` shifts plane, tempo and length a little so two demo swings differ. */
 ArcwiseSwingModel *arcwise_swing_model_new_demo(int variant, int handed);
 
+/* Replaces the club-head path by camera-frame positions sampled on the same times as the
+ * model (n entries), mapped with the model's placement. */
+void arcwise_swing_model_set_club_cam(ArcwiseSwingModel *m, const double (*club_cam_m)[3]);
+
 /* Recomputes phase[], the per-phase summaries and centre_m after events changed. */
 void arcwise_swing_model_update_phases(ArcwiseSwingModel *m);
 
@@ -78,6 +86,20 @@ void arcwise_swing_model_as_path(const ArcwiseSwingModel *m, ArcwiseScenePath *o
 
 /* Index of the last sample at or before t (clamped). */
 size_t arcwise_swing_model_index_at(const ArcwiseSwingModel *m, double t_s);
+
+/* A deep copy with every position (and club position) moved by offset_m. */
+ArcwiseSwingModel *arcwise_swing_model_copy_shifted(const ArcwiseSwingModel *m,
+                                                    const float offset_m[3]);
+
+/* Hand position at time t (linear interpolation, clamped to the ends). */
+void arcwise_swing_model_position_at(const ArcwiseSwingModel *m, double t_s, float out_m[3]);
+
+/* Maps a time of swing a to the matching time of swing b by a piecewise-linear warp through
+ * their events (takeaway, top, impact, finish), so phases play in step. With `only_event`
+ * >= 0 (0 takeaway, 1 top, 2 impact) the swings are lined up at that one event instead and
+ * play at the same pace. Events that are NaN in either swing are skipped. */
+double arcwise_swing_sync_time(const ArcwiseSwingModel *a, const ArcwiseSwingModel *b,
+                               double t_a_s, int only_event);
 
 void arcwise_swing_model_free(ArcwiseSwingModel *m);
 
