@@ -44,3 +44,5 @@ int arcwise_simulate_scenario(const char *path, const char *out_dir);
 int arcwise_bench_accuracy(int argc, char **argv);
 int arcwise_bench_capture(int argc, char **argv);
 int arcwise_bench_analysis(int argc, char **argv);
+int arcwise_bench_render(int argc, char **argv);   /* with the GUI build only */
+int arcwise_bench_launch(int argc, char **argv);

@@ -10,6 +10,10 @@ static const ArcwiseCommand benches[] = {
   { "accuracy", "position, sync and event accuracy over seeded swings", arcwise_bench_accuracy },
   { "capture", "IMU reader speed on a 10-minute 200 Hz file", arcwise_bench_capture },
   { "analysis", "swing events, tempo, speeds and swing finding on simulated swings", arcwise_bench_analysis },
+#ifdef ARCWISE_HAVE_SCENE
+  { "render", "studio scene frames per second offscreen at 1920x1080, two swings", arcwise_bench_render },
+  { "launch", "time from starting the workbench to its first drawn frame", arcwise_bench_launch },
+#endif
   { NULL, NULL, NULL },
 };
 

@@ -211,13 +211,13 @@ arcwise_library_source_save_player(ArcwiseLibrarySource *src, const ArcwisePlaye
 
 void
 arcwise_library_source_import_async(ArcwiseLibrarySource *src, GFile **files, guint n,
-                                    GCancellable *cancellable, ArcwiseLibraryProgress progress,
+                                    const char *player_name, GCancellable *cancellable, ArcwiseLibraryProgress progress,
                                     gpointer progress_data, GAsyncReadyCallback callback,
                                     gpointer user_data)
 {
   if (src->kind == ARCWISE_SOURCE_STORE) {
-    arcwise_library_store_import_async(src, files, n, cancellable, progress, progress_data,
-                                       callback, user_data);
+    arcwise_library_store_import_async(src, files, n, player_name, cancellable, progress,
+                                       progress_data, callback, user_data);
     return;
   }
   GTask *task = g_task_new(NULL, cancellable, callback, user_data);

@@ -34,7 +34,7 @@ gboolean arcwise_library_source_save_marks(ArcwiseLibrarySource *src, ArcwiseSwi
  * context. The finish returns a one-line summary, or NULL with *error (the library is then
  * unchanged). */
 void arcwise_library_source_import_async(ArcwiseLibrarySource *src, GFile **files, guint n,
-                                         GCancellable *cancellable,
+                                         const char *player_name, GCancellable *cancellable,
                                          ArcwiseLibraryProgress progress, gpointer progress_data,
                                          GAsyncReadyCallback callback, gpointer user_data);
 char *arcwise_library_source_import_finish(ArcwiseLibrarySource *src, GAsyncResult *res,
