@@ -61,9 +61,12 @@ static gboolean
 wait_play(gpointer data)
 {
   Smoke *s = data;
-  if (g_get_monotonic_time() - s->play_started_us < 700000)
-    return G_SOURCE_CONTINUE;
+  /* Wait for a few drawn frames, however slow the machine (sanitizers, software GL). */
   ArcwiseStage *stage = arcwise_window_get_stage(s->win);
+  gint64 waited = g_get_monotonic_time() - s->play_started_us;
+  if ((arcwise_stage_get_frames(stage) - s->frames_before < 5 || waited < 500000) &&
+      waited < 60 * G_USEC_PER_SEC)
+    return G_SOURCE_CONTINUE;
   g_string_append_printf(s->report, "play_time_before=%.4f\nplay_time_after=%.4f\n"
                          "play_frames=%" G_GUINT64_FORMAT "\nplaying=%d\n",
                          s->t_before, arcwise_window_get_time(s->win),

@@ -18,8 +18,8 @@ struct _ArcwiseOffscreen {
   char *renderer;
 };
 
-/* EGL displays are shared per native display; count users so one free does not terminate
- * the display under another offscreen context. */
+/* EGL displays are shared per native display (one per process here); count users for
+ * debugging and never terminate it under another offscreen context. */
 static GMutex display_lock;
 static int display_users;
 
@@ -244,12 +244,14 @@ arcwise_offscreen_free(ArcwiseOffscreen *off)
     eglMakeCurrent(off->dpy, EGL_NO_SURFACE, EGL_NO_SURFACE, EGL_NO_CONTEXT);
     eglDestroyContext(off->dpy, off->ctx);
   }
+  /* The display is left initialised: terminating it unloads Mesa's driver, whose few
+   * process-lifetime allocations would then show up as leaks of an unknown module, and a
+   * later offscreen context would pay the driver start-up again. */
   g_mutex_lock(&display_lock);
-  if (off->dpy != EGL_NO_DISPLAY && --display_users == 0) {
-    eglTerminate(off->dpy);
-    eglReleaseThread();
-  }
+  if (off->dpy != EGL_NO_DISPLAY)
+    display_users--;
   g_mutex_unlock(&display_lock);
+  eglReleaseThread();
   g_free(off->renderer);
   g_free(off);
 }
