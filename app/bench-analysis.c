@@ -126,7 +126,8 @@ usage(FILE *out)
           "tempo, hand speed and club-head speed, and how many swings were found and how many\n"
           "motions were wrongly taken for swings.\n"
           "Estimator 'ideal': the true hand path with the simulated IMU readings (the analysis\n"
-          "alone, as if the fusion were perfect).\n");
+          "alone, as if the fusion were perfect). Estimator 'fused': the whole pipeline from\n"
+          "the simulated capture files (aw_analyze_capture: fusion, masked fusions, analysis).\n");
 }
 
 int
@@ -151,13 +152,16 @@ arcwise_bench_analysis(int argc, char **argv)
   if (n_swings < 0 || n_swings > 10000 || n_sessions < 0 || n_sessions > 1000)
     return arcwise_cli_usage_error("bench analysis", "--n 0..10000, --sessions 0..1000");
 
-  Errs e = { 0 };
+  Errs e[2] = { { 0 }, { 0 } };
   size_t cap = (size_t)n_swings + 1;
-  e.top_ms = calloc(cap, sizeof(double));
-  e.imp_ms = calloc(cap, sizeof(double));
-  e.tempo_pct = calloc(cap, sizeof(double));
-  e.hand_pct = calloc(cap, sizeof(double));
-  e.club_pct = calloc(cap, sizeof(double));
+  for (int est = 0; est < 2; est++) {
+    e[est].top_ms = calloc(cap, sizeof(double));
+    e[est].imp_ms = calloc(cap, sizeof(double));
+    e[est].tempo_pct = calloc(cap, sizeof(double));
+    e[est].hand_pct = calloc(cap, sizeof(double));
+    e[est].club_pct = calloc(cap, sizeof(double));
+  }
+  size_t occl_phases = 0, occl_imu = 0, clear_still = 0, clear_still_cam = 0;
   int rc = 0;
   for (int k = 0; k < n_swings; k++) {
     AwSimConfig cfg;
@@ -173,56 +177,95 @@ arcwise_bench_analysis(int argc, char **argv)
       continue;
     }
     const AwSimTruth *truth = aw_sim_truth(sim);
-    BenchPath bp;
-    AwTrajectory tr;
-    AwAnalysis *an = NULL;
+    const AwSimSwing *ts = &truth->swings[0];
     AwAnalysisSettings set;
     aw_analysis_settings_default(&set);
-    const AwSimSwing *ts = &truth->swings[0];
     set.handed = ts->style.left_handed ? AW_HANDED_LEFT : AW_HANDED_RIGHT;
     set.club_length_m = ts->style.club_length_m;
-    if (ideal_path(sim, &bp, &tr) == 0 && aw_analyze(&tr, &set, &an, &err) == AW_OK) {
-      /* The detected swing nearest the true impact. */
-      const AwSwing *best = NULL;
-      for (size_t j = 0; j < an->n_swings; j++)
-        if (best == NULL || fabs(an->swings[j].events[AW_EVENT_IMPACT].t_s - ts->t_impact_s) <
-                              fabs(best->events[AW_EVENT_IMPACT].t_s - ts->t_impact_s))
-          best = &an->swings[j];
-      e.found++;
-      size_t i = e.n++;
-      e.top_ms[i] = 1e3 * fabs(best->events[AW_EVENT_TOP].t_s - ts->t_top_s);
-      e.imp_ms[i] = 1e3 * fabs(best->events[AW_EVENT_IMPACT].t_s - ts->t_impact_s);
-      double tempo_true = (ts->t_top_s - ts->t_takeaway_s) / (ts->t_impact_s - ts->t_top_s);
-      e.tempo_pct[i] = 100 * fabs(best->metrics[AW_METRIC_TEMPO_RATIO] / tempo_true - 1);
-      e.hand_pct[i] = 100 * fabs(best->metrics[AW_METRIC_HAND_SPEED_IMPACT_M_S] /
-                                 ts->hand_speed_impact_m_s - 1);
-      e.club_pct[i] = 100 * fabs(best->metrics[AW_METRIC_CLUB_SPEED_IMPACT_M_S] /
-                                 ts->club_speed_impact_m_s - 1);
-      if (getenv("ARCWISE_BENCH_VERBOSE"))
-        fprintf(stderr,
-                "%3d %-6s top %+6.1f imp %+6.1f ms take %+6.1f tempo %.2f/%.2f hand %.2f/%.2f "
-                "club %.1f/%.1f est %d\n",
-                k, aw_sim_level_name(cfg.level),
-                1e3 * (best->events[AW_EVENT_TOP].t_s - ts->t_top_s),
-                1e3 * (best->events[AW_EVENT_IMPACT].t_s - ts->t_impact_s),
-                1e3 * (best->events[AW_EVENT_TAKEAWAY].t_s - ts->t_takeaway_s),
-                best->metrics[AW_METRIC_TEMPO_RATIO], tempo_true,
-                best->metrics[AW_METRIC_HAND_SPEED_IMPACT_M_S], ts->hand_speed_impact_m_s,
-                best->metrics[AW_METRIC_CLUB_SPEED_IMPACT_M_S], ts->club_speed_impact_m_s,
-                best->events[AW_EVENT_IMPACT].estimated);
-    } else {
-      e.missed++;
-      if (getenv("ARCWISE_BENCH_VERBOSE"))
-        fprintf(stderr, "%3d missed: %s\n", k, err.message);
+    for (int est = 0; est < 2; est++) {
+      BenchPath bp = { 0 };
+      AwTrajectory tr;
+      AwAnalysis *an = NULL;
+      AwFusedPath *fused = NULL;
+      AwStatus st;
+      if (est == 0)
+        st = ideal_path(sim, &bp, &tr) == 0 ? aw_analyze(&tr, &set, &an, &err) : AW_ERR_NO_MEMORY;
+      else
+        st = aw_analyze_capture(aw_sim_imu(sim), aw_sim_depth(sim), NULL, &set, &an, &fused, &err);
+      if (st == AW_OK) {
+        /* The detected swing nearest the true impact. */
+        const AwSwing *best = NULL;
+        for (size_t j = 0; j < an->n_swings; j++)
+          if (best == NULL || fabs(an->swings[j].events[AW_EVENT_IMPACT].t_s - ts->t_impact_s) <
+                                fabs(best->events[AW_EVENT_IMPACT].t_s - ts->t_impact_s))
+            best = &an->swings[j];
+        Errs *E = &e[est];
+        E->found++;
+        size_t i = E->n++;
+        E->top_ms[i] = 1e3 * fabs(best->events[AW_EVENT_TOP].t_s - ts->t_top_s);
+        E->imp_ms[i] = 1e3 * fabs(best->events[AW_EVENT_IMPACT].t_s - ts->t_impact_s);
+        double tempo_true = (ts->t_top_s - ts->t_takeaway_s) / (ts->t_impact_s - ts->t_top_s);
+        E->tempo_pct[i] = 100 * fabs(best->metrics[AW_METRIC_TEMPO_RATIO] / tempo_true - 1);
+        E->hand_pct[i] = 100 * fabs(best->metrics[AW_METRIC_HAND_SPEED_IMPACT_M_S] /
+                                    ts->hand_speed_impact_m_s - 1);
+        E->club_pct[i] = 100 * fabs(best->metrics[AW_METRIC_CLUB_SPEED_IMPACT_M_S] /
+                                    ts->club_speed_impact_m_s - 1);
+        if (est == 1) {
+          /* Sensor trust against the simulator's own record of which frames were lost. */
+          const AwDepthStream *dep = aw_sim_depth(sim);
+          for (int p = 0; p < AW_PHASE_COUNT_; p++) {
+            const AwPhase *ph = &best->phases[p];
+            size_t nf = 0, lost = 0;
+            for (size_t f = 0; f < dep->n; f++)
+              if (dep->t_s[f] >= ph->start_s && dep->t_s[f] <= ph->end_s) {
+                nf++;
+                lost += truth->frame_kind[f] == AW_SIM_FRAME_OCCLUDED_MISSING ||
+                        truth->frame_kind[f] == AW_SIM_FRAME_OCCLUDED_SNAPPED;
+              }
+            if (nf > 0 && lost * 2 > nf) {
+              occl_phases++;
+              occl_imu += ph->dominance == AW_DOMINANCE_IMU;
+            } else if (nf > 0 && lost == 0 && (p == AW_PHASE_ADDRESS || p == AW_PHASE_FINISH)) {
+              clear_still++;
+              clear_still_cam += ph->dominance == AW_DOMINANCE_CAMERA;
+            }
+            if (getenv("ARCWISE_BENCH_VERBOSE"))
+              fprintf(stderr, "    phase %d lost %zu/%zu dom %d dev cm %.2f im %.2f info %.2f\n", p, lost, nf,
+                      ph->dominance, 100 * ph->dev_camera_masked_m, 100 * ph->dev_imu_masked_m,
+                      ph->cam_info_share_mean);
+          }
+        }
+        if (getenv("ARCWISE_BENCH_VERBOSE"))
+          fprintf(stderr,
+                  "%3d %-6s %s top %+6.1f imp %+6.1f ms take %+6.1f tempo %.2f/%.2f hand "
+                  "%.2f/%.2f club %.1f/%.1f est %d\n",
+                  k, aw_sim_level_name(cfg.level), est ? "fused" : "ideal",
+                  1e3 * (best->events[AW_EVENT_TOP].t_s - ts->t_top_s),
+                  1e3 * (best->events[AW_EVENT_IMPACT].t_s - ts->t_impact_s),
+                  1e3 * (best->events[AW_EVENT_TAKEAWAY].t_s - ts->t_takeaway_s),
+                  best->metrics[AW_METRIC_TEMPO_RATIO], tempo_true,
+                  best->metrics[AW_METRIC_HAND_SPEED_IMPACT_M_S], ts->hand_speed_impact_m_s,
+                  best->metrics[AW_METRIC_CLUB_SPEED_IMPACT_M_S], ts->club_speed_impact_m_s,
+                  best->events[AW_EVENT_IMPACT].estimated);
+      } else {
+        e[est].missed++;
+        if (getenv("ARCWISE_BENCH_VERBOSE"))
+          fprintf(stderr, "%3d %s missed: %s\n", k, est ? "fused" : "ideal", err.message);
+      }
+      aw_analysis_free(an);
+      aw_fused_path_free(fused);
+      bench_path_free(&bp);
     }
-    aw_analysis_free(an);
-    bench_path_free(&bp);
     aw_sim_free(sim);
   }
   printf("Swing analysis on %d simulated swings (median/90th percentile of |error|; relative "
          "errors median)\n", n_swings);
   printf("goal               top 10/20 ms  impact 10/20 ms  tempo 3 %%  hand 5 %%  club 8 %%\n");
-  errs_row("ideal", &e, "");
+  errs_row("ideal", &e[0], "");
+  errs_row("fused", &e[1], "");
+  printf("Sensor trust (fused): %zu of %zu phases with most camera frames occluded came out "
+         "IMU-dominated (goal 90 %%); %zu of %zu still phases in clear view camera-dominated\n",
+         occl_imu, occl_phases, clear_still_cam, clear_still);
 
   /* Continuous sessions. */
   size_t truth_total = 0, truth_found = 0, false_found = 0, practice_flag_ok = 0, n_practice = 0;
@@ -284,6 +327,9 @@ arcwise_bench_analysis(int argc, char **argv)
            "%zu of %zu swings found, %zu motions wrongly taken for swings, %zu of %zu practice "
            "swings flagged as practice\n",
            n_sessions, truth_found, truth_total, false_found, practice_flag_ok, n_practice);
-  free(e.top_ms); free(e.imp_ms); free(e.tempo_pct); free(e.hand_pct); free(e.club_pct);
+  for (int est = 0; est < 2; est++) {
+    free(e[est].top_ms); free(e[est].imp_ms); free(e[est].tempo_pct); free(e[est].hand_pct);
+    free(e[est].club_pct);
+  }
   return rc;
 }

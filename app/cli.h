@@ -33,15 +33,20 @@ int arcwise_gui_run(int argc, char **argv);
 
 /* Command entry points (one per cmd-*.c). */
 int arcwise_cmd_inspect(int argc, char **argv);
+int arcwise_cmd_analyze(int argc, char **argv);
+int arcwise_cmd_compare(int argc, char **argv);
 int arcwise_cmd_bench(int argc, char **argv);
 int arcwise_cmd_library(int argc, char **argv);
 int arcwise_cmd_c3d(int argc, char **argv);
+int arcwise_cmd_export(int argc, char **argv);
 int arcwise_cmd_simulate(int argc, char **argv);
+int arcwise_cmd_fuse(int argc, char **argv);
 /* The scenario part of `simulate` (sim-scenario.c). */
 int arcwise_simulate_scenario(const char *path, const char *out_dir);
 
 /* Benchmarks (one per bench-*.c), dispatched by cmd-bench.c. */
 int arcwise_bench_accuracy(int argc, char **argv);
+int arcwise_bench_fuse(int argc, char **argv);
 int arcwise_bench_capture(int argc, char **argv);
 int arcwise_bench_analysis(int argc, char **argv);
 int arcwise_bench_render(int argc, char **argv);   /* with the GUI build only */

@@ -8,6 +8,7 @@
 
 static const ArcwiseCommand benches[] = {
   { "accuracy", "position, sync and event accuracy over seeded swings", arcwise_bench_accuracy },
+  { "fuse", "fusion speed (ns per IMU sample, 4 s to 30 min) and accuracy on seeded swings", arcwise_bench_fuse },
   { "capture", "IMU reader speed on a 10-minute 200 Hz file", arcwise_bench_capture },
   { "analysis", "swing events, tempo, speeds and swing finding on simulated swings", arcwise_bench_analysis },
 #ifdef ARCWISE_HAVE_SCENE

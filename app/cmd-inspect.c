@@ -288,12 +288,12 @@ text_findings(const AwQualityReport *q, AwFindingKind kind, const char *label)
     printf("  %-12s", "");
     switch (kind) {
     case AW_FINDING_GAP:
-      printf("%.4f s to %.4f s: %.1f ms, about %zu samples missing\n", f->t_start_s,
-             f->t_end_s, f->value * 1e3, f->count);
+      printf("%.4f s to %.4f s: %.1f ms, about %zu sample%s missing\n", f->t_start_s,
+             f->t_end_s, f->value * 1e3, f->count, f->count == 1 ? "" : "s");
       break;
     case AW_FINDING_JITTER:
-      printf("%.4f s to %.4f s: %zu intervals, worst %.2f ms off\n", f->t_start_s, f->t_end_s,
-             f->count, f->value * 1e3);
+      printf("%.4f s to %.4f s: %zu interval%s, worst %.2f ms off\n", f->t_start_s,
+             f->t_end_s, f->count, f->count == 1 ? "" : "s", f->value * 1e3);
       break;
     case AW_FINDING_SATURATION: {
       bool acc = (f->axes & AW_SAT_ACCEL) != 0;
@@ -309,7 +309,8 @@ text_findings(const AwQualityReport *q, AwFindingKind kind, const char *label)
       break;
     }
     case AW_FINDING_MISSING_FRAMES:
-      printf("%.4f s to %.4f s: %zu frames\n", f->t_start_s, f->t_end_s, f->count);
+      printf("%.4f s to %.4f s: %zu frame%s\n", f->t_start_s, f->t_end_s, f->count,
+             f->count == 1 ? "" : "s");
       break;
     default:
       break;
@@ -374,39 +375,31 @@ static AwStatus
 inspect_one(const char *path, bool json, AwError *err)
 {
   AwCaptureKind kind;
-  AwStatus st = aw_capture_detect_file(path, &kind, err);
+  AwImuStream *imu = NULL;
+  AwDepthStream *depth = NULL;
+  AwStatus st = aw_capture_read_file(path, &kind, &imu, &depth, err);
   if (st != AW_OK)
     return st;
   AwQualityReport *q = NULL;
   if (kind == AW_CAPTURE_IMU) {
-    AwImuStream *s = NULL;
-    st = aw_imu_read_file(path, &s, err);
-    if (st == AW_OK)
-      st = aw_imu_quality(s, NULL, &q, err);
-    if (st == AW_OK) {
-      if (json)
-        json_report(path, kind, s->meta.units, s->meta.device, s->meta.nominal_rate_hz,
-                    s->meta.accel_range_m_s2, s->meta.gyro_range_rad_s, s->meta.wrist, q);
-      else
-        text_report(path, kind, s->meta.units, s->meta.device, s->meta.nominal_rate_hz,
-                    s->meta.wrist, q);
-    }
-    aw_imu_stream_free(s);
+    st = aw_imu_quality(imu, NULL, &q, err);
+    if (st == AW_OK && json)
+      json_report(path, kind, imu->meta.units, imu->meta.device, imu->meta.nominal_rate_hz,
+                  imu->meta.accel_range_m_s2, imu->meta.gyro_range_rad_s, imu->meta.wrist, q);
+    else if (st == AW_OK)
+      text_report(path, kind, imu->meta.units, imu->meta.device, imu->meta.nominal_rate_hz,
+                  imu->meta.wrist, q);
   } else {
-    AwDepthStream *s = NULL;
-    st = aw_depth_read_file(path, &s, err);
-    if (st == AW_OK)
-      st = aw_depth_quality(s, NULL, &q, err);
-    if (st == AW_OK) {
-      if (json)
-        json_report(path, kind, s->meta.units, s->meta.device, s->meta.nominal_rate_hz, 0, 0,
-                    s->meta.wrist, q);
-      else
-        text_report(path, kind, s->meta.units, s->meta.device, s->meta.nominal_rate_hz,
-                    s->meta.wrist, q);
-    }
-    aw_depth_stream_free(s);
+    st = aw_depth_quality(depth, NULL, &q, err);
+    if (st == AW_OK && json)
+      json_report(path, kind, depth->meta.units, depth->meta.device,
+                  depth->meta.nominal_rate_hz, 0, 0, depth->meta.wrist, q);
+    else if (st == AW_OK)
+      text_report(path, kind, depth->meta.units, depth->meta.device,
+                  depth->meta.nominal_rate_hz, depth->meta.wrist, q);
   }
+  aw_imu_stream_free(imu);
+  aw_depth_stream_free(depth);
   aw_quality_report_free(q);
   return st;
 }

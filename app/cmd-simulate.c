@@ -3,6 +3,7 @@
 #include "cli.h"
 
 #include "arcwise/sim.h"
+#include "arcwise/units.h"
 
 #include <errno.h>
 #include <stdio.h>
@@ -30,6 +31,8 @@ usage(FILE *out)
           "  --left-handed       a left-handed player (lead wrist: right)\n"
           "  --imu-rate HZ       IMU rate (default 100)\n"
           "  --depth-rate HZ     camera frame rate (default 30)\n"
+          "  --gyro-range DPS    gyro full scale, deg/s (level default: 2000, hard 1000)\n"
+          "  --accel-range G     accelerometer full scale, g (level default: 16, hard 8)\n"
           "  --out DIR           output folder\n"
           "\n"
           "       arcwise simulate --scenario FILE --out DIR\n"
@@ -78,7 +81,7 @@ arcwise_cmd_simulate(int argc, char **argv)
   AwSimLevel level = AW_SIM_NORMAL;
   AwSimView view = AW_SIM_FACE_ON;
   long swings = 1;
-  double imu_rate = 0, depth_rate = 0;
+  double imu_rate = 0, depth_rate = 0, gyro_range_dps = 0, accel_range_g = 0;
   const char *out = NULL, *scenario = NULL;
   for (int i = 1; i < argc; i++) {
     const char *a = argv[i];
@@ -119,6 +122,14 @@ arcwise_cmd_simulate(int argc, char **argv)
       if (!parse_double(v, &depth_rate))
         return arcwise_cli_usage_error(cmd, "--depth-rate needs a number (Hz)");
       i++;
+    } else if (strcmp(a, "--gyro-range") == 0) {
+      if (!parse_double(v, &gyro_range_dps) || !(gyro_range_dps >= 125 && gyro_range_dps <= 4000))
+        return arcwise_cli_usage_error(cmd, "--gyro-range needs deg/s from 125 to 4000");
+      i++;
+    } else if (strcmp(a, "--accel-range") == 0) {
+      if (!parse_double(v, &accel_range_g) || !(accel_range_g >= 2 && accel_range_g <= 32))
+        return arcwise_cli_usage_error(cmd, "--accel-range needs g from 2 to 32");
+      i++;
     } else if (strcmp(a, "--left-handed") == 0) {
       left = true;
     } else if (strcmp(a, "--scenario") == 0) {
@@ -153,6 +164,10 @@ arcwise_cmd_simulate(int argc, char **argv)
     c.imu.rate_hz = imu_rate;
   if (depth_rate != 0)
     c.depth.rate_hz = depth_rate;
+  if (gyro_range_dps != 0)
+    c.imu.gyro_range_rad_s = aw_deg_to_rad(gyro_range_dps);
+  if (accel_range_g != 0)
+    c.imu.accel_range_m_s2 = aw_g_to_m_s2(accel_range_g);
   AwError err;
   aw_error_clear(&err);
   AwSim *sim = NULL;

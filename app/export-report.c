@@ -185,14 +185,24 @@ page_table(cairo_t *cr, const ArcwiseReport *r)
     double xr = MARGIN + label_w + col_w * (double)(c + 1) - 4;
     /* Split a long label on its last space. */
     const char *lab = r->columns[c].label;
+    /* One line if it fits, else two at the first space; shrink what is still too wide. */
+    const char *sp = strchr(lab, ' ');
+    char l1[128], l2[128] = "";
     font(cr, 7.5, true);
-    if (width_of(cr, lab) > col_w - 6 && strchr(lab, ' ')) {
-      const char *sp = strchr(lab, ' ');
-      snprintf(buf, sizeof buf, "%.*s", (int)(sp - lab), lab);
-      text_right(cr, xr, y, buf);
-      text_right(cr, xr, y + 9, sp + 1);
+    if (width_of(cr, lab) > col_w - 6 && sp != NULL) {
+      snprintf(l1, sizeof l1, "%.*s", (int)(sp - lab), lab);
+      snprintf(l2, sizeof l2, "%s", sp + 1);
     } else {
-      text_right(cr, xr, y + 9, lab);
+      snprintf(l1, sizeof l1, "%s", lab);
+    }
+    double wmax = fmax(width_of(cr, l1), width_of(cr, l2));
+    double fs = wmax > col_w - 6 ? 7.5 * (col_w - 6) / wmax : 7.5;
+    font(cr, fs, true);
+    if (l2[0]) {
+      text_right(cr, xr, y, l1);
+      text_right(cr, xr, y + 9, l2);
+    } else {
+      text_right(cr, xr, y + 9, l1);
     }
     font(cr, 7, false);
     snprintf(buf, sizeof buf, "%s", r->columns[c].unit && r->columns[c].unit[0]

@@ -10,9 +10,13 @@ static const ArcwiseCommand commands[] = {
   { "inspect", "describe capture files: kind, samples, rate, gaps, saturation", arcwise_cmd_inspect },
   { "library", "the swing library: create, import, list, show, reanalyse, backup, check, ...",
     arcwise_cmd_library },
+  { "analyze", "find the swings in a capture: events, phases, metrics, sensor trust", arcwise_cmd_analyze },
+  { "compare", "lay two swings over each other: path deviation, timing, metric differences", arcwise_cmd_compare },
   { "bench", "run a benchmark and print its figures", arcwise_cmd_bench },
+  { "export", "share swings: numbers (CSV, JSON), report (PDF), C3D, clip (MP4), still (PNG)", arcwise_cmd_export },
   { "c3d", "describe a C3D motion-capture file, extract a marker trajectory", arcwise_cmd_c3d },
   { "simulate", "write a synthetic recording with ground truth", arcwise_cmd_simulate },
+  { "fuse", "fuse an IMU and a depth stream into one hand path with its uncertainty", arcwise_cmd_fuse },
 };
 
 static const size_t n_commands = sizeof commands / sizeof commands[0];

@@ -185,7 +185,7 @@ put_u64(GByteArray *a, guint64 v)
 }
 
 static void
-put_double(GByteArray *a, double d)
+G_GNUC_UNUSED put_double(GByteArray *a, double d)
 {
   guint64 u;
   memcpy(&u, &d, 8);
@@ -258,7 +258,7 @@ get_u32(Reader *r)
 }
 
 static double
-get_double(Reader *r)
+G_GNUC_UNUSED get_double(Reader *r)
 {
   guint64 u = get_u64(r);
   double d;
@@ -366,8 +366,8 @@ arcwise_codec_decode_path(GBytes *blob, GError **error)
   guint64 n = get_u64(&r);
   guint32 report_len = get_u32(&r);
   const guint8 *report = take(&r, report_len);
-  /* Every row takes 23 doubles and one u32: reject a count the data cannot hold. */
-  if (r.bad || n > r.left / 188) {
+  /* Every row takes 21 doubles and one u32 (172 bytes): reject a count the data cannot hold. */
+  if (r.bad || n > r.left / 172) {
     g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_CORRUPT,
                 "stored fused path is truncated");
     return NULL;

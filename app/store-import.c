@@ -180,6 +180,7 @@ arcwise_pipeline_prepare(const char *imu_path, GBytes *imu_bytes, const char *de
     ok = arcwise_prepared_recording_set_raw(r, imu_path, imu_bytes, depth_path, depth_bytes,
                                             error);
   double t0 = ok && depth->n > 0 ? depth->t_s[0] : 0, t1 = ok && depth->n > 0 ? depth->t_s[depth->n - 1] : 0;
+  (void)t0; (void)t1;   /* used only when fusion or analysis is not built */
 
 #if ARCWISE_HAVE_FUSION
   AwFusedPath *path = NULL;

@@ -481,6 +481,8 @@ try_swing(const AwAnWork *w, size_t ipk, AwSwing *s, size_t *next_i)
   /* Impact from the path: the hands pass closest to where they were at address. */
   size_t iimp = itop;
   double dbest = INFINITY;
+  if (t[n - 1] - t[itop] < 0.8 && sp[n - 1] > set->still_speed_m_s)
+    return CAND_CUT_END; /* the recording stops in the downswing */
   for (size_t k = itop; k < n && t[k] - t[itop] <= 0.8; k++) {
     double d = aw_v3_dist(w->traj->pos_m[k], p0);
     if (d < dbest) {

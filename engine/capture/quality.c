@@ -134,6 +134,26 @@ add(Builder *b, const AwFinding *f)
   b->r->findings[b->r->n_findings++] = *f;
 }
 
+static int
+cmp_finding(const void *pa, const void *pb)
+{
+  const AwFinding *a = pa, *b = pb;
+  if (a->kind != b->kind)
+    return a->kind < b->kind ? -1 : 1;
+  if (a->first != b->first)
+    return a->first < b->first ? -1 : 1;
+  return (a->axes > b->axes) - (a->axes < b->axes);
+}
+
+/* Findings grouped by kind, each kind in time order (saturation runs of the two sensors are
+ * found one sensor after the other). */
+static void
+sort_findings(AwQualityReport *r)
+{
+  if (r->n_findings > 1)
+    qsort(r->findings, r->n_findings, sizeof *r->findings, cmp_finding);
+}
+
 void
 aw_quality_report_free(AwQualityReport *r)
 {
@@ -372,6 +392,8 @@ aw_imu_quality(const AwImuStream *s, const AwQualitySettings *settings, AwQualit
     }
   }
   free(flags);
+  if (!b.oom)
+    sort_findings(r);
   if (b.oom) {
     aw_quality_report_free(r);
     return aw_error_set(err, AW_ERR_NO_MEMORY, NULL, 0, 0, "out of memory");

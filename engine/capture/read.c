@@ -174,6 +174,23 @@ span_eq(const char *b, const char *e, const char *word)
   return (size_t)(e - b) == n && memcmp(b, word, n) == 0;
 }
 
+/* ASCII case-insensitive span_eq, for metadata keys and words (never for units: ms vs Ms). */
+static bool
+span_ieq(const char *b, const char *e, const char *word)
+{
+  size_t n = strlen(word);
+  if ((size_t)(e - b) != n)
+    return false;
+  for (size_t i = 0; i < n; i++) {
+    char c = b[i];
+    if (c >= 'A' && c <= 'Z')
+      c = (char)(c - 'A' + 'a');
+    if (c != word[i])
+      return false;
+  }
+  return true;
+}
+
 /* ---- the two formats -------------------------------------------------------------------- */
 
 #define MAX_ROLES 7
@@ -396,8 +413,9 @@ parse_comment(Reader *r, const Line *ln, const char *hash)
   if (ke == kb || colon >= ln->e || *colon != ':')
     return AW_OK;  /* free text */
   int key = -1;
+  /* keys in any case: a "# Units:" line silently ignored would misread the whole file */
   for (int i = 0; i < META_COUNT_; i++)
-    if (span_eq(kb, ke, meta_keys[i]))
+    if (span_ieq(kb, ke, meta_keys[i]))
       key = i;
   if (key < 0)
     return AW_OK;  /* unknown keys are ignored so that newer files still read */
@@ -428,7 +446,13 @@ parse_comment(Reader *r, const Line *ln, const char *hash)
   }
   case META_RATE: {
     double v;
-    if (vb >= ve || aw_capture_parse_double(vb, ve, &v) != AW_NUM_OK || !(v > 0))
+    const char *ne = ve;  /* an optional unit: "100 Hz" */
+    if (ne - vb > 2 && span_ieq(ne - 2, ne, "hz")) {
+      ne -= 2;
+      while (ne > vb && is_blank(ne[-1]))
+        ne--;
+    }
+    if (vb >= ne || aw_capture_parse_double(vb, ne, &v) != AW_NUM_OK || !(v > 0))
       return fail(r, AW_ERR_PARSE, ln->no, col_of(ln, vb),
                   "rate_hz: '%s' is not a positive number of hertz", shown(sb, vb, ve));
     r->rate_hz = v;
@@ -439,9 +463,9 @@ parse_comment(Reader *r, const Line *ln, const char *hash)
   case META_GYRO_RANGE:
     return parse_range_value(r, ln, "gyro_range", vb, ve, gyro_units, &r->gyro_range_rad_s);
   case META_WRIST:
-    if (span_eq(vb, ve, "left"))
+    if (span_ieq(vb, ve, "left"))
       r->wrist = AW_WRIST_LEFT;
-    else if (span_eq(vb, ve, "right"))
+    else if (span_ieq(vb, ve, "right"))
       r->wrist = AW_WRIST_RIGHT;
     else
       return fail(r, AW_ERR_PARSE, ln->no, col_of(ln, vb),
@@ -912,5 +936,28 @@ aw_capture_detect_file(const char *path, AwCaptureKind *kind, AwError *err)
     return st;
   st = aw_capture_detect_buffer(data, len, path, kind, err);
   free(data);
+  return st;
+}
+
+AwStatus
+aw_capture_read_file(const char *path, AwCaptureKind *kind, AwImuStream **imu,
+                     AwDepthStream **depth, AwError *err)
+{
+  if (kind == NULL || imu == NULL || depth == NULL)
+    return aw_error_set(err, AW_ERR_INVALID_ARG, path, 0, 0, "no output");
+  char *data;
+  size_t len;
+  AwStatus st = aw_capture_slurp(path, &data, &len, err);
+  if (st != AW_OK)
+    return st;
+  AwCaptureKind k;
+  st = aw_capture_detect_buffer(data, len, path, &k, err);
+  if (st == AW_OK && k == AW_CAPTURE_IMU)
+    st = aw_imu_read_buffer(data, len, path, imu, err);
+  else if (st == AW_OK)
+    st = aw_depth_read_buffer(data, len, path, depth, err);
+  free(data);
+  if (st == AW_OK)
+    *kind = k;
   return st;
 }

@@ -84,13 +84,16 @@ write_truth(const AwSim *sim, const char *dir, AwError *err)
                "t_end,backswing_s,downswing_s,tempo,hand_speed_impact_m_s,club_speed_impact_m_s,"
                "peak_gyro_deg_s,peak_accel_g,backswing_plane_deg,downswing_plane_deg,"
                "path_yaw_deg,arm_top_deg,hinge_top_deg,arm_length_m,club_length_m,"
-               "lateral_shift_m,roll_rate_impact_deg_s,impact_speed_loss\n");
+               "lateral_shift_m,roll_rate_impact_deg_s,impact_speed_loss,"
+               "back_plane_nx,back_plane_ny,back_plane_nz,down_plane_nx,down_plane_ny,"
+               "down_plane_nz\n");
   for (size_t i = 0; i < tr->n_swings; i++) {
     const AwSimSwing *s = &tr->swings[i];
     const AwSwingStyle *y = &s->style;
     fprintf(o.f,
             "%d,%s,%s,%.6f,%.6f,%.6f,%.6f,%.6f,%.6f,%.6f,%.6f,%.6f,%.4f,%.4f,%.4f,%.1f,%.3f,"
-            "%.3f,%.3f,%.3f,%.3f,%.3f,%.4f,%.4f,%.4f,%.1f,%.4f\n",
+            "%.3f,%.3f,%.3f,%.3f,%.3f,%.4f,%.4f,%.4f,%.1f,%.4f,%.6f,%.6f,%.6f,%.6f,%.6f,"
+            "%.6f\n",
             s->index, s->practice ? (s->half ? "practice-half" : "practice") : "shot",
             y->left_handed ? "left" : "right", s->t_address_s, s->t_takeaway_s,
             s->takeaway_end_s, s->t_top_s, s->t_impact_s, s->t_finish_s, s->t_end_s,
@@ -102,7 +105,10 @@ write_truth(const AwSim *sim, const char *dir, AwError *err)
             y->path_yaw_rad * AW_DEG_PER_RAD, y->arm_top_rad * AW_DEG_PER_RAD,
             y->hinge_top_rad * AW_DEG_PER_RAD, y->arm_length_m, y->club_length_m,
             y->lateral_shift_m, y->roll_rate_impact_rad_s * AW_DEG_PER_RAD,
-            s->practice ? 0.0 : y->impact_speed_loss);
+            s->practice ? 0.0 : y->impact_speed_loss, s->backswing_plane_normal_cam[0],
+            s->backswing_plane_normal_cam[1], s->backswing_plane_normal_cam[2],
+            s->downswing_plane_normal_cam[0], s->downswing_plane_normal_cam[1],
+            s->downswing_plane_normal_cam[2]);
   }
   if ((st = out_close(&o, err)) != AW_OK)
     return st;

@@ -890,6 +890,22 @@ add_swing(Builder *B, const AwSwingStyle *style_in, bool practice, bool half, do
     sw.club_speed_impact_m_s = aw_v3_norm(dv) / 2e-5;
   }
   SimKin k;
+  {
+    /* Plane normals: e_t x e_d of the two-lever model, mirrored for a left-hander, in the
+     * stance heading, then into the camera frame. */
+    double phis[2] = { p.plane_b, p.plane_d }, yaws[2] = { 0, p.yaw_d };
+    for (int pl = 0; pl < 2; pl++) {
+      double cy = cos(yaws[pl]), sy = sin(yaws[pl]), cp = cos(phis[pl]), spn = sin(phis[pl]);
+      double et[3] = { cy, sy, 0 }, ed[3] = { -sy * cp, cy * cp, -spn }, nrm[3];
+      aw_v3_cross(nrm, et, ed);
+      if (sim->left)
+        nrm[0] = -nrm[0];
+      double ch = cos(B->b.heading), sh = sin(B->b.heading);
+      double ng[3] = { ch * nrm[0] - sh * nrm[1], sh * nrm[0] + ch * nrm[1], nrm[2] };
+      aw_mat_mul_v3(pl == 0 ? sw.backswing_plane_normal_cam : sw.downswing_plane_normal_cam,
+                    CM(sim->R_cam_grav), ng);
+    }
+  }
   for (double t = p.t_ta; t <= p.t_fin; t += 5e-4) {
     kin_at(sim, t, &k);
     sw.peak_gyro_rad_s = fmax(sw.peak_gyro_rad_s, aw_v3_norm(k.omega_b));

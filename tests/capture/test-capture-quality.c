@@ -134,9 +134,10 @@ test_saturation(void)
     AW_CHECK(q->n_saturated_gyro == want_gyro);
     AW_CHECK(q->n_saturated == 15 + want_gyro);
     AW_CHECK(count_findings(q, AW_FINDING_SATURATION) == 3);
+    /* in time order: accel at 0.5 s, gyro around 6 s, accel at 7.5 s */
     const AwFinding *a0 = nth_finding(q, AW_FINDING_SATURATION, 0);
-    const AwFinding *a1 = nth_finding(q, AW_FINDING_SATURATION, 1);
-    const AwFinding *g0 = nth_finding(q, AW_FINDING_SATURATION, 2);
+    const AwFinding *g0 = nth_finding(q, AW_FINDING_SATURATION, 1);
+    const AwFinding *a1 = nth_finding(q, AW_FINDING_SATURATION, 2);
     if (a0 != NULL && a1 != NULL && g0 != NULL) {
       AW_CHECK(a0->first == 100 && a0->count == 10 && a0->axes == AW_SAT_AX);
       AW_CHECK_NEAR(a0->t_start_s, 0.5, 1e-12);

@@ -366,6 +366,30 @@ test_rejection_changes_nothing(void)
   AW_CHECK(aw_imu_read_file("/nonexistent/imu.csv", &out, &err) == AW_ERR_IO && out == NULL);
 }
 
+/* Either kind through one call, told from the header. */
+static void
+test_read_any(void)
+{
+  AwCaptureKind kind = AW_CAPTURE_UNKNOWN;
+  AwImuStream *imu = NULL;
+  AwDepthStream *depth = NULL;
+  AwError err;
+  AW_CHECK(aw_capture_read_file(good("imu-basic.csv"), &kind, &imu, &depth, &err) == AW_OK);
+  AW_CHECK(kind == AW_CAPTURE_IMU && imu != NULL && imu->n == 4 && depth == NULL);
+  aw_imu_stream_free(imu);
+  imu = NULL;
+  AW_CHECK(aw_capture_read_file(good("depth-basic.csv"), &kind, &imu, &depth, &err) == AW_OK);
+  AW_CHECK(kind == AW_CAPTURE_DEPTH && depth != NULL && depth->n == 5 && imu == NULL);
+  aw_depth_stream_free(depth);
+  depth = NULL;
+  kind = AW_CAPTURE_UNKNOWN;
+  char bad[1200];
+  snprintf(bad, sizeof bad, "%s/bad/depth-z-far.csv", data_dir);
+  AW_CHECK(aw_capture_read_file(bad, &kind, &imu, &depth, &err) == AW_ERR_RANGE);
+  AW_CHECK(kind == AW_CAPTURE_UNKNOWN && imu == NULL && depth == NULL);
+  AW_CHECK(err.line == 3 && err.column == 14);
+}
+
 /* Under a locale with a decimal comma (as the workbench may run) numbers still use '.'. */
 static void
 test_locale(void)
@@ -398,6 +422,7 @@ main(void)
   test_number_parser();
   test_round_trip();
   test_rejection_changes_nothing();
+  test_read_any();
   test_locale();
   return AW_TEST_END();
 }

@@ -79,6 +79,11 @@ b="$broad/21_undisturbed_fast_combined/imu.csv"
 "$exe" inspect "$a" >"$tmp/broad.txt" || no "inspect text on BROAD failed"
 grep -q '^  samples     52556$' "$tmp/broad.txt" || no "BROAD trial 15 text sample count"
 grep -q '^  rate        285.714 Hz ' "$tmp/broad.txt" || no "BROAD trial 15 text rate"
+# BROAD's optical track (t,x,y,z,qw,qx,qy,qz) is not a depth keypoint stream: no conf column
+o="$broad/15_undisturbed_fast_translation_A/optical.csv"
+"$exe" inspect "$o" >/dev/null 2>"$tmp/err"; [ $? -eq 1 ] || no "optical.csv: exit 1 expected"
+grep -qx "arcwise inspect: $o:1:1: missing required column 'conf' (a depth stream needs t,x,y,z,conf)" \
+  "$tmp/err" || { no "optical.csv message"; cat "$tmp/err"; }
 "$py" - "$tmp/broad.json" "$a" "$b" <<'PY' || fail=1
 import json, sys
 try:

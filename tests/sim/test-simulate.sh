@@ -25,4 +25,15 @@ for bad in "--seed 1 --level medium --out $dir/x" "--seed -3 --level easy --out 
 done
 [ -e "$dir/x" ] && { echo "a rejected command wrote files"; fail=1; }
 "$exe" simulate --help | grep -q 'Usage: arcwise simulate' || fail=1
+# A scenario with a bad line is refused with its place, and leaves no manifest behind.
+printf 'player,p1,A B,right,beginner,20,0.6\nsession,s1,p1,2026-01-01,putter,face-on,easy,1,2,tempo=3\n' >"$dir/bad.csv"
+msg=$("$exe" simulate --scenario "$dir/bad.csv" --out "$dir/scn" 2>&1 >/dev/null)
+rc=$?
+[ "$rc" -eq 1 ] || { echo "bad scenario exited $rc, expected 1"; fail=1; }
+echo "$msg" | grep -q "bad.csv:2:26: unknown club 'putter'" || { echo "unexpected message: $msg"; fail=1; }
+[ -e "$dir/scn/manifest.csv" ] && { echo "a refused scenario left a manifest"; fail=1; }
+printf 'player,p1,A B,right,beginner,20,0.6\nsession,s1,p1,2026-01-01,wedge,face-on,easy,1,2,tempo=3 var=0.5\n' >"$dir/good.csv"
+"$exe" simulate --scenario "$dir/good.csv" --out "$dir/scn" >/dev/null || { echo "good scenario failed"; fail=1; }
+grep -q '^session,s1,p1,2026-01-01,wedge,' "$dir/scn/manifest.csv" || { echo "manifest lacks the session"; fail=1; }
+[ "$(grep -c '^swing,s1,.*,shot,' "$dir/scn/manifest.csv")" -eq 2 ] || { echo "manifest lacks the shots"; fail=1; }
 exit $fail

@@ -101,3 +101,9 @@ AwStatus aw_capture_detect_file(const char *path, AwCaptureKind *kind, AwError *
 
 /* "imu", "depth" or "unknown" (never NULL). */
 const char *aw_capture_kind_to_string(AwCaptureKind kind);
+
+/* Reads a file of either kind, told from its header row, reading the file once. On success
+ * *kind says which, and exactly one of *imu / *depth is set (the other is left untouched); on
+ * failure nothing is set. */
+AwStatus aw_capture_read_file(const char *path, AwCaptureKind *kind, AwImuStream **imu,
+                              AwDepthStream **depth, AwError *err);

@@ -43,6 +43,19 @@ typedef struct {
   double lever_arm_body_m[3];             /* keypoint position relative to the IMU, body frame */
   double max_clock_offset_s;              /* search range for the clock offset */
   AwFusionMask mask;
+  /* Added after the first contract (all physical, see README "Fusion parameters"). */
+  double accel_bias_init_m_s2;            /* 1-sigma accelerometer offset before fusion */
+  double gyro_bias_init_rad_s;            /* 1-sigma gyro offset when no still period is found */
+  double accel_scale_sigma;               /* 1-sigma accelerometer scale/axis error (fraction) */
+  double gyro_scale_sigma;                /* 1-sigma gyro scale/axis error (fraction) */
+  double still_gyro_rad_s;                /* |omega| below this over still_window_s: still */
+  double still_accel_m_s2;                /* | |f| - g | below this over still_window_s: still */
+  double still_window_s;                  /* length of a still window */
+  double zupt_sigma_m_s;                  /* residual wrist speed when "still" */
+  double cam_conf_min;                    /* detections below this confidence count as missing */
+  double gate_recover_s;                  /* after this long of consecutive rejections, re-anchor */
+  double motion_jerk_psd_m2_s5;           /* camera-only motion model; 0 = estimate from data */
+  double lever_arm_sigma_m;               /* 1-sigma of lever_arm_body_m per axis (refined) */
 } AwFusionSettings;
 
 void aw_fusion_settings_default(AwFusionSettings *out);
@@ -60,6 +73,18 @@ typedef struct {
   size_t cam_frames_missing;
   size_t imu_samples_saturated;
   size_t zupt_samples;
+  /* Added after the first contract. */
+  double clock_offset_sigma_s;  /* 1-sigma of the offset estimate (from the correlation peak) */
+  double clock_peak_corr;       /* Pearson correlation of the aligned signals at the peak */
+  double q_cam_body0[4];        /* orientation of the IMU at its first sample, camera frame */
+  bool still_found;             /* a still period was found (gyro bias from it) */
+  double imu_rate_hz;           /* median rates seen */
+  double cam_rate_hz;
+  double cam_nis_mean;          /* mean normalised innovation of accepted frames (3 = consistent) */
+  double motion_jerk_psd_m2_s5; /* the camera-only model's jerk density used */
+  size_t imu_gaps;              /* IMU gaps bridged by the motion model */
+  size_t gate_recoveries;       /* re-anchorings after long rejections */
+  double lever_arm_body_m[3];   /* keypoint relative to the IMU as refined by the filter */
 } AwFusionReport;
 
 typedef struct {
@@ -78,6 +103,15 @@ typedef struct {
 
 AwFusedPath *aw_fused_path_new(size_t n);
 void aw_fused_path_free(AwFusedPath *p);
+
+/* Clock synchronisation alone (stage 1 of aw_fuse), exposed so it can be checked separately:
+ * fills offset, drift, confidence, sigma and peak correlation of *out (other fields untouched).
+ * AW_ERR_NO_OVERLAP when the streams cannot overlap within +-max_clock_offset_s,
+ * AW_ERR_TOO_FEW when there are too few usable camera frames, AW_ERR_NO_CORRELATION when no
+ * offset makes the signals agree. */
+AwStatus aw_fusion_sync_clocks(const AwImuStream *imu, const AwDepthStream *depth,
+                               const AwFusionSettings *settings, AwFusionReport *out,
+                               AwError *err);
 
 /* Runs the whole pipeline. On failure *out stays NULL and err says why. */
 AwStatus aw_fuse(const AwImuStream *imu, const AwDepthStream *depth,

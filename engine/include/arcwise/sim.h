@@ -164,6 +164,12 @@ typedef struct {
   double club_speed_impact_m_s;
   double peak_gyro_rad_s;          /* peak true |omega| of the watch in this swing */
   double peak_accel_m_s2;          /* peak true |specific force| */
+  /* Unit normals (camera frame, pointing up and toward the ball) of the planes the lead wrist
+   * moves in: the backswing plane, and the downswing plane as reached at impact. Both pass
+   * through the hub near the lead shoulder (the hub shifts toward the target in the
+   * downswing). */
+  double backswing_plane_normal_cam[3];
+  double downswing_plane_normal_cam[3];
 } AwSimSwing;
 
 typedef struct {

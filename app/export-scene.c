@@ -1,0 +1,319 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+#include "export-scene.h"
+
+#include "export-file.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#if ARCWISE_HAVE_SCENE
+
+#include <cairo.h>
+
+#include "arcwise-offscreen.h"
+#include "arcwise-scene.h"
+#include "arcwise-swing-model.h"
+
+static char renderer_name[128];
+
+const char *
+arcwise_export_renderer_name(void)
+{
+  return renderer_name;
+}
+
+static bool
+view_of(const char *name, ArcwiseView *out)
+{
+  if (name == NULL || strcmp(name, "face-on") == 0)
+    *out = ARCWISE_VIEW_FACE_ON;
+  else if (strcmp(name, "down-the-line") == 0)
+    *out = ARCWISE_VIEW_DOWN_THE_LINE;
+  else if (strcmp(name, "above") == 0)
+    *out = ARCWISE_VIEW_ABOVE;
+  else
+    return false;
+  return true;
+}
+
+static ArcwiseSwingModel *
+model_of(const AwFusedPath *path, const AwSwing *s, char *err, size_t n)
+{
+  ArcwiseSwingEvents ev = {
+    .address_s = s->events[AW_EVENT_TAKEAWAY].t_s, .top_s = s->events[AW_EVENT_TOP].t_s,
+    .impact_s = s->events[AW_EVENT_IMPACT].t_s, .finish_s = s->events[AW_EVENT_FINISH].t_s,
+  };
+  ArcwiseSwingPlacement pl;
+  arcwise_swing_placement_default(&pl);
+  if (isfinite(s->club_length_m) && s->club_length_m > 0)
+    pl.club_length_m = s->club_length_m;
+  GError *e = NULL;
+  ArcwiseSwingModel *m = arcwise_swing_model_new_from_fused(path, s->t_start_s, s->t_end_s, &ev,
+                                                            &pl, &e);
+  if (m == NULL) {
+    snprintf(err, n, "cannot place the swing in the scene: %s", e ? e->message : "?");
+    g_clear_error(&e);
+  }
+  return m;
+}
+
+/* One offscreen context, scene and up to two models for a job. */
+typedef struct {
+  ArcwiseOffscreen *off;
+  ArcwiseScene *scene;
+  ArcwiseSwingModel *a, *b;
+  ArcwiseCamera cam;
+  ArcwiseSceneOptions opt;
+  double base_a, base_b;      /* depth-clock time of each model's t = 0 */
+  int width, height;
+} Job;
+
+static void
+job_free(Job *j)
+{
+  if (j->off != NULL)
+    arcwise_offscreen_begin(j->off);
+  arcwise_scene_free(j->scene);
+  arcwise_offscreen_free(j->off);
+  arcwise_swing_model_free(j->a);
+  arcwise_swing_model_free(j->b);
+  memset(j, 0, sizeof *j);
+}
+
+static double
+model_base(const AwFusedPath *p, const AwSwing *s)
+{
+  for (size_t i = 0; i < p->n; i++)
+    if (p->t_s[i] >= s->t_start_s)
+      return p->t_s[i];
+  return s->t_start_s;
+}
+
+static bool
+job_init(Job *j, const AwFusedPath *pa, const AwSwing *sa, const AwFusedPath *pb,
+         const AwSwing *sb, const char *view_name, int w, int h, int samples, char *err,
+         size_t n)
+{
+  memset(j, 0, sizeof *j);
+  ArcwiseView view;
+  if (!view_of(view_name, &view)) {
+    snprintf(err, n, "unknown view '%s'", view_name);
+    return false;
+  }
+  j->a = model_of(pa, sa, err, n);
+  if (j->a == NULL)
+    return false;
+  j->base_a = model_base(pa, sa);
+  if (pb != NULL && sb != NULL) {
+    j->b = model_of(pb, sb, err, n);
+    if (j->b == NULL) {
+      job_free(j);
+      return false;
+    }
+    j->base_b = model_base(pb, sb);
+  }
+  GError *e = NULL;
+  j->off = arcwise_offscreen_new(w, h, samples, &e);
+  if (j->off == NULL) {
+    snprintf(err, n, "no offscreen OpenGL 3.3 context: %s", e ? e->message : "?");
+    g_clear_error(&e);
+    job_free(j);
+    return false;
+  }
+  snprintf(renderer_name, sizeof renderer_name, "%s", arcwise_offscreen_get_renderer(j->off));
+  j->scene = arcwise_scene_new(&e);
+  if (j->scene == NULL) {
+    snprintf(err, n, "the 3-D scene failed to start: %s", e ? e->message : "?");
+    g_clear_error(&e);
+    job_free(j);
+    return false;
+  }
+  ArcwiseScenePath sp;
+  arcwise_swing_model_as_path(j->a, &sp);
+  arcwise_scene_set_path(j->scene, 0, &sp);
+  if (j->b) {
+    arcwise_swing_model_as_path(j->b, &sp);
+    arcwise_scene_set_path(j->scene, 1, &sp);
+  }
+  arcwise_scene_options_default(&j->opt);
+  j->opt.handed = j->a->handed;
+  j->opt.show_band = true;
+  j->opt.show_club = j->a->club_m != NULL;
+  j->opt.show_compare = j->b != NULL;
+  j->opt.dim_ahead = true;
+  if (j->a->peak_speed_m_s > 0)
+    j->opt.speed_max_m_s = j->a->peak_speed_m_s;
+  arcwise_camera_preset(&j->cam, view, j->a->handed, j->a->centre_m);
+  j->width = w;
+  j->height = h;
+  return true;
+}
+
+/* t in each model's own clock. */
+static void
+job_draw(Job *j, const double t[2], uint8_t *rgba, size_t stride)
+{
+  j->opt.marker_t_s[0] = (float)t[0];
+  j->opt.marker_t_s[1] = j->b && isfinite(t[1]) ? (float)t[1] : NAN;
+  arcwise_offscreen_begin(j->off);
+  arcwise_scene_draw(j->scene, &j->cam, &j->opt, j->width, j->height);
+  arcwise_offscreen_read_rgba(j->off, rgba, stride);
+}
+
+bool
+arcwise_export_snapshot(const AwFusedPath *path, const AwSwing *s, const char *view, double t_s,
+                        int width, int height, uint8_t *rgba, size_t stride, char *err,
+                        size_t err_size)
+{
+  Job j;
+  if (!job_init(&j, path, s, NULL, NULL, view, width, height, 4, err, err_size))
+    return false;
+  double t[2] = { t_s - j.base_a, NAN };
+  job_draw(&j, t, rgba, stride);
+  job_free(&j);
+  return true;
+}
+
+bool
+arcwise_export_still(const AwFusedPath *path, const AwSwing *s, const AwFusedPath *path_b,
+                     const AwSwing *swing_b, const char *view, double t_s, int width,
+                     int height, const char *out, bool force, char *err, size_t err_size)
+{
+  if (arcwise_out_refuse(out, force, err, err_size))
+    return false;
+  if (width < 16 || height < 16 || width > 8192 || height > 8192) {
+    snprintf(err, err_size, "still size %dx%d: 16 to 8192 pixels a side", width, height);
+    return false;
+  }
+  Job j;
+  if (!job_init(&j, path, s, path_b, swing_b, view, width, height, 4, err, err_size))
+    return false;
+  double t[2] = { t_s - j.base_a, NAN };
+  if (j.b) {
+    /* The compared swing at the same time from impact. */
+    t[1] = (t_s - s->events[AW_EVENT_IMPACT].t_s) + swing_b->events[AW_EVENT_IMPACT].t_s - j.base_b;
+  }
+  size_t stride = (size_t)width * 4;
+  uint8_t *px = malloc(stride * (size_t)height);
+  if (px == NULL) {
+    job_free(&j);
+    snprintf(err, err_size, "out of memory for a %dx%d image", width, height);
+    return false;
+  }
+  job_draw(&j, t, px, stride);
+  job_free(&j);
+  /* cairo's PNG writer (zlib-compressed) from an RGB24 surface. */
+  cairo_surface_t *surf = cairo_image_surface_create(CAIRO_FORMAT_RGB24, width, height);
+  uint8_t *d = cairo_image_surface_get_data(surf);
+  size_t ds = (size_t)cairo_image_surface_get_stride(surf);
+  cairo_surface_flush(surf);
+  for (int y = 0; y < height; y++)
+    for (int x = 0; x < width; x++) {
+      const uint8_t *p = px + (size_t)y * stride + 4 * (size_t)x;
+      uint32_t w = 0xff000000u | (uint32_t)p[0] << 16 | (uint32_t)p[1] << 8 | p[2];
+      memcpy(d + (size_t)y * ds + 4 * (size_t)x, &w, 4);
+    }
+  cairo_surface_mark_dirty(surf);
+  free(px);
+  char *tmp = arcwise_out_tmp_path(out);
+  bool ok = tmp != NULL && cairo_surface_write_to_png(surf, tmp) == CAIRO_STATUS_SUCCESS;
+  cairo_surface_destroy(surf);
+  if (!ok) {
+    snprintf(err, err_size, "%s: cannot write the PNG", out);
+    if (tmp)
+      remove(tmp);
+  } else {
+    ok = arcwise_out_rename(tmp, out, force, err, err_size);
+  }
+  free(tmp);
+  return ok;
+}
+
+static bool
+clip_render(void *user, const double t[2], uint8_t *rgba, int width, int height, size_t stride,
+            char *err, size_t err_size)
+{
+  job_draw(user, t, rgba, stride);
+  return true;
+}
+
+bool
+arcwise_export_clip_swing(const ArcwiseClipRequest *req, const char *out, bool force,
+                          ArcwiseClipProgressFunc progress, void *progress_user,
+                          const atomic_bool *cancel, ArcwiseClipStats *stats, char *err,
+                          size_t err_size)
+{
+  if (arcwise_out_refuse(out, force, err, err_size))
+    return false;
+  Job j;
+  if (!job_init(&j, req->path_a, req->swing_a, req->path_b, req->swing_b, req->view,
+                req->width, req->height, req->samples > 0 ? req->samples : 4, err, err_size))
+    return false;
+  ArcwiseClipSwing a = {
+    .n = j.a->n, .t_s = j.a->t_s, .speed_m_s = j.a->speed_m_s, .phase = j.a->phase,
+    .cam_share = j.a->cam_share, .t0_s = 0, .t1_s = j.a->t_s[j.a->n - 1],
+    .align_s = isfinite(j.a->events.impact_s) ? j.a->events.impact_s : 0, .name = "this swing",
+  };
+  ArcwiseClipSwing b = { 0 };
+  if (j.b) {
+    b = (ArcwiseClipSwing){
+      .n = j.b->n, .t_s = j.b->t_s, .speed_m_s = j.b->speed_m_s, .phase = j.b->phase,
+      .cam_share = j.b->cam_share, .t0_s = 0, .t1_s = j.b->t_s[j.b->n - 1],
+      .align_s = isfinite(j.b->events.impact_s) ? j.b->events.impact_s : 0,
+      .name = "compared swing",
+    };
+  }
+  ArcwiseClipSpec spec = {
+    .width = req->width, .height = req->height, .fps = req->fps > 0 ? req->fps : 30,
+    .slowmo = req->slowmo >= 1 ? req->slowmo : 1, .player = req->player, .date = req->date,
+    .view_name = req->view, .units = req->imperial ? ARCWISE_UNITS_IMPERIAL : ARCWISE_UNITS_METRIC,
+    .overlays = req->overlays, .a = a, .b = j.b ? &b : NULL, .render = clip_render,
+    .render_user = &j, .progress = progress, .progress_user = progress_user, .cancel = cancel,
+  };
+  bool ok = arcwise_clip_export(&spec, out, force, stats, err, err_size);
+  job_free(&j);
+  return ok;
+}
+
+#else /* no scene renderer in this build */
+
+static const char no_scene[] =
+  "this build has no 3-D scene renderer (it needs the GUI build: GTK 4, libepoxy, cglm, EGL)";
+
+const char *
+arcwise_export_renderer_name(void)
+{
+  return "";
+}
+
+bool
+arcwise_export_snapshot(const AwFusedPath *path, const AwSwing *s, const char *view, double t_s,
+                        int width, int height, uint8_t *rgba, size_t stride, char *err,
+                        size_t err_size)
+{
+  snprintf(err, err_size, "%s", no_scene);
+  return false;
+}
+
+bool
+arcwise_export_still(const AwFusedPath *path, const AwSwing *s, const AwFusedPath *path_b,
+                     const AwSwing *swing_b, const char *view, double t_s, int width,
+                     int height, const char *out, bool force, char *err, size_t err_size)
+{
+  snprintf(err, err_size, "%s", no_scene);
+  return false;
+}
+
+bool
+arcwise_export_clip_swing(const ArcwiseClipRequest *req, const char *out, bool force,
+                          ArcwiseClipProgressFunc progress, void *progress_user,
+                          const atomic_bool *cancel, ArcwiseClipStats *stats, char *err,
+                          size_t err_size)
+{
+  snprintf(err, err_size, "%s", no_scene);
+  return false;
+}
+
+#endif

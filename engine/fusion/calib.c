@@ -1,0 +1,461 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* Stage 2: rotation between the camera and the IMU at its first sample, and gravity in the
+ * camera frame.
+ *
+ * With the clocks aligned, the camera's keypoint acceleration and the IMU's specific force obey
+ * a_cam(t) = R_cam_body0 * R_body0_body(t) * f(t) + g_cam, where R_body0_body(t) comes from the
+ * gyro (bias from the longest still period). Both sides are averaged over the same short window
+ * around each frame, then R_cam_body0 is Wahba's problem (Horn's closed form) and g_cam the mean
+ * residual, alternated a few times with |g_cam| held at the local gravity. Frames whose residual
+ * is far beyond the median (occlusion snaps, mis-detections) are dropped for the last round. */
+#include "fusion-internal.h"
+
+#include "arcwise/math3.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+/* Largest eigenvector of a symmetric 4x4 matrix by cyclic Jacobi rotations. */
+static void
+eig4_max(double A[4][4], double v_out[4])
+{
+  double V[4][4] = { { 1, 0, 0, 0 }, { 0, 1, 0, 0 }, { 0, 0, 1, 0 }, { 0, 0, 0, 1 } };
+  for (int sweep = 0; sweep < 50; sweep++) {
+    double off = 0;
+    for (int p = 0; p < 4; p++)
+      for (int q = p + 1; q < 4; q++) off += A[p][q] * A[p][q];
+    if (off < 1e-30) break;
+    for (int p = 0; p < 4; p++)
+      for (int q = p + 1; q < 4; q++) {
+        if (fabs(A[p][q]) < 1e-300) continue;
+        double th = 0.5 * (A[q][q] - A[p][p]) / A[p][q];
+        double t = (th >= 0 ? 1.0 : -1.0) / (fabs(th) + sqrt(th * th + 1));
+        double c = 1 / sqrt(t * t + 1), s = t * c;
+        for (int k = 0; k < 4; k++) {
+          double akp = A[k][p], akq = A[k][q];
+          A[k][p] = c * akp - s * akq;
+          A[k][q] = s * akp + c * akq;
+        }
+        for (int k = 0; k < 4; k++) {
+          double apk = A[p][k], aqk = A[q][k];
+          A[p][k] = c * apk - s * aqk;
+          A[q][k] = s * apk + c * aqk;
+        }
+        for (int k = 0; k < 4; k++) {
+          double vkp = V[k][p], vkq = V[k][q];
+          V[k][p] = c * vkp - s * vkq;
+          V[k][q] = s * vkp + c * vkq;
+        }
+      }
+  }
+  int best = 0;
+  for (int i = 1; i < 4; i++) if (A[i][i] > A[best][best]) best = i;
+  for (int k = 0; k < 4; k++) v_out[k] = V[k][best];
+}
+
+void
+aw_fusion_wahba(double B[3][3], double q[4])
+{
+  /* B. K. P. Horn, "Closed-form solution of absolute orientation using unit quaternions",
+   * J. Opt. Soc. Am. A 4(4):629-642 (1987), eq. for N with S = sum b a^T. */
+  double Sxx = B[0][0], Sxy = B[0][1], Sxz = B[0][2];
+  double Syx = B[1][0], Syy = B[1][1], Syz = B[1][2];
+  double Szx = B[2][0], Szy = B[2][1], Szz = B[2][2];
+  double N[4][4] = {
+    { Sxx + Syy + Szz, Syz - Szy, Szx - Sxz, Sxy - Syx },
+    { Syz - Szy, Sxx - Syy - Szz, Sxy + Syx, Szx + Sxz },
+    { Szx - Sxz, Sxy + Syx, -Sxx + Syy - Szz, Syz + Szy },
+    { Sxy - Syx, Szx + Sxz, Syz + Szy, -Sxx - Syy + Szz },
+  };
+  eig4_max(N, q);
+  if (q[0] < 0) for (int k = 0; k < 4; k++) q[k] = -q[k];
+  aw_quat_normalize(q);
+}
+
+static int
+cmp_dbl(const void *a, const void *b)
+{
+  double x = *(const double *)a, y = *(const double *)b;
+  return (x > y) - (x < y);
+}
+
+/* Camera-fit operator applied to the double integral of f_b0 (exact for f linear between
+ * samples), so both sides of a_cam = R f_b0 + g pass through the same linear filter. */
+typedef struct {
+  const double *tau;
+  const double (*fb0)[3], (*vb0)[3], (*pb0)[3];
+  const double (*qb0)[4];   /* attitude of the body relative to its first sample */
+  size_t n;
+  const AwCamPrep *cam;
+  const size_t *frames;   /* camera frames used */
+  size_t m;
+} WCtx;
+
+static bool
+w_imu_acc(const WCtx *w, size_t k, double shift, size_t *hint, double out[3], double M[3][3])
+{
+  const AwCamPrep *cam = w->cam;
+  out[0] = out[1] = out[2] = 0;
+  memset(M, 0, sizeof(double) * 9);
+  for (size_t q = cam->wstart[k]; q < cam->wstart[k + 1]; q++) {
+    double t = cam->t_s[cam->widx[q]] - shift;
+    if (t < w->tau[0] || t > w->tau[w->n - 1]) return false;
+    size_t i = aw_fusion_locate(w->tau, w->n, t, hint);
+    if (i + 1 >= w->n) i = w->n - 2;
+    double dt = w->tau[i + 1] - w->tau[i], u = t - w->tau[i];
+    for (int a = 0; a < 3; a++) {
+      double f0 = w->fb0[i][a], f1 = w->fb0[i + 1][a];
+      double pj = w->pb0[i][a] + u * w->vb0[i][a] + 0.5 * u * u * f0 + u * u * u * (f1 - f0) / (6 * dt);
+      out[a] += cam->wval[q] * pj;
+    }
+    /* the lever term: the fit operator on R_b0_body(t) */
+    double r = u / dt, qi[4], R[3][3];
+    for (int c = 0; c < 4; c++) qi[c] = (1 - r) * w->qb0[i][c] + r * w->qb0[i + 1][c];
+    aw_quat_normalize(qi);
+    aw_quat_to_mat(R, qi);
+    for (int a = 0; a < 3; a++)
+      for (int c = 0; c < 3; c++) M[a][c] += cam->wval[q] * R[a][c];
+  }
+  return true;
+}
+
+/* Wahba's problem at a clock shift, with the lever arm l (body frame) solved alternately:
+ * a_cam_k = R (F_k + M_k l) + g. Returns the residual rms. */
+static double
+w_resid(const WCtx *w, double shift, double q_out[4], double g_out[3], double l_out[3])
+{
+  double (*F)[3] = malloc(sizeof *F * (w->m ? w->m : 1));
+  double (*M)[3][3] = malloc(sizeof *M * (w->m ? w->m : 1));
+  unsigned char *ok = malloc(w->m ? w->m : 1);
+  if (!F || !M || !ok) { free(F); free(M); free(ok); return INFINITY; }
+  size_t cnt = 0, hint = 0;
+  for (size_t j = 0; j < w->m; j++) {
+    ok[j] = w_imu_acc(w, w->frames[j], shift, &hint, F[j], M[j]);
+    cnt += ok[j];
+  }
+  if (cnt < 10) { free(F); free(M); free(ok); return INFINITY; }
+  double l[3] = { 0, 0, 0 }, q[4] = { 1, 0, 0, 0 }, R[3][3], g[3] = { 0, 0, 0 }, rms = INFINITY;
+  for (int it = 0; it < 5; it++) {
+    double ac[3] = { 0 }, fc[3] = { 0 };
+    double (*Fl)[3] = F;   /* F + M l computed in place below into a temporary */
+    double tmpc[3];
+    for (size_t j = 0; j < w->m; j++) {
+      if (!ok[j]) continue;
+      aw_v3_add(ac, ac, w->cam->acc_m_s2[w->frames[j]]);
+      aw_mat_mul_v3(tmpc, (const double (*)[3])M[j], l);
+      for (int c = 0; c < 3; c++) fc[c] += Fl[j][c] + tmpc[c];
+    }
+    aw_v3_scale(ac, ac, 1.0 / (double)cnt);
+    aw_v3_scale(fc, fc, 1.0 / (double)cnt);
+    double B[3][3] = { { 0 } };
+    for (size_t j = 0; j < w->m; j++) {
+      if (!ok[j]) continue;
+      const double *a = w->cam->acc_m_s2[w->frames[j]];
+      double fl[3];
+      aw_mat_mul_v3(fl, (const double (*)[3])M[j], l);
+      for (int c = 0; c < 3; c++) fl[c] += F[j][c];
+      for (int r = 0; r < 3; r++)
+        for (int c = 0; c < 3; c++) B[r][c] += (fl[r] - fc[r]) * (a[c] - ac[c]);
+    }
+    aw_fusion_wahba(B, q);
+    aw_quat_to_mat(R, q);
+    double Rf[3];
+    aw_mat_mul_v3(Rf, (const double (*)[3])R, fc);
+    aw_v3_sub(g, ac, Rf);
+    /* residual, and the normal equations for l: R^T (a - g) - F = M l */
+    double N[3][3] = { { 0 } }, bv[3] = { 0 }, ss = 0;
+    for (size_t j = 0; j < w->m; j++) {
+      if (!ok[j]) continue;
+      const double *a = w->cam->acc_m_s2[w->frames[j]];
+      double d[3], y[3], fl[3], e[3], Rfl[3];
+      aw_v3_sub(d, a, g);
+      aw_mat_tmul_v3(y, (const double (*)[3])R, d);
+      aw_mat_mul_v3(fl, (const double (*)[3])M[j], l);
+      for (int c = 0; c < 3; c++) fl[c] += F[j][c];
+      aw_mat_mul_v3(Rfl, (const double (*)[3])R, fl);
+      for (int c = 0; c < 3; c++) e[c] = d[c] - Rfl[c];
+      ss += aw_v3_dot(e, e);
+      for (int r = 0; r < 3; r++) {
+        double yr = y[r] - F[j][r];
+        for (int c = 0; c < 3; c++) {
+          bv[c] += M[j][r][c] * yr;
+          for (int k = 0; k < 3; k++) N[c][k] += M[j][r][c] * M[j][r][k];
+        }
+      }
+    }
+    rms = sqrt(ss / (double)cnt);
+    if (it == 1 && cnt > 20) {
+      /* Trim frames far off the fit (snapped or mis-detected keypoints agree with their
+       * neighbours, so the local fit keeps them; the rotation does not explain them). */
+      double *e2 = malloc(sizeof *e2 * cnt), *ev = malloc(sizeof *ev * w->m);
+      if (e2 && ev) {
+        size_t c2 = 0;
+        for (size_t j = 0; j < w->m; j++) {
+          ev[j] = INFINITY;
+          if (!ok[j]) continue;
+          const double *a = w->cam->acc_m_s2[w->frames[j]];
+          double d[3], fl[3], Rfl[3], e[3];
+          aw_v3_sub(d, a, g);
+          aw_mat_mul_v3(fl, (const double (*)[3])M[j], l);
+          for (int c = 0; c < 3; c++) fl[c] += F[j][c];
+          aw_mat_mul_v3(Rfl, (const double (*)[3])R, fl);
+          for (int c = 0; c < 3; c++) e[c] = d[c] - Rfl[c];
+          ev[j] = aw_v3_norm(e);
+          e2[c2++] = ev[j];
+        }
+        qsort(e2, c2, sizeof *e2, cmp_dbl);
+        double lim = 3.0 * e2[c2 / 2] + 0.5;
+        size_t kept = 0;
+        for (size_t j = 0; j < w->m; j++) if (ok[j] && ev[j] <= lim) kept++;
+        if (kept >= 10) {
+          for (size_t j = 0; j < w->m; j++) if (ok[j] && ev[j] > lim) ok[j] = 0;
+          cnt = kept;
+        }
+      }
+      free(e2);
+      free(ev);
+    }
+    /* Ridge toward zero: a lever arm is centimetres; motion without rotation cannot see it. */
+    double tr = N[0][0] + N[1][1] + N[2][2];
+    for (int c = 0; c < 3; c++) N[c][c] += 1e-3 * tr + 1e-6;
+    double det = N[0][0] * (N[1][1] * N[2][2] - N[1][2] * N[2][1]) -
+                 N[0][1] * (N[1][0] * N[2][2] - N[1][2] * N[2][0]) +
+                 N[0][2] * (N[1][0] * N[2][1] - N[1][1] * N[2][0]);
+    if (!(fabs(det) > 0)) break;
+    for (int col = 0; col < 3; col++) {
+      double T[3][3];
+      memcpy(T, N, sizeof T);
+      for (int r = 0; r < 3; r++) T[r][col] = bv[r];
+      l[col] = (T[0][0] * (T[1][1] * T[2][2] - T[1][2] * T[2][1]) -
+                T[0][1] * (T[1][0] * T[2][2] - T[1][2] * T[2][0]) +
+                T[0][2] * (T[1][0] * T[2][1] - T[1][1] * T[2][0])) / det;
+    }
+    double ln = aw_v3_norm(l);
+    if (ln > 0.3) aw_v3_scale(l, l, 0.3 / ln);   /* beyond any watch-to-wrist distance */
+  }
+  if (q_out) memcpy(q_out, q, sizeof q);
+  if (g_out) aw_v3_copy(g_out, g);
+  if (l_out) aw_v3_copy(l_out, l);
+  free(F);
+  free(M);
+  free(ok);
+  return rms;
+}
+
+AwStatus
+aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam,
+                    const AwFusionSettings *s, double g, const double g_cam0[3], AwCalib *out,
+                    AwError *err)
+{
+  memset(out, 0, sizeof *out);
+  size_t n = imu->n;
+  /* Gyro bias: mean rate over the longest still run. */
+  size_t best_a = 0, best_len = 0;
+  for (size_t i = 0; i < n;) {
+    if (!imu->still[i]) { i++; continue; }
+    size_t j = i;
+    while (j < n && imu->still[j]) j++;
+    if (j - i > best_len) { best_len = j - i; best_a = i; }
+    i = j;
+  }
+  if (best_len > 0) {
+    double m[3] = { 0 };
+    for (size_t i = best_a; i < best_a + best_len; i++)
+      for (int a = 0; a < 3; a++) m[a] += imu->w[i][a];
+    for (int a = 0; a < 3; a++) out->gyro_bias_rad_s[a] = m[a] / (double)best_len;
+    out->still_found = true;
+  }
+  /* Attitude relative to the first sample, and the specific force in that frame. */
+  double (*fb0)[3] = malloc(sizeof *fb0 * n);
+  double (*cum)[3] = malloc(sizeof *cum * n);
+  double (*qb0)[4] = malloc(sizeof *qb0 * n);
+  if (!fb0 || !cum || !qb0) { free(fb0); free(cum); free(qb0); return AW_ERR_NO_MEMORY; }
+  double q[4] = { 1, 0, 0, 0 };
+  size_t n_ok = n;   /* samples before the first IMU gap: the gyro chain is unbroken there */
+  for (size_t i = 0; i < n; i++) {
+    if (i > 0) {
+      double dt = tau[i] - tau[i - 1];
+      if (dt > 3 * imu->dt_nom_s + 0.02 && n_ok == n) n_ok = i;
+      double rv[3], dq[4];
+      for (int a = 0; a < 3; a++)
+        rv[a] = 0.5 * (imu->w[i][a] + imu->w[i - 1][a]) * dt - out->gyro_bias_rad_s[a] * dt;
+      aw_quat_from_rotvec(dq, rv);
+      aw_quat_mul(q, q, dq);
+      aw_quat_normalize(q);
+    }
+    aw_quat_rotate(fb0[i], q, imu->f[i]);
+    memcpy(qb0[i], q, sizeof q);
+    if (i == 0) memset(cum[0], 0, sizeof cum[0]);
+    else
+      for (int a = 0; a < 3; a++)
+        cum[i][a] = cum[i - 1][a] + 0.5 * (tau[i] - tau[i - 1]) * (fb0[i][a] + fb0[i - 1][a]);
+  }
+  /* Clock refinement: the shift of the IMU clock that best explains the camera's acceleration
+   * vectors by one rotation (a far sharper criterion than the magnitudes of stage 1). */
+  out->clock_shift_s = 0;
+  {
+    double (*pb0)[3] = malloc(sizeof *pb0 * n);
+    size_t *frames = malloc(sizeof *frames * (cam->n ? cam->n : 1));
+    if (pb0 && frames) {
+      pb0[0][0] = pb0[0][1] = pb0[0][2] = 0;
+      for (size_t i = 1; i < n; i++) {
+        double dt = tau[i] - tau[i - 1];
+        for (int a = 0; a < 3; a++)
+          pb0[i][a] = pb0[i - 1][a] + dt * cum[i - 1][a] + dt * dt * (2 * fb0[i - 1][a] + fb0[i][a]) / 6.0;
+      }
+      size_t m0 = 0;
+      double t_first0 = NAN;
+      for (size_t k = 0; k < cam->n; k++) {
+        if (!cam->acc_ok[k]) continue;
+        double tk = cam->t_s[k];
+        if (n_ok < 2 || tk - 0.25 < tau[0] || tk + 0.25 > tau[n_ok - 1]) continue;
+        if (isnan(t_first0)) t_first0 = tk;
+        if (tk > t_first0 + 20.0) break;
+        frames[m0++] = k;
+      }
+      WCtx w = { tau, (const double (*)[3])fb0, (const double (*)[3])cum, (const double (*)[3])pb0,
+                 (const double (*)[4])qb0, n_ok, cam, frames, m0 };
+      if (m0 >= 10) {
+        double best = 0, br = INFINITY, step = 0.005;
+        for (int j = -10; j <= 10; j++) {
+          double r = w_resid(&w, j * step, NULL, NULL, NULL);
+          if (r < br) { br = r; best = j * step; }
+        }
+        for (int lev = 0; lev < 2; lev++) {
+          double c0 = best;
+          for (int j = -5; j <= 5; j++) {
+            double sh = c0 + j * step / 5.0, r = w_resid(&w, sh, NULL, NULL, NULL);
+            if (r < br) { br = r; best = sh; }
+          }
+          step /= 5.0;
+        }
+        double rm = w_resid(&w, best - step, NULL, NULL, NULL), rp = w_resid(&w, best + step, NULL, NULL, NULL);
+        double den = rm - 2 * br + rp;
+        if (den > 0 && isfinite(den)) {
+          double d = 0.5 * (rm - rp) / den;
+          if (fabs(d) <= 1) best += d * step;
+        }
+        if (isfinite(br)) {
+          out->clock_shift_s = best;
+          /* The rotation, gravity and lever arm of the joint solution at that shift. */
+          double qq[4], gg[3], ll[3];
+          if (isfinite(w_resid(&w, best, qq, gg, ll))) {
+            memcpy(out->q_cam_body0, qq, sizeof qq);
+            aw_v3_copy(out->g_cam_m_s2, gg);
+            aw_v3_copy(out->lever_body_m, ll);
+            out->have_joint = true;
+          }
+        }
+      }
+    }
+    free(pb0);
+    free(frames);
+  }
+  /* Pairs over the first 20 s of overlapping frames: long enough to see varied accelerations,
+   * short enough that an uncorrected gyro bias rotates the chain little. */
+  size_t m = 0, cap = cam->n;
+  double (*A)[3] = malloc(sizeof *A * (cap ? cap : 1));
+  double (*F)[3] = malloc(sizeof *F * (cap ? cap : 1));
+  double *res = malloc(sizeof *res * (cap ? cap : 1));
+  unsigned char *use = malloc(cap ? cap : 1);
+  if (!A || !F || !res || !use) {
+    free(fb0); free(cum); free(A); free(F); free(res); free(use);
+    return AW_ERR_NO_MEMORY;
+  }
+  double h = 0.5 * cam->fit_half_s, t_first = NAN;
+  size_t hint = 0;
+  for (size_t k = 0; k < cam->n; k++) {
+    if (!cam->acc_ok[k]) continue;
+    double tk = cam->t_s[k];
+    if (n_ok < 2 || tk + h > tau[n_ok - 1]) continue;
+    if (!isnan(t_first) && tk > t_first + 20.0) break;
+    double fm[3];
+    if (!aw_fusion_box_mean(tau, cum, fb0, n_ok,
+                            tk - out->clock_shift_s - h, tk - out->clock_shift_s + h, &hint, fm))
+      continue;
+    if (isnan(t_first)) t_first = tk;
+    aw_v3_copy(A[m], cam->acc_m_s2[k]);
+    aw_v3_copy(F[m], fm);
+    use[m] = 1;
+    m++;
+  }
+  free(fb0);
+  free(cum);
+  free(qb0);
+  if (m < 10) {
+    free(A); free(F); free(res); free(use);
+    return aw_error_set(err, AW_ERR_TOO_FEW, "depth", 0, 0,
+                        "only %zu camera frames overlap the IMU for the camera-to-gravity "
+                        "calibration", m);
+  }
+  double gc[3];
+  if (g_cam0 && isfinite(g_cam0[0])) aw_v3_copy(gc, g_cam0);
+  else {
+    /* No gravity from the sync stage: start from the centroid form of the problem. */
+    double ac[3] = { 0 }, fc[3] = { 0 }, B[3][3] = { { 0 } };
+    for (size_t i = 0; i < m; i++) { aw_v3_axpy(ac, 1.0 / (double)m, A[i]); aw_v3_axpy(fc, 1.0 / (double)m, F[i]); }
+    for (size_t i = 0; i < m; i++)
+      for (int r = 0; r < 3; r++)
+        for (int c = 0; c < 3; c++) B[r][c] += (F[i][r] - fc[r]) * (A[i][c] - ac[c]);
+    double q0[4], Rf[3];
+    aw_fusion_wahba(B, q0);
+    aw_quat_rotate(Rf, q0, fc);
+    aw_v3_sub(gc, ac, Rf);
+    double ng = aw_v3_norm(gc);
+    if (ng > 0) aw_v3_scale(gc, gc, g / ng); else aw_v3_set(gc, 0, g, 0);
+  }
+  double qc[4] = { 1, 0, 0, 0 };
+  for (int it = 0; it < 6; it++) {
+    double B[3][3] = { { 0 } };
+    for (size_t i = 0; i < m; i++) {
+      if (!use[i]) continue;
+      for (int r = 0; r < 3; r++)
+        for (int c = 0; c < 3; c++) B[r][c] += F[i][r] * (A[i][c] - gc[c]);
+    }
+    aw_fusion_wahba(B, qc);
+    double mg[3] = { 0 };
+    size_t mu = 0;
+    for (size_t i = 0; i < m; i++) {
+      double Rf[3], r[3];
+      aw_quat_rotate(Rf, qc, F[i]);
+      aw_v3_sub(r, A[i], Rf);
+      if (use[i]) { aw_v3_add(mg, mg, r); mu++; }
+      double e[3];
+      aw_v3_sub(e, r, gc);
+      res[i] = aw_v3_norm(e);
+    }
+    aw_v3_scale(mg, mg, 1.0 / (double)(mu ? mu : 1));
+    double ng = aw_v3_norm(mg);
+    if (ng > 0.3 * g) aw_v3_scale(gc, mg, g / ng);
+    if (it == 3) {
+      /* Robust round: drop frames far beyond the typical residual. */
+      double *tmp = malloc(sizeof *tmp * m);
+      if (tmp) {
+        memcpy(tmp, res, sizeof *tmp * m);
+        /* median by partial selection sort is fine for a few hundred values; use nth via qsort */
+        for (size_t a = 0; a <= m / 2; a++)
+          for (size_t b = a + 1; b < m; b++)
+            if (tmp[b] < tmp[a]) { double t = tmp[a]; tmp[a] = tmp[b]; tmp[b] = t; }
+        double med = tmp[m / 2];
+        free(tmp);
+        for (size_t i = 0; i < m; i++) use[i] = res[i] <= 3.0 * med + 0.5;
+      }
+    }
+  }
+  double ss = 0;
+  size_t mu = 0;
+  for (size_t i = 0; i < m; i++) if (use[i]) { ss += res[i] * res[i]; mu++; }
+  out->resid_rms_m_s2 = sqrt(ss / (double)(mu ? mu : 1));
+  if (out->have_joint) {
+    double ng = aw_v3_norm(out->g_cam_m_s2);
+    if (ng > 0.5 * g) aw_v3_scale(out->g_cam_m_s2, out->g_cam_m_s2, g / ng);
+    else aw_v3_copy(out->g_cam_m_s2, gc);
+  } else {
+    memcpy(out->q_cam_body0, qc, sizeof qc);
+    aw_v3_copy(out->g_cam_m_s2, gc);
+  }
+  free(A); free(F); free(res); free(use);
+  (void)s;
+  return AW_OK;
+}

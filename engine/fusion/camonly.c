@@ -1,0 +1,282 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* Camera-only estimate: a white-jerk motion model (position, velocity, acceleration per camera
+ * axis; Y. Bar-Shalom, X. R. Li, T. Kirubarajan, "Estimation with Applications to Tracking and
+ * Navigation", Wiley 2001, section 6.2.3) through a Kalman filter with the same depth-dependent
+ * camera noise and chi-square gate as the fusion, and a Rauch-Tung-Striebel smoother. It is the
+ * output when the IMU is masked and the reference for the camera's share of the information.
+ *
+ * The filter runs at the camera's frames (storage proportional to the frames) and the smoothed
+ * state is then interpolated onto the IMU grid by the smoother's own recursion between two
+ * frames, which is exact for this model. The jerk density is estimated from the frames by the
+ * method of moments on third differences: for white jerk of density q sampled every h seconds,
+ * Var(third difference) = (11/20) q h^5 (the integral of the squared quadratic B-spline), plus
+ * 20 sigma^2 of camera noise. */
+#include "fusion-internal.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+typedef struct { double x[3], P[3][3]; } Ax;
+
+static void
+predict(Ax *in, double dt, double q, Ax *out)
+{
+  double F[3][3] = { { 1, dt, 0.5 * dt * dt }, { 0, 1, dt }, { 0, 0, 1 } };
+  double d2 = dt * dt, d3 = d2 * dt, d4 = d3 * dt, d5 = d4 * dt;
+  double Q[3][3] = { { d5 / 20, d4 / 8, d3 / 6 }, { d4 / 8, d3 / 3, d2 / 2 }, { d3 / 6, d2 / 2, dt } };
+  double FP[3][3];
+  for (int r = 0; r < 3; r++) {
+    out->x[r] = 0;
+    for (int c = 0; c < 3; c++) {
+      out->x[r] += F[r][c] * in->x[c];
+      FP[r][c] = 0;
+      for (int k = 0; k < 3; k++) FP[r][c] += F[r][k] * in->P[k][c];
+    }
+  }
+  double sdt = dt >= 0 ? 1.0 : -1.0;   /* backward extrapolation still adds noise */
+  for (int r = 0; r < 3; r++)
+    for (int c = 0; c < 3; c++) {
+      double a = 0;
+      for (int k = 0; k < 3; k++) a += FP[r][k] * F[c][k];
+      out->P[r][c] = a + sdt * q * Q[r][c];
+    }
+}
+
+static bool
+inv3s(double A[3][3], double Ai[3][3])
+{
+  double c00 = A[1][1] * A[2][2] - A[1][2] * A[2][1];
+  double c01 = A[1][2] * A[2][0] - A[1][0] * A[2][2];
+  double c02 = A[1][0] * A[2][1] - A[1][1] * A[2][0];
+  double det = A[0][0] * c00 + A[0][1] * c01 + A[0][2] * c02;
+  if (!(fabs(det) > 1e-300)) return false;
+  double id = 1.0 / det;
+  Ai[0][0] = c00 * id; Ai[0][1] = (A[0][2] * A[2][1] - A[0][1] * A[2][2]) * id;
+  Ai[0][2] = (A[0][1] * A[1][2] - A[0][2] * A[1][1]) * id;
+  Ai[1][0] = c01 * id; Ai[1][1] = (A[0][0] * A[2][2] - A[0][2] * A[2][0]) * id;
+  Ai[1][2] = (A[0][2] * A[1][0] - A[0][0] * A[1][2]) * id;
+  Ai[2][0] = c02 * id; Ai[2][1] = (A[0][1] * A[2][0] - A[0][0] * A[2][1]) * id;
+  Ai[2][2] = (A[0][0] * A[1][1] - A[0][1] * A[1][0]) * id;
+  return true;
+}
+
+/* RTS step: smoothed s at t given filtered f at t, prediction p of the next knot from f,
+ * and the next knot's smoothed sn; dt from t to the next knot. */
+static void
+rts(Ax *f, Ax *p, Ax *sn, double dt, Ax *s)
+{
+  double F[3][3] = { { 1, dt, 0.5 * dt * dt }, { 0, 1, dt }, { 0, 0, 1 } };
+  double Pi[3][3], PFt[3][3], G[3][3];
+  if (!inv3s(p->P, Pi)) { *s = *f; return; }
+  for (int r = 0; r < 3; r++)
+    for (int c = 0; c < 3; c++) {
+      PFt[r][c] = 0;
+      for (int k = 0; k < 3; k++) PFt[r][c] += f->P[r][k] * F[c][k];
+    }
+  for (int r = 0; r < 3; r++)
+    for (int c = 0; c < 3; c++) {
+      G[r][c] = 0;
+      for (int k = 0; k < 3; k++) G[r][c] += PFt[r][k] * Pi[k][c];
+    }
+  double dx[3], dP[3][3], GdP[3][3];
+  for (int r = 0; r < 3; r++) {
+    dx[r] = sn->x[r] - p->x[r];
+    for (int c = 0; c < 3; c++) dP[r][c] = sn->P[r][c] - p->P[r][c];
+  }
+  for (int r = 0; r < 3; r++) {
+    s->x[r] = f->x[r];
+    for (int k = 0; k < 3; k++) s->x[r] += G[r][k] * dx[k];
+    for (int c = 0; c < 3; c++) {
+      GdP[r][c] = 0;
+      for (int k = 0; k < 3; k++) GdP[r][c] += G[r][k] * dP[k][c];
+    }
+  }
+  for (int r = 0; r < 3; r++)
+    for (int c = 0; c < 3; c++) {
+      double a = f->P[r][c];
+      for (int k = 0; k < 3; k++) a += GdP[r][k] * G[c][k];
+      s->P[r][c] = a;
+    }
+  for (int r = 0; r < 3; r++)
+    for (int c = r + 1; c < 3; c++) { double m = 0.5 * (s->P[r][c] + s->P[c][r]); s->P[r][c] = m; s->P[c][r] = m; }
+}
+
+static void
+noise_var(const AwFusionSettings *s, const double p[3], double conf, double var[3])
+{
+  double z = fmax(p[2], 0.1);
+  double sxy = s->cam_sigma_xy_m * z, sz = s->cam_sigma_z_coeff_per_m * z * z;
+  double w = 1.0 / fmax(conf, 0.05);
+  var[0] = var[1] = sxy * sxy * w;
+  var[2] = sz * sz * w;
+}
+
+static int
+cmp_d(const void *a, const void *b)
+{
+  double x = *(const double *)a, y = *(const double *)b;
+  return (x > y) - (x < y);
+}
+
+static double
+estimate_jerk_psd(const AwCamPrep *cam, const AwFusionSettings *s)
+{
+  size_t cap = cam->n, m = 0;
+  double *e = malloc(sizeof *e * (cap ? cap : 1));
+  if (!e) return 1e4;
+  double h = cam->dt_nom_s, raw = 0;
+  for (size_t k = 0; k + 3 < cam->n; k++) {
+    if (!cam->valid[k] || !cam->valid[k + 1] || !cam->valid[k + 2] || !cam->valid[k + 3]) continue;
+    bool even = true;
+    for (int j = 0; j < 3; j++) {
+      double d = cam->t_s[k + j + 1] - cam->t_s[k + j];
+      if (fabs(d - h) > 0.2 * h) even = false;
+    }
+    if (!even) continue;
+    double sum = 0;
+    for (int a = 0; a < 3; a++) {
+      double d3 = cam->pos_m[k + 3][a] - 3 * cam->pos_m[k + 2][a] + 3 * cam->pos_m[k + 1][a] - cam->pos_m[k][a];
+      double var[3];
+      noise_var(s, cam->pos_m[k + 1], cam->conf ? cam->conf[k + 1] : 1, var);
+      sum += d3 * d3 - 20 * var[a];
+      raw += d3 * d3;
+    }
+    e[m++] = sum / 3.0;
+  }
+  double q = 1e4;
+  if (m >= 5) {
+    /* Mean after dropping values beyond 50 times the median (identity swaps, snaps). */
+    double *t = malloc(sizeof *t * m);
+    if (t) {
+      memcpy(t, e, sizeof *t * m);
+      qsort(t, m, sizeof *t, cmp_d);
+      double med = fabs(t[m / 2]) + 1e-12, acc = 0;
+      size_t c = 0;
+      for (size_t i = 0; i < m; i++) if (e[i] < 50 * med) { acc += e[i]; c++; }
+      free(t);
+      if (c > 0) q = acc / (double)c / (0.55 * pow(h, 5));
+      /* When the camera is quieter than its noise model, the difference says little: keep at
+       * least a quarter of what the raw third differences imply. */
+      q = fmax(q, 0.25 * raw / (3.0 * (double)m) / (0.55 * pow(h, 5)));
+    }
+  }
+  free(e);
+  /* Floor and ceiling: a still wrist still trembles; nothing human exceeds ~1e8 m^2/s^5. */
+  return fmin(fmax(q, 10.0), 1e8);
+}
+
+AwStatus
+aw_fusion_camonly_run(const AwCamPrep *cam, const double *tau, size_t n,
+                      const AwFusionSettings *s, double *jerk_psd_inout, double (*pos)[3],
+                      double (*vel)[3], double (*sig)[3], double *nis_mean, size_t *rejected,
+                      size_t *recoveries)
+{
+  double q = jerk_psd_inout && *jerk_psd_inout > 0 ? *jerk_psd_inout : estimate_jerk_psd(cam, s);
+  if (jerk_psd_inout) *jerk_psd_inout = q;
+  size_t nv = cam->n_valid;
+  if (nv == 0) return AW_ERR_TOO_FEW;
+  /* Per accepted frame and axis: filtered, predicted-from-previous, smoothed. */
+  Ax (*F)[3] = malloc(sizeof *F * nv), (*Pp)[3] = malloc(sizeof *Pp * nv),
+     (*Sm)[3] = malloc(sizeof *Sm * nv);
+  double *tk = malloc(sizeof *tk * nv);
+  if (!F || !Pp || !Sm || !tk) { free(F); free(Pp); free(Sm); free(tk); return AW_ERR_NO_MEMORY; }
+  size_t m = 0, rej = 0, rec = 0;
+  double nis_sum = 0, rej_since = NAN;
+  size_t rej_run = 0;
+  Ax cur[3];
+  double tcur = 0;
+  for (size_t k = 0; k < cam->n; k++) {
+    if (!cam->valid[k]) continue;
+    double var[3];
+    noise_var(s, cam->pos_m[k], cam->conf ? cam->conf[k] : 1, var);
+    if (m == 0) {
+      for (int a = 0; a < 3; a++) {
+        memset(&cur[a], 0, sizeof cur[a]);
+        cur[a].x[0] = cam->pos_m[k][a];
+        cur[a].P[0][0] = var[a];
+        cur[a].P[1][1] = 4.0;      /* +-2 m/s: the wrist may already be moving */
+        cur[a].P[2][2] = 2500.0;   /* +-50 m/s^2 */
+        F[0][a] = cur[a];
+        Pp[0][a] = cur[a];
+      }
+      tk[0] = cam->t_s[k];
+      tcur = tk[0];
+      m = 1;
+      continue;
+    }
+    double dt = cam->t_s[k] - tcur;
+    Ax pr[3];
+    double nis = 0;
+    for (int a = 0; a < 3; a++) {
+      predict(&cur[a], dt, q, &pr[a]);
+      double y = cam->pos_m[k][a] - pr[a].x[0], S = pr[a].P[0][0] + var[a];
+      nis += y * y / S;
+    }
+    bool accept = nis <= s->gate_chi2;
+    if (!accept) {
+      if (isnan(rej_since)) rej_since = cam->t_s[k];
+      rej_run++;
+      if (rej_run >= 3 && cam->t_s[k] - rej_since >= s->gate_recover_s) {
+        for (int a = 0; a < 3; a++) {
+          double y = cam->pos_m[k][a] - pr[a].x[0];
+          pr[a].P[0][0] += 4 * y * y + var[a];
+        }
+        accept = true;
+        rec++;
+      }
+    }
+    if (!accept) { rej++; continue; }
+    rej_since = NAN;
+    rej_run = 0;
+    nis_sum += nis;
+    for (int a = 0; a < 3; a++) {
+      Ax u = pr[a];
+      double S = pr[a].P[0][0] + var[a], y = cam->pos_m[k][a] - pr[a].x[0];
+      double K[3] = { pr[a].P[0][0] / S, pr[a].P[1][0] / S, pr[a].P[2][0] / S };
+      for (int r = 0; r < 3; r++) u.x[r] += K[r] * y;
+      /* Joseph-equivalent: P - K S K^T */
+      for (int r = 0; r < 3; r++)
+        for (int c = 0; c < 3; c++) u.P[r][c] = pr[a].P[r][c] - K[r] * S * K[c];
+      cur[a] = u;
+      F[m][a] = u;
+      Pp[m][a] = pr[a];
+    }
+    tk[m] = cam->t_s[k];
+    tcur = tk[m];
+    m++;
+  }
+  if (m == 0) { free(F); free(Pp); free(Sm); free(tk); return AW_ERR_TOO_FEW; }
+  for (int a = 0; a < 3; a++) Sm[m - 1][a] = F[m - 1][a];
+  for (size_t j = m - 1; j-- > 0;)
+    for (int a = 0; a < 3; a++) rts(&F[j][a], &Pp[j + 1][a], &Sm[j + 1][a], tk[j + 1] - tk[j], &Sm[j][a]);
+  /* Onto the IMU grid. */
+  size_t hint = 0;
+  for (size_t i = 0; i < n; i++) {
+    double t = tau[i];
+    Ax out[3];
+    if (t <= tk[0] || m == 1) {
+      for (int a = 0; a < 3; a++) predict(&Sm[0][a], t - tk[0], q, &out[a]);
+    } else if (t >= tk[m - 1]) {
+      for (int a = 0; a < 3; a++) predict(&Sm[m - 1][a], t - tk[m - 1], q, &out[a]);
+    } else {
+      size_t j = aw_fusion_locate(tk, m, t, &hint);
+      for (int a = 0; a < 3; a++) {
+        Ax ft, pn;
+        predict(&F[j][a], t - tk[j], q, &ft);
+        predict(&ft, tk[j + 1] - t, q, &pn);
+        rts(&ft, &pn, &Sm[j + 1][a], tk[j + 1] - t, &out[a]);
+      }
+    }
+    for (int a = 0; a < 3; a++) {
+      if (pos) pos[i][a] = out[a].x[0];
+      if (vel) vel[i][a] = out[a].x[1];
+      if (sig) sig[i][a] = sqrt(fmax(out[a].P[0][0], 0));
+    }
+  }
+  if (nis_mean) *nis_mean = m > 1 ? nis_sum / (double)(m - 1) : (double)NAN;
+  if (rejected) *rejected = rej;
+  if (recoveries) *recoveries = rec;
+  free(F); free(Pp); free(Sm); free(tk);
+  return AW_OK;
+}

@@ -1,0 +1,267 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* The fusion pipeline: prepare -> clock sync -> camera/gravity calibration -> error-state
+ * Kalman filter and smoother (or the camera-only smoother when the IMU is masked). */
+#include "fusion-internal.h"
+
+#include "arcwise/math3.h"
+#include "arcwise/units.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+void
+aw_fusion_settings_default(AwFusionSettings *s)
+{
+  memset(s, 0, sizeof *s);
+  /* Consumer MEMS class (REFERENCES.md section 8, Bosch BMI160 / ST LSM6DS3 datasheets):
+   * 180 ug/sqrt(Hz) and 0.007 deg/s/sqrt(Hz). */
+  s->accel_noise_density_m_s2_rthz = 180e-6 * AW_GRAVITY_STANDARD_M_S2;
+  s->gyro_noise_density_rad_s_rthz = 0.007 * AW_RAD_PER_DEG;
+  /* Bias instability of smartwatch parts ~0.05-0.1 mg and 3-10 deg/h (section 8, from memory)
+   * expressed as random walks that move the bias by about that much over a minute. */
+  s->accel_bias_walk_m_s3_rthz = 1e-4;
+  s->gyro_bias_walk_rad_s2_rthz = 1e-5;
+  /* Keypoint detectors are good to about 2 pixels; at a 600 px focal length that is 3.3 mm
+   * per metre of depth. Depth noise sigma_z = 1.6e-3 z^2 (REFERENCES.md section 7: a quadratic
+   * through the structured-light figure of 4 cm at 5 m, Khoshelham & Oude Elberink 2012). */
+  s->cam_sigma_xy_m = 0.0033;
+  s->cam_sigma_z_coeff_per_m = 1.6e-3;
+  s->gate_chi2 = 16.27;          /* chi-square, 3 dof, p = 0.999 */
+  s->latitude_rad = NAN;         /* standard gravity */
+  s->max_clock_offset_s = 1.0;
+  s->mask = AW_FUSION_BOTH;
+  s->accel_bias_init_m_s2 = 40e-3 * AW_GRAVITY_STANDARD_M_S2;   /* zero-g offset +-40 mg */
+  s->gyro_bias_init_rad_s = 3.0 * AW_RAD_PER_DEG;                /* zero-rate offset +-3 deg/s */
+  s->accel_scale_sigma = 0.01;   /* sensitivity tolerance and cross-axis ~1 % (datasheet class) */
+  s->gyro_scale_sigma = 0.01;
+  s->still_gyro_rad_s = 0.1;     /* 6 deg/s: a hand holding a club at address */
+  s->still_accel_m_s2 = 0.3;
+  s->still_window_s = 0.25;
+  s->zupt_sigma_m_s = 0.02;
+  s->cam_conf_min = 0.05;
+  s->gate_recover_s = 0.5;       /* longer than an occlusion snap lasts */
+  s->motion_jerk_psd_m2_s5 = 0;  /* estimated from the frames */
+  /* A watch sits a few centimetres from the wrist keypoint a camera reports: unknown to
+   * +-3 cm per axis unless measured (then pass it with a smaller sigma). */
+  s->lever_arm_sigma_m = 0.03;
+}
+
+AwFusedPath *
+aw_fused_path_new(size_t n)
+{
+  AwFusedPath *p = calloc(1, sizeof *p);
+  if (!p) return NULL;
+  size_t m = n ? n : 1;
+  p->n = n;
+  p->t_s = calloc(m, sizeof *p->t_s);
+  p->pos_cam_m = calloc(m, sizeof *p->pos_cam_m);
+  p->vel_cam_m_s = calloc(m, sizeof *p->vel_cam_m_s);
+  p->q_cam_body = calloc(m, sizeof *p->q_cam_body);
+  p->pos_sigma_cam_m = calloc(m, sizeof *p->pos_sigma_cam_m);
+  p->cam_info_share = calloc(m, sizeof *p->cam_info_share);
+  p->accel_body_m_s2 = calloc(m, sizeof *p->accel_body_m_s2);
+  p->gyro_body_rad_s = calloc(m, sizeof *p->gyro_body_rad_s);
+  p->flags = calloc(m, sizeof *p->flags);
+  if (!p->t_s || !p->pos_cam_m || !p->vel_cam_m_s || !p->q_cam_body || !p->pos_sigma_cam_m ||
+      !p->cam_info_share || !p->accel_body_m_s2 || !p->gyro_body_rad_s || !p->flags) {
+    aw_fused_path_free(p);
+    return NULL;
+  }
+  return p;
+}
+
+void
+aw_fused_path_free(AwFusedPath *p)
+{
+  if (!p) return;
+  free(p->t_s); free(p->pos_cam_m); free(p->vel_cam_m_s); free(p->q_cam_body);
+  free(p->pos_sigma_cam_m); free(p->cam_info_share); free(p->accel_body_m_s2);
+  free(p->gyro_body_rad_s); free(p->flags);
+  free(p);
+}
+
+static double
+local_gravity(const AwFusionSettings *s)
+{
+  return isfinite(s->latitude_rad) ? aw_gravity_wgs84_m_s2(s->latitude_rad) : AW_GRAVITY_STANDARD_M_S2;
+}
+
+static AwStatus
+check_inputs(const AwImuStream *imu, const AwDepthStream *depth, const AwFusionSettings *s,
+             AwError *err)
+{
+  if (!imu || !depth || !s || !imu->t_s || !depth->t_s)
+    return aw_error_set(err, AW_ERR_INVALID_ARG, "fusion", 0, 0, "missing stream or settings");
+  if (imu->n < 16)
+    return aw_error_set(err, AW_ERR_TOO_FEW, "imu", 0, 0, "only %zu IMU samples", imu->n);
+  for (size_t i = 0; i < imu->n; i++) {
+    for (int a = 0; a < 3; a++)
+      if (!isfinite(imu->accel_m_s2[i][a]) || !isfinite(imu->gyro_rad_s[i][a]))
+        return aw_error_set(err, AW_ERR_NON_FINITE, "imu", (long)i + 1, 0, "sample %zu is not finite", i);
+    if (!isfinite(imu->t_s[i]) || (i > 0 && !(imu->t_s[i] > imu->t_s[i - 1])))
+      return aw_error_set(err, AW_ERR_RANGE, "imu", (long)i + 1, 0,
+                          "IMU time does not increase at sample %zu", i);
+  }
+  for (size_t k = 0; k < depth->n; k++)
+    if (!isfinite(depth->t_s[k]) || (k > 0 && !(depth->t_s[k] > depth->t_s[k - 1])))
+      return aw_error_set(err, AW_ERR_RANGE, "depth", (long)k + 1, 0,
+                          "camera time does not increase at frame %zu", k);
+  if (depth->n < 10)
+    return aw_error_set(err, AW_ERR_TOO_FEW, "depth", 0, 0,
+                        "only %zu camera frames; at least 10 are needed", depth->n);
+  return AW_OK;
+}
+
+AwStatus
+aw_fusion_sync_clocks(const AwImuStream *imu, const AwDepthStream *depth,
+                      const AwFusionSettings *s, AwFusionReport *out, AwError *err)
+{
+  AwStatus st = check_inputs(imu, depth, s, err);
+  if (st != AW_OK) return st;
+  double g = local_gravity(s);
+  AwCamPrep cam;
+  AwImuPrep im;
+  if ((st = aw_fusion_prep_cam(depth, s, &cam)) != AW_OK) return aw_error_set(err, st, "fusion", 0, 0, "out of memory");
+  if ((st = aw_fusion_prep_imu(imu, s, g, &im)) != AW_OK) {
+    aw_fusion_prep_cam_free(&cam);
+    return aw_error_set(err, st, "fusion", 0, 0, "out of memory");
+  }
+  double gc[3];
+  st = aw_fusion_sync_run(&im, &cam, s, g, out, gc, err);
+  aw_fusion_prep_cam_free(&cam);
+  aw_fusion_prep_imu_free(&im);
+  return st;
+}
+
+AwStatus
+aw_fuse(const AwImuStream *imu, const AwDepthStream *depth, const AwFusionSettings *settings,
+        AwFusedPath **out, AwError *err)
+{
+  if (out) *out = NULL;
+  if (!out) return aw_error_set(err, AW_ERR_INVALID_ARG, "fusion", 0, 0, "no output");
+  AwFusionSettings sdef;
+  if (!settings) { aw_fusion_settings_default(&sdef); settings = &sdef; }
+  const AwFusionSettings *s = settings;
+  AwStatus st = check_inputs(imu, depth, s, err);
+  if (st != AW_OK) return st;
+  double g = local_gravity(s);
+  AwCamPrep cam;
+  AwImuPrep im;
+  memset(&cam, 0, sizeof cam);
+  memset(&im, 0, sizeof im);
+  AwFusedPath *path = NULL;
+  double *tau = NULL;
+  double (*cs)[3] = NULL;
+  if (aw_fusion_prep_cam(depth, s, &cam) != AW_OK || aw_fusion_prep_imu(imu, s, g, &im) != AW_OK) {
+    st = aw_error_set(err, AW_ERR_NO_MEMORY, "fusion", 0, 0, "out of memory");
+    goto fail;
+  }
+  path = aw_fused_path_new(imu->n);
+  tau = malloc(sizeof *tau * imu->n);
+  if (!path || !tau) { st = aw_error_set(err, AW_ERR_NO_MEMORY, "fusion", 0, 0, "out of memory"); goto fail; }
+  AwFusionReport *rep = &path->report;
+  rep->gravity_m_s2 = g;
+  rep->imu_rate_hz = 1.0 / im.dt_nom_s;
+  rep->cam_rate_hz = 1.0 / cam.dt_nom_s;
+  double gc0[3];
+  st = aw_fusion_sync_run(&im, &cam, s, g, rep, gc0, err);
+  if (st != AW_OK) goto fail;
+  for (size_t i = 0; i < imu->n; i++) {
+    tau[i] = imu->t_s[i] * (1.0 + rep->clock_drift) + rep->clock_offset_s;
+    path->t_s[i] = tau[i];
+    memcpy(path->accel_body_m_s2[i], imu->accel_m_s2[i], sizeof path->accel_body_m_s2[i]);
+    memcpy(path->gyro_body_rad_s[i], imu->gyro_rad_s[i], sizeof path->gyro_body_rad_s[i]);
+  }
+  AwCalib cal;
+  st = aw_fusion_calibrate(&im, tau, &cam, s, g, gc0, &cal, err);
+  if (st != AW_OK) goto fail;
+  /* The calibration's vector match refines the clock: shift the IMU grid by it. */
+  rep->clock_offset_s += cal.clock_shift_s;
+  for (size_t i = 0; i < imu->n; i++) { tau[i] += cal.clock_shift_s; path->t_s[i] = tau[i]; }
+  rep->still_found = cal.still_found;
+  memcpy(rep->q_cam_body0, cal.q_cam_body0, sizeof cal.q_cam_body0);
+  memcpy(rep->gyro_bias_rad_s, cal.gyro_bias_rad_s, sizeof cal.gyro_bias_rad_s);
+
+  /* Camera-only smoother: the output when the IMU is masked, otherwise the reference for the
+   * camera's share of the position information. */
+  cs = malloc(sizeof *cs * imu->n);
+  if (!cs) { st = aw_error_set(err, AW_ERR_NO_MEMORY, "fusion", 0, 0, "out of memory"); goto fail; }
+  double jerk = s->motion_jerk_psd_m2_s5;
+  if (s->mask == AW_FUSION_IMU_MASKED) {
+    double nis;
+    size_t rej, rec;
+    st = aw_fusion_camonly_run(&cam, tau, imu->n, s, &jerk, path->pos_cam_m, path->vel_cam_m_s,
+                               path->pos_sigma_cam_m, &nis, &rej, &rec);
+    if (st != AW_OK) { aw_error_set(err, st, "fusion", 0, 0, "camera-only smoother failed"); goto fail; }
+    rep->motion_jerk_psd_m2_s5 = jerk;
+    rep->cam_nis_mean = nis;
+    rep->cam_frames_rejected = rej;
+    rep->gate_recoveries = rec;
+    rep->cam_frames_used = cam.n_valid - rej;
+    rep->cam_frames_missing = cam.n - cam.n_valid;
+    /* Orientation is not observable without the IMU: the calibration's initial value, held. */
+    size_t hint = 0;
+    for (size_t i = 0; i < imu->n; i++) {
+      memcpy(path->q_cam_body[i], cal.q_cam_body0, sizeof cal.q_cam_body0);
+      path->cam_info_share[i] = 1.0;
+      uint32_t fl = AW_FUSED_CAM_MISSING;
+      size_t k = aw_fusion_locate(cam.t_s, cam.n, tau[i], &hint);
+      if (k + 1 < cam.n && fabs(cam.t_s[k + 1] - tau[i]) < fabs(tau[i] - cam.t_s[k])) k++;
+      if (fabs(cam.t_s[k] - tau[i]) <= 0.75 * cam.dt_nom_s && cam.valid[k]) fl = AW_FUSED_CAM_ACCEPTED;
+      path->flags[i] = fl;
+    }
+    /* Gravity as calibrated (the filter that refines it did not run). */
+    memcpy(rep->accel_bias_m_s2, (double[3]){ 0, 0, 0 }, sizeof rep->accel_bias_m_s2);
+  } else {
+    st = aw_fusion_eskf_run(&im, tau, &cam, s, g, &cal, path, err);
+    if (st != AW_OK) goto fail;
+    if (s->mask == AW_FUSION_CAMERA_MASKED) {
+      for (size_t i = 0; i < imu->n; i++) path->cam_info_share[i] = 0;
+    } else {
+      double (*csig)[3] = cs;
+      st = aw_fusion_camonly_run(&cam, tau, imu->n, s, &jerk, NULL, NULL, csig, NULL, NULL, NULL);
+      if (st != AW_OK) { aw_error_set(err, st, "fusion", 0, 0, "camera-only smoother failed"); goto fail; }
+      rep->motion_jerk_psd_m2_s5 = jerk;
+      /* Share of the fused position information the camera alone would provide. */
+      for (size_t i = 0; i < imu->n; i++) {
+        double acc = 0;
+        for (int a = 0; a < 3; a++) {
+          double vf = path->pos_sigma_cam_m[i][a] * path->pos_sigma_cam_m[i][a];
+          double vc = csig[i][a] * csig[i][a];
+          acc += vc > 0 ? fmin(1.0, vf / vc) : 1.0;
+        }
+        path->cam_info_share[i] = acc / 3.0;
+      }
+    }
+  }
+  if (s->mask == AW_FUSION_IMU_MASKED) {
+    double up[3], ex[3] = { 1, 0, 0 }, xg[3], yg[3], Rg[3][3];
+    aw_v3_scale(up, cal.g_cam_m_s2, -1.0 / g);
+    double dd = aw_v3_dot(ex, up);
+    for (int a = 0; a < 3; a++) xg[a] = ex[a] - dd * up[a];
+    aw_v3_normalize(xg, xg);
+    aw_v3_cross(yg, up, xg);
+    for (int a = 0; a < 3; a++) { Rg[a][0] = xg[a]; Rg[a][1] = yg[a]; Rg[a][2] = up[a]; }
+    aw_mat_to_quat(rep->q_cam_grav, (const double (*)[3])Rg);
+  }
+  for (size_t i = 0; i < imu->n; i++)
+    for (int a = 0; a < 3; a++)
+      if (!isfinite(path->pos_cam_m[i][a]) || !isfinite(path->pos_sigma_cam_m[i][a])) {
+        st = aw_error_set(err, AW_ERR_NON_FINITE, "fusion", 0, 0, "non-finite estimate at sample %zu", i);
+        goto fail;
+      }
+  free(cs);
+  free(tau);
+  aw_fusion_prep_cam_free(&cam);
+  aw_fusion_prep_imu_free(&im);
+  *out = path;
+  return AW_OK;
+fail:
+  free(cs);
+  free(tau);
+  aw_fused_path_free(path);
+  aw_fusion_prep_cam_free(&cam);
+  aw_fusion_prep_imu_free(&im);
+  return st;
+}

@@ -1,0 +1,96 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+#pragma once
+
+/* Internal interfaces between the stages of the fusion pipeline (not installed). */
+
+#include <stdbool.h>
+#include <stddef.h>
+#include <stdint.h>
+
+#include "arcwise/fusion.h"
+
+/* Camera frames with their usability and a local-polynomial acceleration estimate. */
+typedef struct {
+  size_t n;
+  const double *t_s;          /* depth clock (borrowed) */
+  const double (*pos_m)[3];   /* borrowed */
+  const double *conf;         /* borrowed */
+  unsigned char *valid;       /* usable detection */
+  unsigned char *acc_ok;      /* acceleration estimate available */
+  double (*acc_m_s2)[3];      /* local quadratic fit, camera frame */
+  size_t n_valid;
+  double dt_nom_s;            /* median frame interval */
+  double fit_half_s;          /* half-width of the local fit */
+  /* The fit is linear in the positions: acc[k] = sum over j of wval * pos[widx], j in
+   * wstart[k] .. wstart[k+1]; the sync applies the same weights to the IMU. */
+  size_t *wstart;
+  uint32_t *widx;
+  double *wval;
+} AwCamPrep;
+
+/* IMU samples with running integrals for box averages and per-sample quality flags. */
+typedef struct {
+  size_t n;
+  const double *t_s;          /* IMU clock (borrowed) */
+  const double (*f)[3];       /* specific force, body (borrowed) */
+  const double (*w)[3];       /* angular rate, body (borrowed) */
+  double (*cumf)[3];          /* trapezoid integral of f over t (t_s[0] = 0) */
+  double dt_nom_s;            /* median interval */
+  unsigned char *sat_acc;     /* sample has an accelerometer axis at full scale */
+  unsigned char *sat_gyr;
+  unsigned char *still;       /* inside a still window */
+  double acc_range, gyr_range;
+} AwImuPrep;
+
+AwStatus aw_fusion_prep_cam(const AwDepthStream *d, const AwFusionSettings *s, AwCamPrep *out);
+void aw_fusion_prep_cam_free(AwCamPrep *c);
+AwStatus aw_fusion_prep_imu(const AwImuStream *imu, const AwFusionSettings *s, double g,
+                            AwImuPrep *out);
+void aw_fusion_prep_imu_free(AwImuPrep *m);
+
+/* Mean of a per-sample vector signal with running integral cum over [t0, t1] of the clock t;
+ * hint speeds up monotone queries. Returns false outside the samples' span. */
+bool aw_fusion_box_mean(const double *t, const void *cum_v, const void *x_v, size_t n,
+                        double t0, double t1, size_t *hint, double out[3]);
+/* Index of the last sample with t[i] <= x (0 if x < t[0]); hint as above. */
+size_t aw_fusion_locate(const double *t, size_t n, double x, size_t *hint);
+
+/* Stage 1: clock offset and drift. Also returns a first estimate of gravity in the camera frame
+ * (m/s^2, pointing down). */
+AwStatus aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam,
+                            const AwFusionSettings *s, double g, AwFusionReport *rep,
+                            double g_cam_out[3], AwError *err);
+
+/* Stage 2: camera <- initial body rotation and gravity in the camera frame by a Wahba solution
+ * on time-aligned accelerations, with the gyro bias from still periods. tau[i] is IMU sample i
+ * on the depth clock. */
+typedef struct {
+  double q_cam_body0[4];
+  double g_cam_m_s2[3];
+  double gyro_bias_rad_s[3];
+  bool still_found;
+  double resid_rms_m_s2;      /* rms of the Wahba fit residual */
+  double clock_shift_s;       /* refinement of the clock offset found here (add to it) */
+  double lever_body_m[3];     /* keypoint relative to the IMU from the joint solution */
+  bool have_joint;
+} AwCalib;
+AwStatus aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam,
+                             const AwFusionSettings *s, double g, const double g_cam0[3],
+                             AwCalib *out, AwError *err);
+
+/* Wahba's problem by Horn's quaternion method: q rotating b into a minimising
+ * sum w_i |a_i - R b_i|^2, from B = sum w_i b_i a_i^T (B[r][c] = sum b_r a_c). */
+void aw_fusion_wahba(double B[3][3], double q_out[4]);
+
+/* Stage 3+4: error-state Kalman filter and smoother, writing into path (allocated, n = imu->n). */
+AwStatus aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam,
+                            const AwFusionSettings *s, double g, const AwCalib *cal,
+                            AwFusedPath *path, AwError *err);
+
+/* Camera-only smoother with a white-jerk motion model on the IMU grid tau: smoothed keypoint
+ * position, velocity and sigma; per-sample gating status of frames. jerk_psd <= 0: estimated
+ * by maximum likelihood from the frames. Outputs may be NULL. */
+AwStatus aw_fusion_camonly_run(const AwCamPrep *cam, const double *tau, size_t n,
+                               const AwFusionSettings *s, double *jerk_psd_inout,
+                               double (*pos)[3], double (*vel)[3], double (*sig)[3],
+                               double *nis_mean, size_t *rejected, size_t *recoveries);

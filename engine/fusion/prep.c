@@ -1,0 +1,315 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* Preparation shared by every stage: usable camera frames with a local acceleration estimate,
+ * and IMU running integrals, saturation and stillness flags. */
+#include "fusion-internal.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+static int
+cmp_double(const void *a, const void *b)
+{
+  double x = *(const double *)a, y = *(const double *)b;
+  return (x > y) - (x < y);
+}
+
+/* Median of the positive successive differences of t (robust nominal interval). */
+static double
+median_interval(const double *t, size_t n)
+{
+  if (n < 2) return 0;
+  size_t m = n - 1, stride = 1;
+  /* A subsample is plenty for the median and keeps 30-minute recordings cheap. */
+  if (m > 4096) stride = m / 4096;
+  size_t k = 0;
+  double *d = malloc(sizeof *d * (m / stride + 1));
+  if (!d) return 0;
+  for (size_t i = 0; i < m; i += stride) d[k++] = t[i + 1] - t[i];
+  qsort(d, k, sizeof *d, cmp_double);
+  double r = d[k / 2];
+  free(d);
+  return r;
+}
+
+AwStatus
+aw_fusion_prep_cam(const AwDepthStream *d, const AwFusionSettings *s, AwCamPrep *c)
+{
+  memset(c, 0, sizeof *c);
+  c->n = d->n;
+  c->t_s = d->t_s;
+  c->pos_m = (const double (*)[3])d->pos_cam_m;
+  c->conf = d->conf;
+  c->valid = calloc(d->n ? d->n : 1, 1);
+  c->acc_ok = calloc(d->n ? d->n : 1, 1);
+  c->acc_m_s2 = calloc(d->n ? d->n : 1, sizeof *c->acc_m_s2);
+  if (!c->valid || !c->acc_ok || !c->acc_m_s2) { aw_fusion_prep_cam_free(c); return AW_ERR_NO_MEMORY; }
+  for (size_t k = 0; k < d->n; k++) {
+    const double *p = d->pos_cam_m[k];
+    double cf = d->conf ? d->conf[k] : 1.0;
+    bool ok = isfinite(p[0]) && isfinite(p[1]) && isfinite(p[2]) && p[2] > 0 && isfinite(cf) &&
+              cf >= s->cam_conf_min && cf > 0;
+    c->valid[k] = ok;
+    c->n_valid += ok;
+  }
+  c->dt_nom_s = median_interval(d->t_s, d->n);
+  if (!(c->dt_nom_s > 0)) c->dt_nom_s = 1.0 / 30.0;
+  /* +-0.2 s: a depth camera's keypoint noise (several mm at 3 m) makes second derivatives over
+   * shorter spans useless; a downswing (~0.25 s) still shows as one broad peak, which is all
+   * the alignment needs. Slow cameras need at least 3 frames each side. */
+  c->fit_half_s = fmax(0.2, 3.0 * c->dt_nom_s);
+  /* Local quadratic least squares around each valid frame, acceleration = 2 c2, made robust by
+   * a second pass without frames whose residual exceeds 4 sigma of the camera model plus 2 cm
+   * (gross outliers, identity swaps). Works with missing frames and timing jitter. */
+  size_t lo = 0, wcap = 0, wn = 0;
+  c->wstart = calloc(d->n + 1, sizeof *c->wstart);
+  if (!c->wstart) { aw_fusion_prep_cam_free(c); return AW_ERR_NO_MEMORY; }
+  for (size_t k = 0; k < d->n; k++) {
+    c->wstart[k] = wn;
+    if (!c->valid[k]) continue;
+    double tk = d->t_s[k];
+    while (lo < k && d->t_s[lo] < tk - c->fit_half_s) lo++;
+    double coef[3][3] = { { 0 } }, Ainv2[3] = { 0 };
+    bool have = false;
+    uint32_t used[1024];
+    int nused = 0;
+    for (int pass = 0; pass < 2; pass++) {
+      double S[5] = { 0 }, Sy[3][3] = { { 0 } };
+      int nl = 0, nr = 0, cnt = 0;
+      nused = 0;
+      for (size_t j = lo; j < d->n && d->t_s[j] <= tk + c->fit_half_s; j++) {
+        if (!c->valid[j]) continue;
+        double u = d->t_s[j] - tk, u2 = u * u;
+        if (pass == 1) {
+          double z = d->pos_cam_m[j][2], bad = 0;
+          double sig[3] = { s->cam_sigma_xy_m * z, s->cam_sigma_xy_m * z, s->cam_sigma_z_coeff_per_m * z * z };
+          for (int a = 0; a < 3; a++) {
+            double r = d->pos_cam_m[j][a] - (coef[a][0] + coef[a][1] * u + coef[a][2] * u2);
+            if (fabs(r) > 4 * sig[a] + 0.02) bad = 1;
+          }
+          if (bad) continue;
+        }
+        if (u < -1e-9) nl++;
+        if (u > 1e-9) nr++;
+        cnt++;
+        if (nused < 1024) used[nused++] = (uint32_t)j;
+        S[0] += 1; S[1] += u; S[2] += u2; S[3] += u2 * u; S[4] += u2 * u2;
+        for (int a = 0; a < 3; a++) {
+          double y = d->pos_cam_m[j][a];
+          Sy[a][0] += y; Sy[a][1] += y * u; Sy[a][2] += y * u2;
+        }
+      }
+      have = false;
+      if (cnt < 6 || nl < 2 || nr < 2 || cnt > 1024) break;
+      double A[3][3] = { { S[0], S[1], S[2] }, { S[1], S[2], S[3] }, { S[2], S[3], S[4] } };
+      double det = A[0][0] * (A[1][1] * A[2][2] - A[1][2] * A[2][1]) -
+                   A[0][1] * (A[1][0] * A[2][2] - A[1][2] * A[2][0]) +
+                   A[0][2] * (A[1][0] * A[2][1] - A[1][1] * A[2][0]);
+      if (!(fabs(det) > 1e-30)) break;
+      /* Row 2 of A^-1 by cofactors: c2 = sum_j (Ainv2 . [1 u u^2]) y_j */
+      Ainv2[0] = (A[1][0] * A[2][1] - A[1][1] * A[2][0]) / det;
+      Ainv2[1] = -(A[0][0] * A[2][1] - A[0][1] * A[2][0]) / det;
+      Ainv2[2] = (A[0][0] * A[1][1] - A[0][1] * A[1][0]) / det;
+      for (int a = 0; a < 3; a++)
+        for (int col = 0; col < 3; col++) {
+          double M[3][3];
+          memcpy(M, A, sizeof M);
+          for (int r = 0; r < 3; r++) M[r][col] = Sy[a][r];
+          coef[a][col] = (M[0][0] * (M[1][1] * M[2][2] - M[1][2] * M[2][1]) -
+                          M[0][1] * (M[1][0] * M[2][2] - M[1][2] * M[2][0]) +
+                          M[0][2] * (M[1][0] * M[2][1] - M[1][1] * M[2][0])) / det;
+        }
+      have = true;
+    }
+    if (!have) continue;
+    for (int a = 0; a < 3; a++) c->acc_m_s2[k][a] = 2.0 * coef[a][2];
+    c->acc_ok[k] = 1;
+    /* Record the weights over the frames the second pass kept. */
+    for (int q = 0; q < nused; q++) {
+      size_t j = used[q];
+      double u = d->t_s[j] - tk, u2 = u * u;
+      if (wn == wcap) {
+        size_t nc = wcap ? 2 * wcap : 1024;
+        uint32_t *ni = realloc(c->widx, sizeof *ni * nc);
+        if (!ni) { aw_fusion_prep_cam_free(c); return AW_ERR_NO_MEMORY; }
+        c->widx = ni;
+        double *nv = realloc(c->wval, sizeof *nv * nc);
+        if (!nv) { aw_fusion_prep_cam_free(c); return AW_ERR_NO_MEMORY; }
+        c->wval = nv;
+        wcap = nc;
+      }
+      c->widx[wn] = (uint32_t)j;
+      c->wval[wn] = 2.0 * (Ainv2[0] + Ainv2[1] * u + Ainv2[2] * u2);
+      wn++;
+    }
+  }
+  c->wstart[d->n] = wn;
+  return AW_OK;
+}
+
+void
+aw_fusion_prep_cam_free(AwCamPrep *c)
+{
+  if (!c) return;
+  free(c->valid);
+  free(c->acc_ok);
+  free(c->acc_m_s2);
+  free(c->wstart);
+  free(c->widx);
+  free(c->wval);
+  memset(c, 0, sizeof *c);
+}
+
+/* Full scale of one sensor: the declared range, or, when undeclared, the largest magnitude if
+ * it repeats on consecutive samples (a clipped plateau). 0 = no saturation found. */
+static double
+detect_range(const double (*x)[3], size_t n, double declared)
+{
+  if (declared > 0) return declared;
+  double mx = 0;
+  for (size_t i = 0; i < n; i++)
+    for (int a = 0; a < 3; a++) mx = fmax(mx, fabs(x[i][a]));
+  if (!(mx > 0)) return 0;
+  for (size_t i = 0; i + 1 < n; i++)
+    for (int a = 0; a < 3; a++)
+      if (fabs(x[i][a]) >= mx * (1 - 1e-9) && fabs(x[i + 1][a]) >= mx * (1 - 1e-9)) return mx;
+  return 0;
+}
+
+AwStatus
+aw_fusion_prep_imu(const AwImuStream *imu, const AwFusionSettings *s, double g, AwImuPrep *m)
+{
+  memset(m, 0, sizeof *m);
+  size_t n = imu->n;
+  m->n = n;
+  m->t_s = imu->t_s;
+  m->f = (const double (*)[3])imu->accel_m_s2;
+  m->w = (const double (*)[3])imu->gyro_rad_s;
+  m->cumf = calloc(n ? n : 1, sizeof *m->cumf);
+  m->sat_acc = calloc(n ? n : 1, 1);
+  m->sat_gyr = calloc(n ? n : 1, 1);
+  m->still = calloc(n ? n : 1, 1);
+  unsigned char *quiet = calloc(n ? n : 1, 1);
+  if (!m->cumf || !m->sat_acc || !m->sat_gyr || !m->still || !quiet) {
+    free(quiet);
+    aw_fusion_prep_imu_free(m);
+    return AW_ERR_NO_MEMORY;
+  }
+  m->dt_nom_s = median_interval(imu->t_s, n);
+  if (!(m->dt_nom_s > 0)) m->dt_nom_s = 0.01;
+  for (size_t i = 1; i < n; i++) {
+    double dt = imu->t_s[i] - imu->t_s[i - 1];
+    for (int a = 0; a < 3; a++)
+      m->cumf[i][a] = m->cumf[i - 1][a] + 0.5 * dt * (m->f[i][a] + m->f[i - 1][a]);
+  }
+  m->acc_range = detect_range(m->f, n, imu->meta.accel_range_m_s2);
+  m->gyr_range = detect_range(m->w, n, imu->meta.gyro_range_rad_s);
+  size_t half = (size_t)ceil(0.5 * s->still_window_s / m->dt_nom_s);
+  if (half < 1) half = 1;
+  /* Window means of the gyro: stillness is judged on the rate's deviation from its local mean,
+   * so a gyro offset of several deg/s (consumer parts, REFERENCES.md section 8) does not hide
+   * a still hand; the mean itself must stay below 20 deg/s, beyond any offset spec. */
+  double (*cw)[3] = malloc(sizeof *cw * (n + 1));
+  if (!cw) { free(quiet); aw_fusion_prep_imu_free(m); return AW_ERR_NO_MEMORY; }
+  cw[0][0] = cw[0][1] = cw[0][2] = 0;
+  for (size_t i = 0; i < n; i++)
+    for (int a = 0; a < 3; a++) cw[i + 1][a] = cw[i][a] + m->w[i][a];
+  for (size_t i = 0; i < n; i++) {
+    for (int a = 0; a < 3; a++) {
+      /* 0.5 % below full scale: quantisation keeps clipped values a count or two short. */
+      if (m->acc_range > 0 && fabs(m->f[i][a]) >= 0.995 * m->acc_range) m->sat_acc[i] = 1;
+      if (m->gyr_range > 0 && fabs(m->w[i][a]) >= 0.995 * m->gyr_range) m->sat_gyr[i] = 1;
+    }
+    size_t lo = i >= half ? i - half : 0, hi = i + half < n ? i + half : n - 1;
+    double mw[3], dw = 0, mn = 0;
+    for (int a = 0; a < 3; a++) {
+      mw[a] = (cw[hi + 1][a] - cw[lo][a]) / (double)(hi - lo + 1);
+      dw += (m->w[i][a] - mw[a]) * (m->w[i][a] - mw[a]);
+      mn += mw[a] * mw[a];
+    }
+    double fn = sqrt(m->f[i][0] * m->f[i][0] + m->f[i][1] * m->f[i][1] + m->f[i][2] * m->f[i][2]);
+    quiet[i] = sqrt(dw) < s->still_gyro_rad_s && sqrt(mn) < 0.35 && fabs(fn - g) < s->still_accel_m_s2;
+  }
+  free(cw);
+  /* Still = every sample of a window of still_window_s around it is quiet, and the window has no
+   * IMU gap. Prefix counts keep this O(n) at any rate. */
+  size_t *cnt = malloc(sizeof *cnt * (n + 1));
+  if (!cnt) { free(quiet); aw_fusion_prep_imu_free(m); return AW_ERR_NO_MEMORY; }
+  cnt[0] = 0;
+  for (size_t i = 0; i < n; i++) cnt[i + 1] = cnt[i] + quiet[i];
+  for (size_t i = 0; i < n; i++) {
+    if (i < half || i + half >= n) continue;
+    size_t a = i - half, b = i + half;
+    if (cnt[b + 1] - cnt[a] != b - a + 1) continue;
+    if (imu->t_s[b] - imu->t_s[a] > 1.5 * s->still_window_s + 3 * m->dt_nom_s) continue;
+    m->still[i] = 1;
+  }
+  free(cnt);
+  free(quiet);
+  return AW_OK;
+}
+
+void
+aw_fusion_prep_imu_free(AwImuPrep *m)
+{
+  if (!m) return;
+  free(m->cumf);
+  free(m->sat_acc);
+  free(m->sat_gyr);
+  free(m->still);
+  memset(m, 0, sizeof *m);
+}
+
+size_t
+aw_fusion_locate(const double *t, size_t n, double x, size_t *hint)
+{
+  if (n == 0 || x < t[0]) return 0;
+  if (x >= t[n - 1]) return n - 1;
+  size_t i = hint ? *hint : 0;
+  if (i >= n) i = n - 1;
+  /* Short walks from the hint for monotone queries, bisection otherwise. */
+  if (t[i] <= x && (i + 1 >= n || t[i + 1] > x)) goto done;
+  if (t[i] <= x && i + 8 < n && t[i + 8] > x) {
+    while (t[i + 1] <= x) i++;
+    goto done;
+  }
+  {
+    size_t lo = 0, hi = n - 1;
+    while (hi - lo > 1) {
+      size_t mid = lo + (hi - lo) / 2;
+      if (t[mid] <= x) lo = mid; else hi = mid;
+    }
+    i = lo;
+  }
+done:
+  if (hint) *hint = i;
+  return i;
+}
+
+static void
+cum_at(const double *t, const double (*cum)[3], const double (*x)[3], size_t n, double tq,
+       size_t *hint, double out[3])
+{
+  size_t i = aw_fusion_locate(t, n, tq, hint);
+  if (i + 1 >= n) { for (int a = 0; a < 3; a++) out[a] = cum[n - 1][a]; return; }
+  double h = t[i + 1] - t[i], u = tq - t[i];
+  double r = h > 0 ? u / h : 0;
+  for (int a = 0; a < 3; a++) {
+    double xq = x[i][a] + r * (x[i + 1][a] - x[i][a]);
+    out[a] = cum[i][a] + 0.5 * u * (x[i][a] + xq);
+  }
+}
+
+bool
+aw_fusion_box_mean(const double *t, const void *cum_v, const void *x_v, size_t n,
+                   double t0, double t1, size_t *hint, double out[3])
+{
+  const double (*cum)[3] = (const double (*)[3])cum_v, (*x)[3] = (const double (*)[3])x_v;
+  if (n < 2 || t0 < t[0] || t1 > t[n - 1] || !(t1 > t0)) return false;
+  double c0[3], c1[3];
+  cum_at(t, cum, x, n, t0, hint, c0);
+  size_t h2 = hint ? *hint : 0;
+  cum_at(t, cum, x, n, t1, &h2, c1);
+  for (int a = 0; a < 3; a++) out[a] = (c1[a] - c0[a]) / (t1 - t0);
+  return true;
+}

@@ -1,0 +1,417 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* Stage 1: clock offset and drift between the IMU and the depth camera.
+ *
+ * The two sensors share no frame, so we compare frame-independent signals: the magnitude of
+ * the specific force measured by the IMU, |f|, and the magnitude of what the camera implies for
+ * it, |a_cam - g_cam| (a_cam from a local quadratic fit of the keypoint path). g_cam, gravity in
+ * the camera frame, is not known yet: the coarse search uses |a_cam| against |f| (their Pearson
+ * correlation ignores the constant g), then g_cam follows from a linear least-squares solution of
+ * a_cam . g_cam = (|a_cam|^2 + g^2 - |f|^2) / 2 at that offset, and the fine search uses the
+ * exact signal. Coarse to fine: 20 ms grid over the whole range, then 2 ms, then 0.2 ms, and a
+ * parabola through the best three points for the sub-sample peak. Recordings over a minute are
+ * cut into 30 s segments whose offsets give the drift by a weighted straight-line fit. */
+#include "fusion-internal.h"
+
+#include "arcwise/math3.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+typedef struct {
+  const AwImuPrep *imu;
+  const AwCamPrep *cam;
+  double t_mid;        /* reference IMU time of the drift model */
+  double half;         /* half-width of the IMU box average, s */
+  double *sc;          /* camera signal per frame (NaN = unusable) */
+  double g;
+  double (*fb0)[3];    /* specific force in the gyro-stabilised first-sample frame */
+  double (*cumb)[3];   /* its running integral */
+  double (*pb)[3];     /* its double integral */
+  bool exact;          /* fine stage: the camera's own fit weights on the IMU double integral */
+} SyncCtx;
+
+/* Double integral of f_b0 at IMU time t, exact for f linear between samples. */
+static void
+imu_pos(const SyncCtx *c, double t, size_t *hint, double out[3])
+{
+  const AwImuPrep *imu = c->imu;
+  size_t i = aw_fusion_locate(imu->t_s, imu->n, t, hint);
+  if (i + 1 >= imu->n) i = imu->n - 2;
+  double dt = imu->t_s[i + 1] - imu->t_s[i], u = t - imu->t_s[i];
+  for (int a = 0; a < 3; a++) {
+    double f0 = c->fb0[i][a], f1 = c->fb0[i + 1][a];
+    out[a] = c->pb[i][a] + u * c->cumb[i][a] + 0.5 * u * u * f0 + u * u * u * (f1 - f0) / (6 * dt);
+  }
+}
+
+/* IMU dynamic acceleration at IMU time ti: box mean of f_b0 over +-half minus its mean over
+ * +-5 s. In the gyro-stabilised frame gravity is (nearly) constant and the mean of the dynamic
+ * acceleration over 10 s is the change of velocity over 10 s divided by 10 s, ~0, so the
+ * difference is the acceleration without gravity, comparable in magnitude with the camera's. */
+static bool
+imu_dyn(const SyncCtx *c, double ti, size_t *hint, double out[3])
+{
+  const AwImuPrep *imu = c->imu;
+  double fm[3], mm[3];
+  if (!aw_fusion_box_mean(imu->t_s, c->cumb, c->fb0, imu->n, ti - c->half, ti + c->half, hint, fm))
+    return false;
+  double t0 = fmax(imu->t_s[0], ti - 5.0), t1 = fmin(imu->t_s[imu->n - 1], ti + 5.0);
+  size_t h2 = 0;
+  if (!aw_fusion_box_mean(imu->t_s, c->cumb, c->fb0, imu->n, t0, t1, &h2, mm)) return false;
+  for (int a = 0; a < 3; a++) out[a] = fm[a] - mm[a];
+  return true;
+}
+
+static inline double
+imu_time(double t_depth, double off_mid, double drift, double t_mid)
+{
+  return (t_depth - off_mid + drift * t_mid) / (1.0 + drift);
+}
+
+/* Pearson correlation of camera signal and |box-mean f| over frames with t in [ta, tb]. */
+static double
+score(const SyncCtx *c, double off, double drift, double ta, double tb, size_t *n_used)
+{
+  const AwCamPrep *cam = c->cam;
+  double s1 = 0, s2 = 0, s11 = 0, s22 = 0, s12 = 0;
+  size_t n = 0, hint = 0;
+  for (size_t k = 0; k < cam->n; k++) {
+    double x = c->sc[k];
+    if (isnan(x)) continue;
+    double tk = cam->t_s[k];
+    if (tk < ta || tk > tb) continue;
+    double ti = imu_time(tk, off, drift, c->t_mid);
+    double fm[3];
+    if (!imu_dyn(c, ti, &hint, fm)) continue;
+    if (c->exact) {
+      /* Same linear operator as the camera's acceleration estimate, so asymmetric swing shapes
+       * are smoothed identically on both sides and the peak is unbiased. */
+      double acc[3] = { 0, 0, 0 }, mm[3];
+      bool ok = true;
+      size_t h3 = hint;
+      for (size_t q = cam->wstart[k]; q < cam->wstart[k + 1]; q++) {
+        double tj = imu_time(cam->t_s[cam->widx[q]], off, drift, c->t_mid), pj[3];
+        if (tj < c->imu->t_s[0] || tj > c->imu->t_s[c->imu->n - 1]) { ok = false; break; }
+        imu_pos(c, tj, &h3, pj);
+        for (int a = 0; a < 3; a++) acc[a] += cam->wval[q] * pj[a];
+      }
+      if (!ok) continue;
+      double t0 = fmax(c->imu->t_s[0], ti - 5.0), t1 = fmin(c->imu->t_s[c->imu->n - 1], ti + 5.0);
+      size_t h2 = 0;
+      if (!aw_fusion_box_mean(c->imu->t_s, c->cumb, c->fb0, c->imu->n, t0, t1, &h2, mm)) continue;
+      for (int a = 0; a < 3; a++) fm[a] = acc[a] - mm[a];
+    }
+    double y = sqrt(fm[0] * fm[0] + fm[1] * fm[1] + fm[2] * fm[2]);
+    s1 += x; s2 += y; s11 += x * x; s22 += y * y; s12 += x * y;
+    n++;
+  }
+  if (n_used) *n_used = n;
+  if (n < 8) return -2;
+  double vx = s11 - s1 * s1 / (double)n, vy = s22 - s2 * s2 / (double)n;
+  double cxy = s12 - s1 * s2 / (double)n;
+  if (!(vx > 0) || !(vy > 0)) return -2;
+  return cxy / sqrt(vx * vy);
+}
+
+typedef struct {
+  double off, rho, curv, rho_second;
+  size_t n;
+} Peak;
+
+/* Coarse-to-fine maximisation of score over offsets [lo, hi]. */
+static Peak
+search(const SyncCtx *c, double lo, double hi, double step0, double drift, double ta, double tb)
+{
+  Peak pk = { 0, -2, 0, -2, 0 };
+  size_t nstep = (size_t)ceil((hi - lo) / step0) + 1;
+  double *rc = malloc(sizeof *rc * nstep);
+  if (!rc) return pk;
+  size_t best = 0;
+  for (size_t i = 0; i < nstep; i++) {
+    rc[i] = score(c, lo + step0 * (double)i, drift, ta, tb, NULL);
+    if (rc[i] > rc[best]) best = i;
+  }
+  double center = lo + step0 * (double)best;
+  /* Second-best peak away from the best (periodic or ambiguous motion lowers the confidence). */
+  for (size_t i = 0; i < nstep; i++)
+    if (fabs(step0 * ((double)i - (double)best)) > 0.15 && rc[i] > pk.rho_second)
+      pk.rho_second = rc[i];
+  free(rc);
+  double step = step0;
+  for (int level = 0; level < 2; level++) {
+    double span = step;
+    step = step / 10.0;
+    double bo = center, br = -3;
+    for (int j = -10; j <= 10; j++) {
+      double o = center + span * j / 10.0;
+      double r = score(c, o, drift, ta, tb, NULL);
+      if (r > br) { br = r; bo = o; }
+    }
+    center = bo;
+  }
+  double rm = score(c, center - step, drift, ta, tb, NULL);
+  double r0 = score(c, center, drift, ta, tb, &pk.n);
+  double rp = score(c, center + step, drift, ta, tb, NULL);
+  double den = rm - 2 * r0 + rp;
+  double off = center;
+  if (den < 0) {
+    double d = 0.5 * (rm - rp) / den;
+    if (fabs(d) <= 1) off = center + d * step;
+    pk.curv = -den / (2 * step * step);
+  }
+  pk.off = off;
+  pk.rho = score(c, off, drift, ta, tb, &pk.n);
+  if (pk.rho < r0) { pk.off = center; pk.rho = r0; }
+  return pk;
+}
+
+/* Up to three best local maxima of the coarse score, at least 0.1 s apart. */
+static int
+coarse_peaks(const SyncCtx *c, double lo, double hi, double step, double out[3], double *rho2)
+{
+  size_t nstep = (size_t)ceil((hi - lo) / step) + 1;
+  double *rc = malloc(sizeof *rc * nstep);
+  if (!rc) return 0;
+  for (size_t i = 0; i < nstep; i++) rc[i] = score(c, lo + step * (double)i, 0, -INFINITY, INFINITY, NULL);
+  int k = 0;
+  double val[3] = { -3, -3, -3 };
+  for (size_t i = 0; i < nstep; i++) {
+    bool peak = (i == 0 || rc[i] >= rc[i - 1]) && (i + 1 == nstep || rc[i] >= rc[i + 1]);
+    if (!peak || rc[i] < -1) continue;
+    double o = lo + step * (double)i;
+    /* insert into the sorted top three */
+    for (int j = 0; j < 3; j++)
+      if (rc[i] > val[j]) {
+        for (int q = 2; q > j; q--) { val[q] = val[q - 1]; out[q] = out[q - 1]; }
+        val[j] = rc[i];
+        out[j] = o;
+        break;
+      }
+  }
+  for (int j = 0; j < 3; j++) if (val[j] > -1) k = j + 1;
+  /* drop peaks within 0.1 s of a better one */
+  int m = 0;
+  for (int j = 0; j < k; j++) {
+    bool near = false;
+    for (int q = 0; q < m; q++) if (fabs(out[j] - out[q]) < 0.1) near = true;
+    if (!near) { out[m] = out[j]; val[m] = val[j]; m++; }
+  }
+  *rho2 = m > 1 ? val[1] : -2;
+  free(rc);
+  return m;
+}
+
+/* Least squares for gravity in the camera frame at a given alignment (see file comment). */
+static bool
+estimate_g_cam(const SyncCtx *c, double off, double drift, double g_out[3])
+{
+  const AwCamPrep *cam = c->cam;
+  const AwImuPrep *imu = c->imu;
+  double A[3][3] = { { 0 } }, b[3] = { 0 };
+  size_t hint = 0, n = 0;
+  for (size_t k = 0; k < cam->n; k++) {
+    if (!cam->acc_ok[k]) continue;
+    double ti = imu_time(cam->t_s[k], off, drift, c->t_mid), fm[3];
+    if (!aw_fusion_box_mean(imu->t_s, imu->cumf, imu->f, imu->n,
+                            ti - c->half, ti + c->half, &hint, fm))
+      continue;
+    const double *a = cam->acc_m_s2[k];
+    double rhs = 0.5 * (a[0] * a[0] + a[1] * a[1] + a[2] * a[2] + c->g * c->g -
+                        (fm[0] * fm[0] + fm[1] * fm[1] + fm[2] * fm[2]));
+    for (int r = 0; r < 3; r++) {
+      b[r] += a[r] * rhs;
+      for (int q = 0; q < 3; q++) A[r][q] += a[r] * a[q];
+    }
+    n++;
+  }
+  if (n < 10) return false;
+  /* A small ridge keeps directions the motion never excited from blowing up. */
+  double tr = A[0][0] + A[1][1] + A[2][2];
+  for (int r = 0; r < 3; r++) A[r][r] += 1e-6 * tr + 1e-9;
+  double det = A[0][0] * (A[1][1] * A[2][2] - A[1][2] * A[2][1]) -
+               A[0][1] * (A[1][0] * A[2][2] - A[1][2] * A[2][0]) +
+               A[0][2] * (A[1][0] * A[2][1] - A[1][1] * A[2][0]);
+  if (!(fabs(det) > 0)) return false;
+  double x[3];
+  for (int col = 0; col < 3; col++) {
+    double M[3][3];
+    memcpy(M, A, sizeof M);
+    for (int r = 0; r < 3; r++) M[r][col] = b[r];
+    x[col] = (M[0][0] * (M[1][1] * M[2][2] - M[1][2] * M[2][1]) -
+              M[0][1] * (M[1][0] * M[2][2] - M[1][2] * M[2][0]) +
+              M[0][2] * (M[1][0] * M[2][1] - M[1][1] * M[2][0])) / det;
+  }
+  double nx = sqrt(x[0] * x[0] + x[1] * x[1] + x[2] * x[2]);
+  if (!(nx > 0.3 * c->g)) return false;   /* the motion did not pin gravity down */
+  for (int r = 0; r < 3; r++) g_out[r] = x[r] / nx * c->g;
+  return true;
+}
+
+static void
+set_cam_signal(SyncCtx *c, const double *g_cam)
+{
+  const AwCamPrep *cam = c->cam;
+  for (size_t k = 0; k < cam->n; k++) {
+    if (!cam->acc_ok[k]) { c->sc[k] = NAN; continue; }
+    double d[3];
+    for (int a = 0; a < 3; a++) d[a] = cam->acc_m_s2[k][a] - (g_cam ? g_cam[a] : 0);
+    c->sc[k] = sqrt(d[0] * d[0] + d[1] * d[1] + d[2] * d[2]);
+  }
+}
+
+AwStatus
+aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSettings *s,
+                   double g, AwFusionReport *rep, double g_cam_out[3], AwError *err)
+{
+  if (imu->n < 16)
+    return aw_error_set(err, AW_ERR_TOO_FEW, "imu", 0, 0, "only %zu IMU samples", imu->n);
+  size_t n_acc = 0;
+  double tc0 = INFINITY, tc1 = -INFINITY;
+  for (size_t k = 0; k < cam->n; k++) {
+    if (!cam->acc_ok[k]) continue;
+    n_acc++;
+    tc0 = fmin(tc0, cam->t_s[k]);
+    tc1 = fmax(tc1, cam->t_s[k]);
+  }
+  if (cam->n_valid < 10 || n_acc < 10)
+    return aw_error_set(err, AW_ERR_TOO_FEW, "depth", 0, 0,
+                        "only %zu usable camera frames (%zu with enough neighbours); at least 10 "
+                        "are needed to align the clocks", cam->n_valid, n_acc);
+  double max_off = s->max_clock_offset_s > 0 ? s->max_clock_offset_s : 1.0;
+  double ti0 = imu->t_s[0], ti1 = imu->t_s[imu->n - 1];
+  if (tc1 < ti0 - max_off + 0.5 || tc0 > ti1 + max_off - 0.5)
+    return aw_error_set(err, AW_ERR_NO_OVERLAP, "depth", 0, 0,
+                        "camera frames span %.3f..%.3f s but the IMU spans %.3f..%.3f s: they do "
+                        "not overlap within the +-%.2f s clock-offset range", tc0, tc1, ti0, ti1,
+                        max_off);
+  SyncCtx c = { imu, cam, 0.5 * (ti0 + ti1), 0.5 * cam->fit_half_s, NULL, g, NULL, NULL, NULL, false };
+  c.sc = malloc(sizeof *c.sc * cam->n);
+  c.fb0 = malloc(sizeof *c.fb0 * imu->n);
+  c.cumb = malloc(sizeof *c.cumb * imu->n);
+  c.pb = malloc(sizeof *c.pb * imu->n);
+  if (!c.sc || !c.fb0 || !c.cumb || !c.pb) { free(c.sc); free(c.fb0); free(c.cumb); free(c.pb); return AW_ERR_NO_MEMORY; }
+  {
+    /* Gyro bias from the still samples (if any), then the attitude chain. */
+    double bg[3] = { 0 };
+    size_t ns = 0;
+    for (size_t i = 0; i < imu->n; i++)
+      if (imu->still[i]) { for (int a = 0; a < 3; a++) bg[a] += imu->w[i][a]; ns++; }
+    if (ns) for (int a = 0; a < 3; a++) bg[a] /= (double)ns;
+    double q[4] = { 1, 0, 0, 0 };
+    for (size_t i = 0; i < imu->n; i++) {
+      if (i > 0) {
+        double dt = imu->t_s[i] - imu->t_s[i - 1], rv[3], dq[4];
+        if (dt > 3 * imu->dt_nom_s + 0.02) dt = 0;   /* gap: hold the attitude */
+        for (int a = 0; a < 3; a++) rv[a] = (0.5 * (imu->w[i][a] + imu->w[i - 1][a]) - bg[a]) * dt;
+        aw_quat_from_rotvec(dq, rv);
+        aw_quat_mul(q, q, dq);
+        aw_quat_normalize(q);
+      }
+      aw_quat_rotate(c.fb0[i], q, imu->f[i]);
+      if (i == 0) { c.cumb[0][0] = c.cumb[0][1] = c.cumb[0][2] = 0; }
+      else
+        for (int a = 0; a < 3; a++)
+          c.cumb[i][a] = c.cumb[i - 1][a] + 0.5 * (imu->t_s[i] - imu->t_s[i - 1]) * (c.fb0[i][a] + c.fb0[i - 1][a]);
+    }
+    c.pb[0][0] = c.pb[0][1] = c.pb[0][2] = 0;
+    for (size_t i = 1; i < imu->n; i++) {
+      double dt = imu->t_s[i] - imu->t_s[i - 1];
+      for (int a = 0; a < 3; a++)
+        c.pb[i][a] = c.pb[i - 1][a] + dt * c.cumb[i - 1][a] + dt * dt * (2 * c.fb0[i - 1][a] + c.fb0[i][a]) / 6.0;
+    }
+  }
+  set_cam_signal(&c, NULL);
+  /* Motion check: a still or nearly still recording has nothing to align on. */
+  double m1 = 0, m2 = 0;
+  for (size_t k = 0; k < cam->n; k++)
+    if (!isnan(c.sc[k])) { m1 += c.sc[k]; m2 += c.sc[k] * c.sc[k]; }
+  double sd = sqrt(fmax(0, m2 / (double)n_acc - (m1 / (double)n_acc) * (m1 / (double)n_acc)));
+  if (sd < 0.5) {
+    free(c.sc); free(c.fb0); free(c.cumb); free(c.pb);
+    return aw_error_set(err, AW_ERR_NO_CORRELATION, "depth", 0, 0,
+                        "the camera saw almost no acceleration (s.d. %.2f m/s^2): there is no "
+                        "motion to align the clocks on", sd);
+  }
+  Peak pk = search(&c, -max_off, max_off, 0.02, 0, -INFINITY, INFINITY);
+  if (pk.n < 10 || pk.rho < -1) {
+    free(c.sc); free(c.fb0); free(c.cumb); free(c.pb);
+    return aw_error_set(err, AW_ERR_NO_OVERLAP, "depth", 0, 0,
+                        "fewer than 10 camera frames overlap the IMU at any clock offset within "
+                        "+-%.2f s", max_off);
+  }
+  (void)estimate_g_cam;
+  {
+    /* The box-averaged signal finds the neighbourhood; the exact signal decides between the
+     * best few candidates (an asymmetric swing can put the box signal's peak on the wrong
+     * side of a double-humped acceleration profile). */
+    double cand[3], rho2;
+    int nc = coarse_peaks(&c, -max_off, max_off, 0.02, cand, &rho2);
+    c.exact = true;
+    Peak best = pk;
+    best.rho = -3;
+    double second = -2;
+    for (int j = 0; j < nc; j++) {
+      Peak p2 = search(&c, cand[j] - 0.06, cand[j] + 0.06, 0.02, 0, -INFINITY, INFINITY);
+      if (p2.n < 10) continue;
+      if (p2.rho > best.rho) { if (best.rho > -2) second = fmax(second, best.rho); best = p2; }
+      else second = fmax(second, p2.rho);
+    }
+    if (best.rho > -2) { pk = best; pk.rho_second = fmax(second, rho2 < pk.rho ? rho2 : second); }
+  }
+  double off_mid = pk.off, drift = 0;
+  double span = tc1 - tc0;
+  if (span >= 60.0) {
+    /* Drift: offsets of 30 s segments, weighted straight line through them. */
+    size_t nseg = (size_t)(span / 30.0);
+    double *so = calloc(nseg, sizeof *so), *st = calloc(nseg, sizeof *st),
+           *sw = calloc(nseg, sizeof *sw);
+    if (!so || !st || !sw) { free(so); free(st); free(sw); free(c.sc); free(c.fb0); free(c.cumb); free(c.pb); return AW_ERR_NO_MEMORY; }
+    size_t ns = 0;
+    double rng = 0.02 + 2e-4 * span;
+    for (size_t j = 0; j < nseg; j++) {
+      double ta = tc0 + span * (double)j / (double)nseg, tb = tc0 + span * (double)(j + 1) / (double)nseg;
+      Peak q = search(&c, off_mid - rng, off_mid + rng, 0.005, 0, ta, tb);
+      if (q.rho < 0.6 || q.n < 30 || !(q.curv > 0)) continue;
+      double var = (1 - q.rho * q.rho) / (2 * q.curv * q.rho * (double)q.n) + 1e-8;
+      so[ns] = q.off;
+      st[ns] = imu_time(0.5 * (ta + tb), q.off, 0, c.t_mid) - c.t_mid;
+      sw[ns] = 1.0 / var;
+      ns++;
+    }
+    for (int pass = 0; pass < 2 && ns >= 2; pass++) {
+      double W = 0, Wt = 0, Wo = 0, Wtt = 0, Wto = 0;
+      for (size_t j = 0; j < ns; j++) {
+        if (sw[j] <= 0) continue;
+        W += sw[j]; Wt += sw[j] * st[j]; Wo += sw[j] * so[j];
+        Wtt += sw[j] * st[j] * st[j]; Wto += sw[j] * st[j] * so[j];
+      }
+      double den = W * Wtt - Wt * Wt;
+      if (!(W > 0) || !(den > 0)) break;
+      double b = (W * Wto - Wt * Wo) / den, a = (Wo - b * Wt) / W;
+      if (fabs(b) > 3e-4) break;   /* beyond any quartz clock: keep the constant offset */
+      off_mid = a;
+      drift = b;
+      for (size_t j = 0; j < ns; j++)
+        if (fabs(so[j] - (a + b * st[j])) > 0.01) sw[j] = 0;  /* a segment that locked wrongly */
+    }
+    free(so); free(st); free(sw);
+  }
+  size_t nu = 0;
+  double rho = score(&c, off_mid, drift, -INFINITY, INFINITY, &nu);
+  free(c.sc); free(c.fb0); free(c.cumb); free(c.pb);
+  if (rho < 0.5)
+    return aw_error_set(err, AW_ERR_NO_CORRELATION, "depth", 0, 0,
+                        "the camera and IMU motion do not agree at any clock offset within "
+                        "+-%.2f s (best correlation %.2f)", max_off, rho);
+  rep->clock_drift = drift;
+  rep->clock_offset_s = off_mid - drift * c.t_mid;
+  rep->clock_peak_corr = rho;
+  double sep = pk.rho_second > -1 ? (rho - pk.rho_second) / 0.3 : 1;
+  rep->clock_confidence = fmax(0, fmin(1, rho)) * fmax(0, fmin(1, sep));
+  double var = pk.curv > 0 ? (1 - rho * rho) / (2 * pk.curv * fmax(rho, 0.1) * (double)nu) : 1e-4;
+  rep->clock_offset_sigma_s = sqrt(fmax(var, 0));
+  if (g_cam_out) for (int a = 0; a < 3; a++) g_cam_out[a] = (double)NAN;
+  return AW_OK;
+}

@@ -1,0 +1,75 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+#pragma once
+
+/* Scores a fused path against the simulator's truth (shared by the fusion tests). */
+
+#include <math.h>
+#include <stdlib.h>
+
+#include "arcwise/fusion.h"
+#include "arcwise/sim.h"
+
+typedef struct {
+  double rmse_motion_m;     /* takeaway .. follow-through */
+  double rmse_occl_m;       /* inside occlusion windows (NAN if none) */
+  double base_occl_m;       /* depth-only baseline (valid frames linearly interpolated) */
+  double offset_err_s;
+  double coverage2;         /* per-axis share of |error| <= 2 sigma over the motion */
+  size_t n_motion, n_occl;
+} AwSimScore;
+
+static inline void
+aw_simscore(const AwSim *sim, const AwFusedPath *p, AwSimScore *sc)
+{
+  const AwSimTruth *tr = aw_sim_truth(sim);
+  const AwDepthStream *d = aw_sim_depth(sim);
+  double sm = 0, so = 0, sb = 0;
+  size_t nm = 0, no = 0, cov = 0, covn = 0, hint = 0;
+  for (size_t i = 0; i < p->n; i++) {
+    double t = p->t_s[i];
+    AwSimState st;
+    aw_sim_eval(sim, t, &st);
+    double e2 = 0;
+    for (int a = 0; a < 3; a++) {
+      double e = p->pos_cam_m[i][a] - st.wrist_cam_m[a];
+      e2 += e * e;
+    }
+    bool motion = st.phase >= AW_SIM_PHASE_TAKEAWAY && st.phase <= AW_SIM_PHASE_FOLLOW_THROUGH;
+    if (motion) {
+      sm += e2; nm++;
+      for (int a = 0; a < 3; a++) {
+        covn++;
+        if (fabs(p->pos_cam_m[i][a] - st.wrist_cam_m[a]) <= 2 * p->pos_sigma_cam_m[i][a]) cov++;
+      }
+    }
+    bool occl = false;
+    for (size_t o = 0; o < tr->n_occlusions; o++)
+      if (t >= tr->occlusions[o].t0_s && t < tr->occlusions[o].t1_s) occl = true;
+    if (occl) {
+      so += e2; no++;
+      /* depth-only baseline: valid frames either side, linear interpolation */
+      while (hint + 1 < d->n && d->t_s[hint + 1] <= t) hint++;
+      long k0 = (long)hint, k1 = (long)hint + 1;
+      while (k0 >= 0 && !(d->conf[k0] > 0 && isfinite(d->pos_cam_m[k0][0]))) k0--;
+      while (k1 < (long)d->n && !(d->conf[k1] > 0 && isfinite(d->pos_cam_m[k1][0]))) k1++;
+      double b[3];
+      if (k0 < 0 && k1 >= (long)d->n) continue;
+      if (k0 < 0) k0 = k1;
+      if (k1 >= (long)d->n) k1 = k0;
+      double w = k1 == k0 ? 0 : (t - d->t_s[k0]) / (d->t_s[k1] - d->t_s[k0]);
+      double eb = 0;
+      for (int a = 0; a < 3; a++) {
+        b[a] = d->pos_cam_m[k0][a] + w * (d->pos_cam_m[k1][a] - d->pos_cam_m[k0][a]);
+        eb += (b[a] - st.wrist_cam_m[a]) * (b[a] - st.wrist_cam_m[a]);
+      }
+      sb += eb;
+    }
+  }
+  sc->rmse_motion_m = nm ? sqrt(sm / (double)nm) : (double)NAN;
+  sc->rmse_occl_m = no ? sqrt(so / (double)no) : (double)NAN;
+  sc->base_occl_m = no ? sqrt(sb / (double)no) : (double)NAN;
+  sc->n_motion = nm;
+  sc->n_occl = no;
+  sc->coverage2 = covn ? (double)cov / (double)covn : (double)NAN;
+  sc->offset_err_s = p->report.clock_offset_s - tr->clock_offset_s;
+}

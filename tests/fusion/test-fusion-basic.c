@@ -1,0 +1,230 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* Fusion stages on analytic cases (tests/fusion/synth.h: closed-form arc motion), Wahba's
+ * problem against a known rotation, output invariants, masks, and bad input. */
+#include "testutil.h"
+#include "synth.h"
+
+#include "arcwise/fusion.h"
+#include "fusion-internal.h"
+
+#include <stdio.h>
+#include <string.h>
+
+static void
+check_invariants(const AwFusedPath *p)
+{
+  size_t bad_q = 0, bad_s = 0, bad_x = 0;
+  for (size_t i = 0; i < p->n; i++) {
+    const double *q = p->q_cam_body[i];
+    double nq = sqrt(q[0] * q[0] + q[1] * q[1] + q[2] * q[2] + q[3] * q[3]);
+    if (!(fabs(nq - 1) < 1e-9)) bad_q++;
+    for (int a = 0; a < 3; a++) {
+      if (!(p->pos_sigma_cam_m[i][a] > 0) || !isfinite(p->pos_sigma_cam_m[i][a])) bad_s++;
+      if (!isfinite(p->pos_cam_m[i][a]) || !isfinite(p->vel_cam_m_s[i][a])) bad_x++;
+    }
+    if (!(p->cam_info_share[i] >= 0 && p->cam_info_share[i] <= 1)) bad_s++;
+    if (i > 0 && !(p->t_s[i] > p->t_s[i - 1])) bad_x++;
+  }
+  AW_CHECK(bad_q == 0);   /* quaternion stays unit */
+  AW_CHECK(bad_s == 0);   /* smoothed covariance positive (sigma > 0) */
+  AW_CHECK(bad_x == 0);
+}
+
+static double
+rmse_vs_truth(const AwSynthSpec *sp, const AwFusedPath *p, double *cov2)
+{
+  double s = 0;
+  size_t n = 0, c = 0;
+  for (size_t i = 0; i < p->n; i++) {
+    double tr[3];
+    /* scored where the camera recorded (beyond it the camera-only path only extrapolates) */
+    if (p->t_s[i] > sp->duration_s - 1.0 / sp->cam_rate_hz) continue;
+    aw_synth_truth_cam(sp, p->t_s[i], tr, NULL);
+    for (int a = 0; a < 3; a++) {
+      double e = p->pos_cam_m[i][a] - tr[a];
+      s += e * e;
+      if (fabs(e) <= 2 * p->pos_sigma_cam_m[i][a]) c++;
+    }
+    n++;
+  }
+  if (cov2) *cov2 = (double)c / (3.0 * (double)n);
+  return sqrt(s / (double)n);
+}
+
+int
+main(void)
+{
+  /* Wahba / Horn: a known rotation from noiseless pairs (Horn 1987, closed form is exact). */
+  {
+    double q[4] = { 0.8, 0.2, -0.4, 0.4 }, R[3][3], B[3][3] = { { 0 } };
+    aw_quat_normalize(q);
+    aw_quat_to_mat(R, q);
+    double vs[4][3] = { { 1, 0, 0 }, { 0, 1, 0 }, { 0.3, -0.2, 0.9 }, { -0.5, 0.7, 0.1 } };
+    for (int i = 0; i < 4; i++) {
+      double a[3];
+      aw_mat_mul_v3(a, (const double (*)[3])R, vs[i]);
+      for (int r = 0; r < 3; r++)
+        for (int c = 0; c < 3; c++) B[r][c] += vs[i][r] * a[c];
+    }
+    double qe[4];
+    aw_fusion_wahba(B, qe);
+    for (int k = 0; k < 4; k++) AW_CHECK_NEAR(qe[k], q[k], 1e-9);
+  }
+
+  AwFusionSettings s;
+  aw_fusion_settings_default(&s);
+
+  /* Sync recovers a known shift (analytic motion, camera and IMU noise as in the defaults). */
+  {
+    AwSynthSpec sp;
+    aw_synth_default(&sp);
+    sp.duration_s = 6;
+    sp.clock_offset_s = 0.437;
+    AwImuStream *imu;
+    AwDepthStream *dep;
+    aw_synth_make(&sp, &imu, &dep);
+    AwFusionReport rep;
+    memset(&rep, 0, sizeof rep);
+    AwError err;
+    AW_CHECK(aw_fusion_sync_clocks(imu, dep, &s, &rep, &err) == AW_OK);
+    fprintf(stderr, "sync: offset %.5f s (true 0.437), confidence %.2f\n", rep.clock_offset_s, rep.clock_confidence);
+    AW_CHECK_NEAR(rep.clock_offset_s, 0.437, 0.005);
+
+    AwFusedPath *p = NULL;
+    AW_CHECK(aw_fuse(imu, dep, &s, &p, &err) == AW_OK);
+    if (p) {
+      check_invariants(p);
+      double cov;
+      double r = rmse_vs_truth(&sp, p, &cov);
+      fprintf(stderr, "analytic swing: fused RMSE %.4f m, 2-sigma coverage %.3f\n", r, cov);
+      AW_CHECK(r < 0.05);
+      AW_CHECK(p->report.zupt_samples > 0);   /* holds still at address and finish */
+      aw_fused_path_free(p);
+    }
+    /* Masks (sensor trust): both run and give bounded paths with the expected shares. */
+    AwFusionSettings sm = s;
+    sm.mask = AW_FUSION_IMU_MASKED;
+    p = NULL;
+    AW_CHECK(aw_fuse(imu, dep, &sm, &p, &err) == AW_OK);
+    if (p) {
+      check_invariants(p);
+      AW_CHECK(p->cam_info_share[p->n / 2] == 1.0);
+      double rc = rmse_vs_truth(&sp, p, NULL);
+      fprintf(stderr, "camera only (IMU masked): RMSE %.4f m, jerk %.3g, rejected %zu, recoveries %zu\n", rc, p->report.motion_jerk_psd_m2_s5, p->report.cam_frames_rejected, p->report.gate_recoveries);
+      AW_CHECK(rc < 0.05);
+      aw_fused_path_free(p);
+    }
+    sm.mask = AW_FUSION_CAMERA_MASKED;
+    p = NULL;
+    AW_CHECK(aw_fuse(imu, dep, &sm, &p, &err) == AW_OK);
+    if (p) {
+      check_invariants(p);
+      AW_CHECK(p->cam_info_share[p->n / 2] == 0.0);
+      aw_fused_path_free(p);
+    }
+
+    /* Gating rejects injected outliers: 20 cm jumps on single frames. */
+    AwDepthStream *d2 = aw_depth_stream_new(dep->n);
+    memcpy(d2->t_s, dep->t_s, sizeof *d2->t_s * dep->n);
+    memcpy(d2->pos_cam_m, dep->pos_cam_m, sizeof *d2->pos_cam_m * dep->n);
+    memcpy(d2->conf, dep->conf, sizeof *d2->conf * dep->n);
+    size_t injected = 0;
+    for (size_t k = 20; k < dep->n; k += 17)
+      if (isfinite(d2->pos_cam_m[k][0])) { d2->pos_cam_m[k][0] += 0.2; injected++; }
+    p = NULL;
+    AW_CHECK(aw_fuse(imu, d2, &s, &p, &err) == AW_OK);
+    if (p) {
+      fprintf(stderr, "outliers: %zu injected, %zu rejected\n", injected, p->report.cam_frames_rejected);
+      AW_CHECK(p->report.cam_frames_rejected >= injected);
+      aw_fused_path_free(p);
+    }
+
+    /* Streams that do not overlap: the camera recorded 100 s later. */
+    for (size_t k = 0; k < d2->n; k++) d2->t_s[k] = dep->t_s[k] + 100;
+    p = NULL;
+    AW_CHECK(aw_fuse(imu, d2, &s, &p, &err) == AW_ERR_NO_OVERLAP && p == NULL);
+    /* Too few camera frames. */
+    size_t keep = d2->n;
+    d2->n = 6;
+    AW_CHECK(aw_fuse(imu, d2, &s, &p, &err) == AW_ERR_TOO_FEW && p == NULL);
+    d2->n = keep;
+    aw_depth_stream_free(d2);
+
+    /* A 30 s IMU gap in the middle: bounded, flagged, no NaN, no hang. */
+    AwImuStream *ig = aw_imu_stream_new(imu->n);
+    memcpy(ig->accel_m_s2, imu->accel_m_s2, sizeof *ig->accel_m_s2 * imu->n);
+    memcpy(ig->gyro_rad_s, imu->gyro_rad_s, sizeof *ig->gyro_rad_s * imu->n);
+    for (size_t i = 0; i < imu->n; i++) ig->t_s[i] = imu->t_s[i] + (i >= imu->n / 2 ? 30.0 : 0.0);
+    AwDepthStream *dg = aw_depth_stream_new(dep->n * 6);
+    size_t nd = 0;
+    for (double t = 0; t < ig->t_s[ig->n - 1] + 0.437; t += 1.0 / 30) {
+      if (nd >= dep->n * 6) break;
+      size_t k = (size_t)floor(t * 30 + 0.5) % dep->n;
+      dg->t_s[nd] = t;
+      memcpy(dg->pos_cam_m[nd], dep->pos_cam_m[k], sizeof dg->pos_cam_m[0]);
+      dg->conf[nd] = dep->conf[k];
+      nd++;
+    }
+    dg->n = nd;
+    p = NULL;
+    AwStatus st = aw_fuse(ig, dg, &s, &p, &err);
+    AW_CHECK(st == AW_OK || st == AW_ERR_NO_CORRELATION);
+    if (p) {
+      check_invariants(p);
+      AW_CHECK(p->report.imu_gaps == 1);
+      aw_fused_path_free(p);
+    }
+    aw_imu_stream_free(ig);
+    aw_depth_stream_free(dg);
+    aw_imu_stream_free(imu);
+    aw_depth_stream_free(dep);
+  }
+
+  /* A still recording: nothing to align on, a clear error. */
+  {
+    AwSynthSpec sp;
+    aw_synth_default(&sp);
+    sp.duration_s = 0.5;   /* only the address hold of the profile */
+    AwImuStream *imu;
+    AwDepthStream *dep;
+    sp.duration_s = 20;
+    aw_synth_make(&sp, &imu, &dep);
+    imu->n = 400;          /* first 4 s: still at address */
+    dep->n = 120;
+    AwFusedPath *p = NULL;
+    AwError err;
+    AW_CHECK(aw_fuse(imu, dep, &s, &p, &err) == AW_ERR_NO_CORRELATION && p == NULL);
+    imu->n = (size_t)(20 * 100);
+    dep->n = 600;
+    aw_imu_stream_free(imu);
+    aw_depth_stream_free(dep);
+  }
+
+  /* An IMU that never holds still (the recording starts and ends mid-swing): flagged, bounded. */
+  {
+    AwSynthSpec sp;
+    aw_synth_default(&sp);
+    sp.periodic = 1;
+    sp.duration_s = 12;
+    sp.gyro_bias[0] = 0.02;
+    AwImuStream *imu;
+    AwDepthStream *dep;
+    aw_synth_make(&sp, &imu, &dep);
+    /* cut off the holds: keep 2.0 .. 3.4 s and 8.0 .. 9.4 s worth by sub-streams is complex;
+     * instead disable still detection by a threshold no wrist meets */
+    AwFusionSettings s2 = s;
+    s2.still_gyro_rad_s = 1e-9;
+    AwFusedPath *p = NULL;
+    AwError err;
+    AW_CHECK(aw_fuse(imu, dep, &s2, &p, &err) == AW_OK);
+    if (p) {
+      check_invariants(p);
+      AW_CHECK(!p->report.still_found);
+      AW_CHECK(p->report.zupt_samples == 0);
+      aw_fused_path_free(p);
+    }
+    aw_imu_stream_free(imu);
+    aw_depth_stream_free(dep);
+  }
+  return AW_TEST_END();
+}
