@@ -268,65 +268,81 @@ arcwise_bench_analysis(int argc, char **argv)
          occl_imu, occl_phases, clear_still_cam, clear_still);
 
   /* Continuous sessions. */
-  size_t truth_total = 0, truth_found = 0, false_found = 0, practice_flag_ok = 0, n_practice = 0;
-  for (int k = 0; k < n_sessions; k++) {
-    AwSimConfig cfg;
-    aw_sim_config_default(&cfg, (AwSimLevel)(k % 3));
-    cfg.seed = seed0 + 50000 + (uint64_t)k;
-    cfg.n_swings = 10;
-    cfg.session_extras = true;
-    cfg.view = k % 2 ? AW_SIM_DOWN_THE_LINE : AW_SIM_FACE_ON;
-    cfg.left_handed = k % 4 == 3;
-    AwSim *sim = NULL;
-    AwError err;
-    if (aw_sim_new(&cfg, &sim, &err) != AW_OK) {
-      fprintf(stderr, "session %d failed: %s\n", k, err.message);
-      rc = 1;
-      continue;
-    }
-    const AwSimTruth *truth = aw_sim_truth(sim);
-    BenchPath bp;
-    AwTrajectory tr;
-    AwAnalysis *an = NULL;
-    AwAnalysisSettings set;
-    aw_analysis_settings_default(&set);
-    set.handed = cfg.left_handed ? AW_HANDED_LEFT : AW_HANDED_RIGHT;
-    if (ideal_path(sim, &bp, &tr) == 0 && aw_analyze(&tr, &set, &an, &err) == AW_OK) {
-      for (size_t s = 0; s < truth->n_swings; s++) {
-        const AwSimSwing *ts = &truth->swings[s];
-        truth_total++;
-        n_practice += ts->practice;
-        for (size_t j = 0; j < an->n_swings; j++)
-          if (fabs(an->swings[j].events[AW_EVENT_IMPACT].t_s - ts->t_impact_s) < 0.15) {
-            truth_found++;
-            practice_flag_ok += ts->practice && an->swings[j].practice;
-            break;
-          }
+  for (int est = 0; est < 2 && n_sessions > 0; est++) {
+    size_t truth_total = 0, truth_found = 0, false_found = 0, practice_ok = 0, n_practice = 0;
+    size_t full_as_practice = 0;
+    for (int k = 0; k < n_sessions; k++) {
+      AwSimConfig cfg;
+      aw_sim_config_default(&cfg, (AwSimLevel)(k % 3));
+      cfg.seed = seed0 + 50000 + (uint64_t)k;
+      cfg.n_swings = 10;
+      cfg.session_extras = true;
+      cfg.view = k % 2 ? AW_SIM_DOWN_THE_LINE : AW_SIM_FACE_ON;
+      cfg.left_handed = k % 4 == 3;
+      AwSim *sim = NULL;
+      AwError err;
+      if (aw_sim_new(&cfg, &sim, &err) != AW_OK) {
+        fprintf(stderr, "session %d failed: %s\n", k, err.message);
+        rc = 1;
+        continue;
       }
-      for (size_t j = 0; j < an->n_swings; j++) {
-        bool match = false;
-        for (size_t s = 0; s < truth->n_swings; s++)
-          match |= fabs(an->swings[j].events[AW_EVENT_IMPACT].t_s - truth->swings[s].t_impact_s) < 0.15;
-        if (!match) {
-          false_found++;
-          if (getenv("ARCWISE_BENCH_VERBOSE"))
-            fprintf(stderr, "session %d: false swing at %.2f s\n", k,
-                    an->swings[j].events[AW_EVENT_IMPACT].t_s);
+      const AwSimTruth *truth = aw_sim_truth(sim);
+      BenchPath bp = { 0 };
+      AwTrajectory tr;
+      AwAnalysis *an = NULL;
+      AwFusedPath *fused = NULL;
+      AwAnalysisSettings set;
+      aw_analysis_settings_default(&set);
+      set.handed = cfg.left_handed ? AW_HANDED_LEFT : AW_HANDED_RIGHT;
+      AwStatus st;
+      if (est == 0)
+        st = ideal_path(sim, &bp, &tr) == 0 ? aw_analyze(&tr, &set, &an, &err) : AW_ERR_NO_MEMORY;
+      else
+        st = aw_analyze_capture(aw_sim_imu(sim), aw_sim_depth(sim), NULL, &set, &an, &fused, &err);
+      if (st == AW_OK) {
+        for (size_t s = 0; s < truth->n_swings; s++) {
+          const AwSimSwing *ts = &truth->swings[s];
+          truth_total++;
+          n_practice += ts->practice;
+          bool found = false;
+          for (size_t j = 0; j < an->n_swings && !found; j++)
+            if (fabs(an->swings[j].events[AW_EVENT_IMPACT].t_s - ts->t_impact_s) < 0.15) {
+              found = true;
+              truth_found++;
+              practice_ok += ts->practice && an->swings[j].practice;
+              full_as_practice += !ts->practice && an->swings[j].practice;
+            }
+          if (!found && getenv("ARCWISE_BENCH_VERBOSE"))
+            fprintf(stderr, "%s session %d: missed %s swing %zu at %.2f s\n",
+                    est ? "fused" : "ideal", k, ts->practice ? "practice" : "full", s,
+                    ts->t_impact_s);
         }
+        for (size_t j = 0; j < an->n_swings; j++) {
+          bool match = false;
+          for (size_t s = 0; s < truth->n_swings; s++)
+            match |= fabs(an->swings[j].events[AW_EVENT_IMPACT].t_s - truth->swings[s].t_impact_s) < 0.15;
+          if (!match) {
+            false_found++;
+            if (getenv("ARCWISE_BENCH_VERBOSE"))
+              fprintf(stderr, "%s session %d: false swing at %.2f s\n", est ? "fused" : "ideal",
+                      k, an->swings[j].events[AW_EVENT_IMPACT].t_s);
+          }
+        }
+      } else {
+        truth_total += truth->n_swings;
+        fprintf(stderr, "%s session %d: %s\n", est ? "fused" : "ideal", k, err.message);
       }
-    } else {
-      truth_total += truth->n_swings;
-      fprintf(stderr, "session %d: %s\n", k, err.message);
+      aw_analysis_free(an);
+      aw_fused_path_free(fused);
+      bench_path_free(&bp);
+      aw_sim_free(sim);
     }
-    aw_analysis_free(an);
-    bench_path_free(&bp);
-    aw_sim_free(sim);
+    printf("Swing finding (%s) in %d sessions of 10 shots with waggles, practice swings and "
+           "walks: %zu of %zu swings found, %zu motions wrongly taken for swings; %zu of %zu "
+           "practice swings flagged practice, %zu struck shots wrongly flagged practice\n",
+           est ? "fused" : "ideal", n_sessions, truth_found, truth_total, false_found,
+           practice_ok, n_practice, full_as_practice);
   }
-  if (n_sessions > 0)
-    printf("Swing finding in %d sessions of 10 shots (with waggles, practice swings, walks): "
-           "%zu of %zu swings found, %zu motions wrongly taken for swings, %zu of %zu practice "
-           "swings flagged as practice\n",
-           n_sessions, truth_found, truth_total, false_found, practice_flag_ok, n_practice);
   for (int est = 0; est < 2; est++) {
     free(e[est].top_ms); free(e[est].imp_ms); free(e[est].tempo_pct); free(e[est].hand_pct);
     free(e[est].club_pct);

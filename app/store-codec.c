@@ -94,6 +94,9 @@ arcwise_codec_safe_name(const char *path)
 {
   g_autofree char *base = g_path_get_basename(path != NULL ? path : "");
   GString *s = g_string_new(NULL);
+  /* g_path_get_basename gives "/" for a root and "." for an empty path: neither is a name. */
+  if (strcmp(base, "/") == 0 || strcmp(base, ".") == 0)
+    base[0] = '\0';
   for (const char *p = base; *p != '\0'; p++) {
     unsigned char ch = (unsigned char)*p;
     if (ch < 0x20 || ch == 0x7f || ch == '/' || ch == '\\' || ch == ':')
@@ -132,10 +135,13 @@ arcwise_codec_safe_name(const char *path)
   X(clock_offset_s) X(clock_drift) X(clock_confidence) X(q_cam_grav[0]) X(q_cam_grav[1])  \
   X(q_cam_grav[2]) X(q_cam_grav[3]) X(gravity_m_s2) X(accel_bias_m_s2[0])                  \
   X(accel_bias_m_s2[1]) X(accel_bias_m_s2[2]) X(gyro_bias_rad_s[0]) X(gyro_bias_rad_s[1])  \
-  X(gyro_bias_rad_s[2])
+  X(gyro_bias_rad_s[2]) X(clock_offset_sigma_s) X(clock_peak_corr) X(q_cam_body0[0])      \
+  X(q_cam_body0[1]) X(q_cam_body0[2]) X(q_cam_body0[3]) X(imu_rate_hz) X(cam_rate_hz)       \
+  X(cam_nis_mean) X(motion_jerk_psd_m2_s5) X(lever_arm_body_m[0]) X(lever_arm_body_m[1])    \
+  X(lever_arm_body_m[2])
 #define REPORT_COUNTS(X)                                                                    \
   X(cam_frames_used) X(cam_frames_rejected) X(cam_frames_missing) X(imu_samples_saturated) \
-  X(zupt_samples)
+  X(zupt_samples) X(imu_gaps) X(gate_recoveries)
 
 static char *
 report_to_text(const AwFusionReport *rep)
@@ -146,6 +152,7 @@ report_to_text(const AwFusionReport *rep)
 #define W_C(f) g_string_append_printf(s, "%s=%" G_GUINT64_FORMAT "\n", #f, (guint64)rep->f);
   REPORT_DOUBLES(W_D)
   REPORT_COUNTS(W_C)
+  g_string_append_printf(s, "still_found=%d\n", rep->still_found ? 1 : 0);
 #undef W_D
 #undef W_C
   return g_string_free(s, FALSE);
@@ -165,6 +172,8 @@ report_from_text(const char *text, AwFusionReport *rep)
 #define R_C(f) if (strcmp(key, #f) == 0) { rep->f = (size_t)g_ascii_strtoull(val, NULL, 10); continue; }
     REPORT_DOUBLES(R_D)
     REPORT_COUNTS(R_C)
+    if (strcmp(key, "still_found") == 0)
+      rep->still_found = strcmp(val, "1") == 0;
 #undef R_D
 #undef R_C
   }

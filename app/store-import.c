@@ -65,6 +65,14 @@ arcwise_store_current_settings(void)
   }
   kv(s, "fusion.max_clock_offset_s", f.max_clock_offset_s);
   g_string_append_printf(s, "fusion.mask=%d\n", (int)f.mask);
+  /* Fields added to the struct later are covered by the hash of its bytes (zeroed first, so
+   * padding is defined). */
+  AwFusionSettings fz;
+  memset(&fz, 0, sizeof fz);
+  aw_fusion_settings_default(&fz);
+  char fsha[65];
+  arcwise_codec_sha256_hex(&fz, sizeof fz, fsha);
+  g_string_append_printf(s, "fusion.struct_sha256=%s\n", fsha);
 #else
   g_string_append(s, "fusion=none\n");
 #endif
@@ -77,6 +85,12 @@ arcwise_store_current_settings(void)
   kv(s, "analysis.min_top_rise_m", a.min_top_rise_m);
   kv(s, "analysis.min_peak_speed_m_s", a.min_peak_speed_m_s);
   kv(s, "analysis.impact_snr", a.impact_snr);
+  AwAnalysisSettings az;
+  memset(&az, 0, sizeof az);
+  aw_analysis_settings_default(&az);
+  char asha[65];
+  arcwise_codec_sha256_hex(&az, sizeof az, asha);
+  g_string_append_printf(s, "analysis.struct_sha256=%s\n", asha);
 #else
   g_string_append(s, "analysis=none\n");
 #endif
@@ -202,15 +216,35 @@ arcwise_pipeline_prepare(const char *imu_path, GBytes *imu_bytes, const char *de
     as.club = club;
   if (!isnan(club_length_m))
     as.club_length_m = club_length_m;
-  AwTrajectory traj;
-  if (ok)
+  /* Sensor trust: the same recording fused with each stream masked (analysis.h). A masked run
+   * that fails only leaves that comparison out, as aw_analyze_capture does. */
+  AwFusedPath *masked[2] = { NULL, NULL };
+  AwTrajectory traj, tr_m[2];
+  if (ok) {
     aw_trajectory_from_fused(path, imu->meta.accel_range_m_s2, imu->meta.gyro_range_rad_s, &traj);
+    AwFusionSettings fs;
+    aw_fusion_settings_default(&fs);
+    AwError merr;
+    for (int m = 0; m < 2; m++) {
+      fs.mask = m == 0 ? AW_FUSION_CAMERA_MASKED : AW_FUSION_IMU_MASKED;
+      if (aw_fuse(imu, depth, &fs, &masked[m], &merr) != AW_OK || masked[m]->n != path->n) {
+        aw_fused_path_free(masked[m]);
+        masked[m] = NULL;
+      } else {
+        aw_trajectory_from_fused(masked[m], 0, 0, &tr_m[m]);
+      }
+    }
+  }
   if (ok && fixed_spans == NULL) {
     AwAnalysis *an = NULL;
     if (aw_analyze(&traj, &as, &an, &err) != AW_OK) {
       g_autofree char *stage = g_strdup_printf("%s + %s: ", r->imu_name, r->depth_name);
       ok = engine_fail(error, &err, stage);
     }
+    AwError terr;
+    if (ok)
+      (void)aw_analysis_add_trust(an, &traj, masked[0] != NULL ? &tr_m[0] : NULL,
+                                  masked[1] != NULL ? &tr_m[1] : NULL, &terr);
     for (size_t k = 0; ok && an != NULL && k < an->n_swings; k++) {
       const AwSwing *sw = &an->swings[k];
       ArcwisePreparedSwing *ps = arcwise_prepared_swing_new();
@@ -224,7 +258,7 @@ arcwise_pipeline_prepare(const char *imu_path, GBytes *imu_bytes, const char *de
     }
     aw_analysis_free(an);
   } else if (ok) {
-    /* Re-analysis of given spans: the analysis runs on each span's part of the path. */
+    /* Re-analysis of given spans: the analysis runs on each span's part of the paths. */
     for (guint k = 0; ok && k < fixed_spans->len / 2; k++) {
       double a = g_array_index(fixed_spans, double, 2 * k);
       double b = g_array_index(fixed_spans, double, 2 * k + 1);
@@ -239,23 +273,34 @@ arcwise_pipeline_prepare(const char *imu_path, GBytes *imu_bytes, const char *de
         i0++;
       while (i1 > i0 && path->t_s[i1 - 1] > b)
         i1--;
-      AwTrajectory sub = traj;
-      sub.n = i1 - i0;
-      sub.t_s += i0;
-      sub.pos_m += i0;
-#define SHIFT(f) if (sub.f != NULL) sub.f += i0;
-      SHIFT(vel_m_s) SHIFT(q_f_body) SHIFT(accel_body_m_s2) SHIFT(gyro_body_rad_s)
-      SHIFT(pos_sigma_m) SHIFT(cam_info_share) SHIFT(flags)
+      AwTrajectory sub[3] = { traj, tr_m[0], tr_m[1] };
+      for (int m = 0; m < 3; m++) {
+        if (m > 0 && masked[m - 1] == NULL)
+          continue;
+        AwTrajectory *t = &sub[m];
+        t->n = i1 - i0;
+        t->t_s += i0;
+        t->pos_m += i0;
+#define SHIFT(f) if (t->f != NULL) t->f += i0;
+        SHIFT(vel_m_s) SHIFT(q_f_body) SHIFT(accel_body_m_s2) SHIFT(gyro_body_rad_s)
+        SHIFT(pos_sigma_m) SHIFT(cam_info_share) SHIFT(flags)
 #undef SHIFT
+      }
       AwAnalysis *an = NULL;
+      AwError terr;
       /* A span whose swing the new engine no longer finds keeps a fused path and shows as not
        * analysed: the swing and its annotations stay. */
-      if (ok && aw_analyze(&sub, &as, &an, &err) == AW_OK && an->n_swings > 0)
+      if (ok && aw_analyze(&sub[0], &as, &an, &terr) == AW_OK && an->n_swings > 0) {
+        (void)aw_analysis_add_trust(an, &sub[0], masked[0] != NULL ? &sub[1] : NULL,
+                                    masked[1] != NULL ? &sub[2] : NULL, &terr);
         swing_to_rows(&an->swings[0], ps);
+      }
       aw_analysis_free(an);
       g_ptr_array_add(r->swings, ps);
     }
   }
+  aw_fused_path_free(masked[0]);
+  aw_fused_path_free(masked[1]);
 #else
   /* No analysis in this build: the whole recording is one swing, fused, not analysed. */
   if (ok) {
@@ -588,8 +633,9 @@ typedef struct {
 } ImportTaskData;
 
 static void
-import_task_data_free(ImportTaskData *d)
+import_task_data_clear(gpointer data)
 {
+  ImportTaskData *d = data;
   g_free(d->library_path);
   g_free(d->player_name);
   g_free(d->session_date);
@@ -599,7 +645,13 @@ import_task_data_free(ImportTaskData *d)
   if (d->progress_data_free != NULL)
     d->progress_data_free(d->progress_data);
   g_main_context_unref(d->context);
-  g_free(d);
+}
+
+/* Shared by the task and every progress message still queued: released by the last one. */
+static void
+import_task_data_release(gpointer data)
+{
+  g_rc_box_release_full(data, import_task_data_clear);
 }
 
 typedef struct {
@@ -621,6 +673,7 @@ progress_msg_free(gpointer data)
 {
   ProgressMsg *m = data;
   g_free(m->what);
+  import_task_data_release(m->d);
   g_free(m);
 }
 
@@ -631,14 +684,18 @@ progress_forward(guint done, guint total, const char *what, gpointer user_data)
   if (d->progress == NULL)
     return;
   ProgressMsg *m = g_new0(ProgressMsg, 1);
-  m->d = d;
+  m->d = g_rc_box_acquire(d);
   m->done = done;
   m->total = total;
   m->what = g_strdup(what);
-  /* The task data outlives these sources: the task holds it until the callback has run, and
-   * the callback is dispatched in the same context after them. */
-  g_main_context_invoke_full(d->context, G_PRIORITY_DEFAULT, progress_in_context, m,
-                             progress_msg_free);
+  /* Always through a source (never g_main_context_invoke, which may call right here when the
+   * context is free), so the callback runs in the caller's thread, in order, before the
+   * completion callback queued after it. */
+  GSource *src = g_idle_source_new();
+  g_source_set_priority(src, G_PRIORITY_DEFAULT);
+  g_source_set_callback(src, progress_in_context, m, progress_msg_free);
+  g_source_attach(src, d->context);
+  g_source_unref(src);
 }
 
 static void
@@ -667,7 +724,7 @@ arcwise_store_import_async(const char *library_path, const ArcwiseImportTarget *
                            GDestroyNotify progress_data_free, GAsyncReadyCallback callback,
                            gpointer user_data)
 {
-  ImportTaskData *d = g_new0(ImportTaskData, 1);
+  ImportTaskData *d = g_rc_box_new0(ImportTaskData);
   d->library_path = g_strdup(library_path);
   d->target = *target;
   d->target.player_name = d->player_name = g_strdup(target->player_name);
@@ -689,7 +746,7 @@ arcwise_store_import_async(const char *library_path, const ArcwiseImportTarget *
   GTask *task = g_task_new(NULL, cancellable, callback, user_data);
   static const int import_tag;
   g_task_set_source_tag(task, (gpointer)&import_tag);
-  g_task_set_task_data(task, d, (GDestroyNotify)import_task_data_free);
+  g_task_set_task_data(task, d, import_task_data_release);
   g_task_run_in_thread(task, import_thread);
   g_object_unref(task);
 }

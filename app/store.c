@@ -398,6 +398,13 @@ finalize_stmt(gpointer st)
   sqlite3_finalize(st);
 }
 
+gboolean
+arcwise_store_migrate_to(ArcwiseStore *store, int version, GError **error)
+{
+  g_return_val_if_fail(version >= 0 && version <= ARCWISE_STORE_SCHEMA_VERSION, FALSE);
+  return migrate(store, version, error);
+}
+
 static ArcwiseStore *
 open_connection(const char *path, ArcwiseStoreOpenFlags flags, int target_version,
                 GError **error)
@@ -542,8 +549,22 @@ arcwise_store_schema_dump(ArcwiseStore *store, GError **error)
 
 /* ---- Check and backup --------------------------------------------------------------------- */
 
+static gboolean check_impl(ArcwiseStore *store, gboolean blobs, GError **error);
+
 gboolean
 arcwise_store_check(ArcwiseStore *store, GError **error)
+{
+  return check_impl(store, TRUE, error);
+}
+
+gboolean
+arcwise_store_check_database(ArcwiseStore *store, GError **error)
+{
+  return check_impl(store, FALSE, error);
+}
+
+static gboolean
+check_impl(ArcwiseStore *store, gboolean blobs, GError **error)
 {
   GString *problems = g_string_new(NULL);
   guint n_problems = 0;
@@ -573,7 +594,7 @@ arcwise_store_check(ArcwiseStore *store, GError **error)
 
   /* Every recording must decode to its recorded size and hash; every swing has its recording
    * data. This reads every blob once: the check is meant to be thorough, not fast. */
-  if (n_problems == 0) {
+  if (n_problems == 0 && blobs) {
     st = stmt(store,
               "SELECT r.id, r.imu_size, r.imu_sha256, r.depth_size, r.depth_sha256, d.imu, "
               "d.depth FROM recording r LEFT JOIN recording_data d ON d.recording_id = r.id",

@@ -204,10 +204,22 @@ find_contact(const AwAnWork *w, size_t i_lo, size_t i_hi, size_t r_lo, size_t r_
       rough[k] = 0;
       continue;
     }
-    double d[3];
-    for (int c = 0; c < 3; c++)
-      d[c] = a[i][c] - 0.5 * (a[i - 1][c] + a[i + 1][c]);
-    rough[k] = aw_v3_norm(d);
+    /* The forearm turns up to 40 rad/s through impact, which swings the specific force
+     * around the watch's own axes from sample to sample; seen in the trajectory frame (with
+     * the watch's orientation) the force changes smoothly except at contact. Without an
+     * orientation its magnitude, which turning leaves alone, is used. */
+    const double (*q)[4] = w->traj->q_f_body;
+    if (q != NULL) {
+      double f0[3], f1[3], f2[3], d[3];
+      aw_quat_rotate(f0, q[i - 1], a[i - 1]);
+      aw_quat_rotate(f1, q[i], a[i]);
+      aw_quat_rotate(f2, q[i + 1], a[i + 1]);
+      for (int c = 0; c < 3; c++)
+        d[c] = f1[c] - 0.5 * (f0[c] + f2[c]);
+      rough[k] = aw_v3_norm(d);
+    } else {
+      rough[k] = fabs(aw_v3_norm(a[i]) - 0.5 * (aw_v3_norm(a[i - 1]) + aw_v3_norm(a[i + 1])));
+    }
   }
   memcpy(tmp, rough, nr * sizeof *tmp);
   double med = median_of(tmp, nr);
@@ -547,7 +559,7 @@ try_swing(const AwAnWork *w, size_t ipk, AwSwing *s, size_t *next_i)
     size_t hi = aw_an_index_at(t, n, t_imp_path + 0.06) + 1;
     if (lo < itop + 1)
       lo = itop + 1;
-    double tc, sc;
+    double tc = t_imp_path, sc = sig_imp;
     if (find_contact(w, lo, hi, itop, ifin > itop + 5 ? ifin : itop + 5 < n ? itop + 5 : n,
                      &tc, &sc)) {
       t_imp = tc;

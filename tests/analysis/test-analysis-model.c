@@ -476,6 +476,62 @@ test_tables(void)
   AW_CHECK_NEAR(aw_club_speed_lever(8.0, 15.0, 1.0, 2.0), 38.0, 1e-12);
 }
 
+/* Sensor trust by masking on constructed paths: the IMU-only path is the full one plus a
+ * straight-line drift (what an IMU-only run inherits, removed by the trend) and a bump in the
+ * backswing; the camera-only path carries a 5 cm bump through the downswing. */
+static void
+test_trust(void)
+{
+  TestSwingSpec s;
+  test_swing_spec_default(&s);
+  Path P = { 0 };
+  sample_swing(&P, &s, I3, Z3, 0.0, 0.0, test_swing_t_end(&s));
+  AwAnalysis *a = analyze_ok(&P, UP, NULL);
+  AW_CHECK(a != NULL && a->n_swings == 1);
+  if (a == NULL || a->n_swings != 1) {
+    path_free(&P);
+    aw_analysis_free(a);
+    return;
+  }
+  const AwSwing *w = &a->swings[0];
+  Path C = { 0 }, M = { 0 };
+  double tb0 = w->phases[AW_PHASE_BACKSWING].start_s, tb1 = w->phases[AW_PHASE_BACKSWING].end_s;
+  double td0 = w->phases[AW_PHASE_DOWNSWING].start_s, td1 = w->phases[AW_PHASE_DOWNSWING].end_s;
+  for (size_t i = 0; i < P.n; i++) {
+    double t = P.t[i], pc[3], pm[3];
+    aw_v3_copy(pc, P.p[i]);
+    aw_v3_copy(pm, P.p[i]);
+    pc[0] += 0.3 + 0.2 * t; /* inherited offset and velocity error */
+    if (t > tb0 && t < tb1)
+      pc[1] += 0.04 * pow(sin(3.14159265 * (t - tb0) / (tb1 - tb0)), 2);
+    if (t > td0 && t < td1)
+      pm[2] += 0.05 * pow(sin(3.14159265 * (t - td0) / (td1 - td0)), 2);
+    path_push(&C, t, pc);
+    path_push(&M, t, pm);
+  }
+  AwTrajectory tf, tc, tm;
+  traj_of(&P, UP, &tf);
+  traj_of(&C, UP, &tc);
+  traj_of(&M, UP, &tm);
+  AwError err;
+  AW_CHECK(aw_analysis_add_trust(a, &tf, &tc, &tm, &err) == AW_OK);
+  const AwPhase *ph = a->swings[0].phases;
+  /* Camera-only departs in the downswing: the IMU carries it. */
+  AW_CHECK(ph[AW_PHASE_DOWNSWING].dominance == AW_DOMINANCE_IMU);
+  AW_CHECK(ph[AW_PHASE_DOWNSWING].dev_imu_masked_m > 0.01);
+  /* The drift is a straight line in time and goes; what is left is the backswing bump's last
+   * sample at the phase boundary (below 0.1 mm). */
+  AW_CHECK(ph[AW_PHASE_DOWNSWING].dev_camera_masked_m < 1e-4);
+  /* IMU-only departs in the backswing: the camera carries it. */
+  AW_CHECK(ph[AW_PHASE_BACKSWING].dominance == AW_DOMINANCE_CAMERA);
+  /* The still address, camera not reported lost: camera. */
+  AW_CHECK(ph[AW_PHASE_ADDRESS].dominance == AW_DOMINANCE_CAMERA);
+  aw_analysis_free(a);
+  path_free(&C);
+  path_free(&M);
+  path_free(&P);
+}
+
 int
 main(void)
 {
@@ -483,5 +539,6 @@ main(void)
   test_tempo_24_8();
   test_metrics_100hz();
   test_continuous_and_bad_input();
+  test_trust();
   return AW_TEST_END();
 }
