@@ -90,6 +90,7 @@ typedef struct {
   const AwCamPrep *cam;
   const size_t *frames;   /* camera frames used */
   size_t m;
+  double lever_sigma;     /* prior 1-sigma of the lever arm */
 } WCtx;
 
 static bool
@@ -216,9 +217,10 @@ w_resid(const WCtx *w, double shift, double q_out[4], double g_out[3], double l_
       free(e2);
       free(ev);
     }
-    /* Ridge toward zero: a lever arm is centimetres; motion without rotation cannot see it. */
-    double tr = N[0][0] + N[1][1] + N[2][2];
-    for (int c = 0; c < 3; c++) N[c][c] += 1e-3 * tr + 1e-6;
+    /* Prior toward zero: a lever arm is centimetres and motion without rotation cannot see it.
+     * Weight = residual variance per frame / prior variance (a Gaussian prior in the same LS). */
+    double rv = fmax(rms * rms, 0.25);
+    for (int c = 0; c < 3; c++) N[c][c] += rv / (w->lever_sigma * w->lever_sigma);
     double det = N[0][0] * (N[1][1] * N[2][2] - N[1][2] * N[2][1]) -
                  N[0][1] * (N[1][0] * N[2][2] - N[1][2] * N[2][0]) +
                  N[0][2] * (N[1][0] * N[2][1] - N[1][1] * N[2][0]);
@@ -291,6 +293,14 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
       for (int a = 0; a < 3; a++)
         cum[i][a] = cum[i - 1][a] + 0.5 * (tau[i] - tau[i - 1]) * (fb0[i][a] + fb0[i - 1][a]);
   }
+  /* The calibration window starts where the camera first sees motion: still frames pin only
+   * the tilt, and the heading about gravity needs accelerations in several directions. */
+  double t_motion = -INFINITY;
+  for (size_t k = 0, run = 0; k < cam->n; k++) {
+    if (!cam->acc_ok[k]) { run = 0; continue; }
+    run = aw_v3_norm(cam->acc_m_s2[k]) > 3.0 ? run + 1 : 0;
+    if (run >= 3) { t_motion = cam->t_s[k] - 2.0; break; }
+  }
   /* Clock refinement: the shift of the IMU clock that best explains the camera's acceleration
    * vectors by one rotation (a far sharper criterion than the magnitudes of stage 1). */
   out->clock_shift_s = 0;
@@ -309,13 +319,13 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
       for (size_t k = 0; k < cam->n; k++) {
         if (!cam->acc_ok[k]) continue;
         double tk = cam->t_s[k];
-        if (n_ok < 2 || tk - 0.25 < tau[0] || tk + 0.25 > tau[n_ok - 1]) continue;
+        if (n_ok < 2 || tk - 0.25 < tau[0] || tk + 0.25 > tau[n_ok - 1] || tk < t_motion) continue;
         if (isnan(t_first0)) t_first0 = tk;
         if (tk > t_first0 + 20.0) break;
         frames[m0++] = k;
       }
       WCtx w = { tau, (const double (*)[3])fb0, (const double (*)[3])cum, (const double (*)[3])pb0,
-                 (const double (*)[4])qb0, n_ok, cam, frames, m0 };
+                 (const double (*)[4])qb0, n_ok, cam, frames, m0, fmax(s->lever_arm_sigma_m, 1e-3) };
       if (m0 >= 10) {
         double best = 0, br = INFINITY, step = 0.005;
         for (int j = -10; j <= 10; j++) {
@@ -368,7 +378,7 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
   for (size_t k = 0; k < cam->n; k++) {
     if (!cam->acc_ok[k]) continue;
     double tk = cam->t_s[k];
-    if (n_ok < 2 || tk + h > tau[n_ok - 1]) continue;
+    if (n_ok < 2 || tk + h > tau[n_ok - 1] || tk < t_motion) continue;
     if (!isnan(t_first) && tk > t_first + 20.0) break;
     double fm[3];
     if (!aw_fusion_box_mean(tau, cum, fb0, n_ok,
@@ -456,6 +466,5 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
     aw_v3_copy(out->g_cam_m_s2, gc);
   }
   free(A); free(F); free(res); free(use);
-  (void)s;
   return AW_OK;
 }

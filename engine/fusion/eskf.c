@@ -25,6 +25,7 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+#include <stdio.h>
 
 enum { NS = 22, IP = 0, IV = 3, IT = 6, IL = 9, IC = 12, IBA = 13, IBG = 16, IDG = 19, NH = 13 };
 
@@ -561,6 +562,10 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
               s->accel_bias_walk_m_s3_rthz * s->accel_bias_walk_m_s3_rthz,
               s->gyro_bias_walk_rad_s2_rthz * s->gyro_bias_walk_rad_s2_rthz };
   bool use_cam = s->mask != AW_FUSION_CAMERA_MASKED;
+  /* A recording's own still periods show its sensor noise; never assume it quieter than the
+   * datasheet figure. */
+  if (imu->accel_noise_meas > s->accel_noise_density_m_s2_rthz) m.sa2 = imu->accel_noise_meas * imu->accel_noise_meas;
+  if (imu->gyro_noise_meas > s->gyro_noise_density_rad_s_rthz) m.sg2 = imu->gyro_noise_meas * imu->gyro_noise_meas;
 
   /* Camera frames mapped to their nearest IMU sample (frames in IMU gaps are not used). */
   size_t *fstart = calloc(n + 1, sizeof *fstart);

@@ -40,6 +40,7 @@ typedef struct {
   unsigned char *sat_gyr;
   unsigned char *still;       /* inside a still window */
   double acc_range, gyr_range;
+  double accel_noise_meas, gyro_noise_meas;  /* white-noise densities measured when still (0 = none) */
 } AwImuPrep;
 
 AwStatus aw_fusion_prep_cam(const AwDepthStream *d, const AwFusionSettings *s, AwCamPrep *out);

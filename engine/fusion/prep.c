@@ -246,6 +246,27 @@ aw_fusion_prep_imu(const AwImuStream *imu, const AwFusionSettings *s, double g, 
   }
   free(cnt);
   free(quiet);
+  /* White-noise densities from the still samples: sample-to-sample differences remove the
+   * (slow) bias and gravity, var(x[i+1]-x[i]) = 2 sigma^2, and sigma^2 = N^2 / (2 dt) for white
+   * noise sampled at 1/dt with the Nyquist bandwidth. */
+  {
+    double sa = 0, sg = 0;
+    size_t c = 0;
+    for (size_t i = 0; i + 1 < n; i++) {
+      if (!m->still[i] || !m->still[i + 1]) continue;
+      for (int a = 0; a < 3; a++) {
+        double da = m->f[i + 1][a] - m->f[i][a], dg = m->w[i + 1][a] - m->w[i][a];
+        sa += da * da;
+        sg += dg * dg;
+      }
+      c++;
+    }
+    if (c >= 50) {
+      double va = sa / (6.0 * (double)c), vg = sg / (6.0 * (double)c);
+      m->accel_noise_meas = sqrt(va * 2 * m->dt_nom_s);
+      m->gyro_noise_meas = sqrt(vg * 2 * m->dt_nom_s);
+    }
+  }
   return AW_OK;
 }
 
