@@ -87,14 +87,14 @@ static void
 usage(FILE *f)
 {
   fprintf(f,
-          "Usage: arcwise bench accuracy [--n N] [--seed S] [--plot-data FILE]\n"
+          "Usage: arcwise bench accuracy [--n N] [--seed S] [--plot-data FILE [--plot-swing K]]\n"
           "\n"
           "Simulates N single-swing recordings (default 60; seeds S, S+1, ...; levels easy,\n"
           "normal, hard in turn; face-on and down-the-line alternating) and prints, for every\n"
           "estimator, the median and 90th percentile over swings of: position RMSE over the\n"
           "motion (takeaway to finish), RMSE in the occlusion windows only, the maximum error\n"
           "over the motion, and clock-offset and event-timing errors where estimated.\n"
-          "--plot-data writes the first swing's truth, raw frames and estimates as CSV for\n"
+          "--plot-data writes swing K's (default 0) truth, raw frames and estimates as CSV for\n"
           "tools/plot-swing.py.\n");
 }
 
@@ -104,6 +104,7 @@ arcwise_bench_accuracy(int argc, char **argv)
   long n_swings = 60;
   unsigned long long seed0 = 1000;
   const char *plot = NULL;
+  long plot_index = 0;
   for (int i = 1; i < argc; i++) {
     if (strcmp(argv[i], "--help") == 0 || strcmp(argv[i], "-h") == 0) {
       usage(stdout);
@@ -122,6 +123,12 @@ arcwise_bench_accuracy(int argc, char **argv)
         return arcwise_cli_usage_error("bench accuracy", "--seed needs an unsigned integer");
     } else if (strcmp(argv[i], "--plot-data") == 0 && i + 1 < argc) {
       plot = argv[++i];
+    } else if (strcmp(argv[i], "--plot-swing") == 0 && i + 1 < argc) {
+      char *end;
+      errno = 0;
+      plot_index = strtol(argv[++i], &end, 10);
+      if (errno || *end || plot_index < 0)
+        return arcwise_cli_usage_error("bench accuracy", "--plot-swing needs a swing index");
     } else {
       return arcwise_cli_usage_error("bench accuracy", "unknown option '%s'", argv[i]);
     }
@@ -181,7 +188,7 @@ arcwise_bench_accuracy(int argc, char **argv)
     BenchInput in = { aw_sim_imu(sim), dp, &init };
     FILE *pf = NULL;
     double (*plot_est)[N_EST][3] = NULL;
-    if (plot != NULL && s == 0)
+    if (plot != NULL && s == plot_index)
       plot_est = calloc(n, sizeof *plot_est);
     for (int e = 0; e < N_EST; e++) {
       BenchOutput out;
