@@ -23,6 +23,10 @@ AwNumResult aw_capture_parse_double(const char *begin, const char *end, double *
  * the decimal point. v must be finite. Returns the length (buf must hold 32 bytes). */
 int aw_capture_format_double(char buf[32], double v);
 
+/* |v| to prec significant digits exactly as printf's %.{prec}g writes it in the C locale
+ * (exact integer digit generation in the common range, snprintf elsewhere). */
+int aw_capture_format_g(char buf[32], int prec, double v);
+
 /* Reads a whole file into a freshly allocated buffer (NUL-terminated for convenience; *len does
  * not count the NUL). On failure returns AW_ERR_IO / AW_ERR_NO_MEMORY and fills err. */
 AwStatus aw_capture_slurp(const char *path, char **data, size_t *len, AwError *err);

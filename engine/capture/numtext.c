@@ -166,11 +166,145 @@ format_with(char buf[32], int prec, double v)
   return n;
 }
 
+/* Exact decimal digits without printf, for 1e-6 <= |v| < 1e17 (the range of sensor values and
+ * times): v = m 2^-s exactly, so floor(v 10^k) and its remainder follow from one 128-bit
+ * product. Fills the 17 leading digits (q17, with a sticky bit for anything below) and the
+ * decimal exponent of the first digit. Returns false outside the range. */
+typedef struct {
+  uint64_t q17;     /* floor(|v| 10^k), 17 digits */
+  bool sticky;      /* the remainder is not zero */
+  int exp10;        /* |v| = 0.d1d2... x 10^(exp10 + 1), i.e. d1 is the 10^exp10 digit */
+} Digits17;
+
+static const uint64_t pow10_u64[20] = {
+  1ull, 10ull, 100ull, 1000ull, 10000ull, 100000ull, 1000000ull, 10000000ull, 100000000ull,
+  1000000000ull, 10000000000ull, 100000000000ull, 1000000000000ull, 10000000000000ull,
+  100000000000000ull, 1000000000000000ull, 10000000000000000ull, 100000000000000000ull,
+  1000000000000000000ull, 10000000000000000000ull,
+};
+
+#if defined(__SIZEOF_INT128__)
+__extension__ typedef unsigned __int128 aw_u128;
+
+static bool
+digits17(double v, Digits17 *d)
+{
+  double a = fabs(v);
+  if (!(a >= 1e-6 && a < 1e17))
+    return false;
+  int e2;
+  double fr = frexp(a, &e2);                     /* a = fr 2^e2, fr in [0.5, 1) */
+  uint64_t m = (uint64_t)ldexp(fr, 53);           /* exact: a = m 2^(e2 - 53) */
+  int s = 53 - e2;                                /* a = m / 2^s; s in [-3, 73] here */
+  int x = (int)floor(log10(a));                   /* estimate of the leading digit's power */
+  for (int attempt = 0; attempt < 3; attempt++) {
+    int k = 16 - x;                               /* want floor(a 10^k) to have 17 digits */
+    if (k < 0 || k > 22)
+      return false;
+    aw_u128 num = (aw_u128)m;
+    for (int i = 0; i < k; i++)
+      num *= 10;                                  /* < 2^53 10^22 < 2^127 */
+    aw_u128 q, r;
+    if (s >= 0) {
+      q = num >> s;
+      r = num - (q << s);
+    } else {
+      q = num << -s;
+      r = 0;
+    }
+    if (q < (aw_u128)pow10_u64[16]) {
+      x--;
+      continue;
+    }
+    if (q >= (aw_u128)pow10_u64[17]) {
+      x++;
+      continue;
+    }
+    d->q17 = (uint64_t)q;
+    d->sticky = r != 0;
+    d->exp10 = x;
+    return true;
+  }
+  return false;
+}
+
+/* |v| rounded to p significant digits (round half to even on the exact value, as printf does),
+ * written as %.{p}g would write it. */
+static int
+format_g(char buf[32], bool neg, const Digits17 *d, int p)
+{
+  uint64_t div = pow10_u64[17 - p];
+  uint64_t q = d->q17 / div, r = d->q17 % div;
+  uint64_t half = div / 2;
+  int x = d->exp10;
+  if (r > half || (r == half && (d->sticky || (q & 1))))  /* p <= 16, so div >= 10 */
+    q++;
+  if (q == pow10_u64[p]) {
+    q /= 10;
+    x++;
+  }
+  char dig[20];
+  for (int i = p - 1; i >= 0; i--) {
+    dig[i] = (char)('0' + q % 10);
+    q /= 10;
+  }
+  int nd = p;
+  while (nd > 1 && dig[nd - 1] == '0')
+    nd--;                                         /* %g drops trailing zeros */
+  int n = 0;
+  if (neg)
+    buf[n++] = '-';
+  if (x < -4 || x >= p) {
+    buf[n++] = dig[0];
+    if (nd > 1) {
+      buf[n++] = '.';
+      for (int i = 1; i < nd; i++)
+        buf[n++] = dig[i];
+    }
+    int ax = x < 0 ? -x : x;
+    buf[n++] = 'e';
+    buf[n++] = x < 0 ? '-' : '+';
+    if (ax >= 100)
+      buf[n++] = (char)('0' + ax / 100);
+    buf[n++] = (char)('0' + ax / 10 % 10);
+    buf[n++] = (char)('0' + ax % 10);
+  } else if (x >= 0) {
+    for (int i = 0; i <= x; i++)
+      buf[n++] = i < nd ? dig[i] : '0';
+    if (nd > x + 1) {
+      buf[n++] = '.';
+      for (int i = x + 1; i < nd; i++)
+        buf[n++] = dig[i];
+    }
+  } else {
+    buf[n++] = '0';
+    buf[n++] = '.';
+    for (int i = 0; i < -x - 1; i++)
+      buf[n++] = '0';
+    for (int i = 0; i < nd; i++)
+      buf[n++] = dig[i];
+  }
+  buf[n] = '\0';
+  return n;
+}
+#endif
+
+int
+aw_capture_format_g(char buf[32], int prec, double v)
+{
+#if defined(__SIZEOF_INT128__)
+  Digits17 d;
+  if (prec >= 1 && prec <= 16 && digits17(v, &d))
+    return format_g(buf, signbit(v) != 0, &d, prec);
+#endif
+  return format_with(buf, prec, v);
+}
+
 int
 aw_capture_format_double(char buf[32], double v)
 {
   for (int prec = 15; prec < 17; prec++) {
-    int n = format_with(buf, prec, v);
+    int n = aw_capture_format_g(buf, prec, v);
     double back;
     if (aw_capture_parse_double(buf, buf + n, &back) == AW_NUM_OK && back == v)
       return n;

@@ -221,6 +221,39 @@ test_number_parser(void)
   }
 }
 
+/* The writer's own digit generation gives exactly what printf's %.15g and %.16g give (glibc's
+ * printf is exact: the reference here), over full-precision, scaled-integer and six-decimal
+ * values across the magnitudes sensors and clocks produce. */
+static void
+test_format_g(void)
+{
+  uint64_t x = 99;
+  long bad = 0;
+  for (int i = 0; i < 200000; i++) {
+    x ^= x << 13;
+    x ^= x >> 7;
+    x ^= x << 17;
+    double v;
+    if (i % 3 == 0) {
+      uint64_t bits = (x & 0x800FFFFFFFFFFFFFu) | ((uint64_t)(1003 + (x >> 52) % 80) << 52);
+      memcpy(&v, &bits, sizeof v);
+    } else if (i % 3 == 1) {
+      v = (double)((int64_t)(x % 2000001) - 1000000) / (double)(1ull << (x >> 60)) / 1000.0;
+    } else {
+      v = round(((double)(x >> 11) / 9007199254740992.0 - 0.5) * 1e6) / 1e6 *
+          pow(10, (int)(x % 9) - 3);
+    }
+    for (int p = 15; p <= 16; p++) {
+      char mine[32], ref[32];
+      aw_capture_format_g(mine, p, v);
+      snprintf(ref, sizeof ref, "%.*g", p, v);
+      if (strcmp(mine, ref) != 0 && bad++ < 5)
+        fprintf(stderr, "%%.%dg of %.17g: '%s', printf '%s'\n", p, v, mine, ref);
+    }
+  }
+  AW_CHECK(bad == 0);
+}
+
 static size_t
 count_dir_entries(const char *dir)
 {
@@ -420,6 +453,7 @@ main(void)
   test_imu_units();
   test_depth();
   test_number_parser();
+  test_format_g();
   test_round_trip();
   test_rejection_changes_nothing();
   test_read_any();
