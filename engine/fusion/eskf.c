@@ -308,12 +308,13 @@ nominal_step(const Model *m, size_t i, const Nom *in, Nom *out, Trans *T)
   T->qv = m->sa2 * dt + ss * ss * dt * dt;
   T->qth = m->sg2 * dt + sw * sw * dt * dt;
   if (imu->sat_acc[i] || imu->sat_acc[i + 1]) {
-    /* A clipped accelerometer says only that |a| >= full scale: half the range, per step. */
-    double e = 0.5 * imu->acc_range * dt;
+    /* A clipped sample was reconstructed (prep.c): its error is of the order of the
+     * reconstructed excess over full scale, per step. */
+    double e = fmax((double)imu->acc_excess[i], (double)imu->acc_excess[i + 1]) * dt;
     T->qv += e * e;
   }
   if (imu->sat_gyr[i] || imu->sat_gyr[i + 1]) {
-    double e = 0.5 * imu->gyr_range * dt;
+    double e = fmax((double)imu->gyr_excess[i], (double)imu->gyr_excess[i + 1]) * dt;
     T->qth += e * e;
   }
   T->qp = T->qv * dt * dt / 3.0;

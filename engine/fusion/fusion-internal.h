@@ -41,6 +41,8 @@ typedef struct {
   unsigned char *still;       /* inside a still window */
   double acc_range, gyr_range;
   double accel_noise_meas, gyro_noise_meas;  /* white-noise densities measured when still (0 = none) */
+  double (*f_own)[3], (*w_own)[3];  /* copies with clipped runs reconstructed (f, w point here) */
+  float *acc_excess, *gyr_excess;   /* |reconstructed| - full scale on clipped samples, else 0 */
 } AwImuPrep;
 
 AwStatus aw_fusion_prep_cam(const AwDepthStream *d, const AwFusionSettings *s, AwCamPrep *out);

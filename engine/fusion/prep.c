@@ -176,6 +176,71 @@ detect_range(const double (*x)[3], size_t n, double declared)
   return 0;
 }
 
+/* Clipped runs: a quadratic through up to three unclipped samples on each side, evaluated
+ * inside the run, never below full scale (a clipped reading says only |x| >= range). Wrist
+ * rates and accelerations are smooth on the scale of a few samples, which is what makes the
+ * peak recoverable; the excess is kept so the filter can weigh the reconstruction. */
+static void
+declip(double (*x)[3], const double *t, size_t n, double range, float *excess)
+{
+  if (!(range > 0)) return;
+  double lim = 0.995 * range;
+  for (int a = 0; a < 3; a++) {
+    for (size_t i = 0; i < n;) {
+      if (fabs(x[i][a]) < lim) { i++; continue; }
+      size_t j = i;
+      while (j < n && fabs(x[j][a]) >= lim) j++;
+      double sgn = x[i][a] > 0 ? 1 : -1;
+      /* neighbours */
+      double S[5] = { 0 }, Sy[3] = { 0 };
+      int cnt = 0;
+      double t0 = t[i];
+      for (size_t k = i >= 3 ? i - 3 : 0; k < i; k++) {
+        double u = t[k] - t0, y = x[k][a];
+        S[0] += 1; S[1] += u; S[2] += u * u; S[3] += u * u * u; S[4] += u * u * u * u;
+        Sy[0] += y; Sy[1] += y * u; Sy[2] += y * u * u; cnt++;
+      }
+      for (size_t k = j; k < n && k < j + 3; k++) {
+        if (fabs(x[k][a]) >= lim) break;
+        double u = t[k] - t0, y = x[k][a];
+        S[0] += 1; S[1] += u; S[2] += u * u; S[3] += u * u * u; S[4] += u * u * u * u;
+        Sy[0] += y; Sy[1] += y * u; Sy[2] += y * u * u; cnt++;
+      }
+      double c[3] = { 0, 0, 0 };
+      bool ok = false;
+      if (cnt >= 4) {
+        double A[3][3] = { { S[0], S[1], S[2] }, { S[1], S[2], S[3] }, { S[2], S[3], S[4] } };
+        double det = A[0][0] * (A[1][1] * A[2][2] - A[1][2] * A[2][1]) -
+                     A[0][1] * (A[1][0] * A[2][2] - A[1][2] * A[2][0]) +
+                     A[0][2] * (A[1][0] * A[2][1] - A[1][1] * A[2][0]);
+        if (fabs(det) > 1e-30) {
+          for (int col = 0; col < 3; col++) {
+            double M[3][3];
+            memcpy(M, A, sizeof M);
+            for (int r = 0; r < 3; r++) M[r][col] = Sy[r];
+            c[col] = (M[0][0] * (M[1][1] * M[2][2] - M[1][2] * M[2][1]) -
+                      M[0][1] * (M[1][0] * M[2][2] - M[1][2] * M[2][0]) +
+                      M[0][2] * (M[1][0] * M[2][1] - M[1][1] * M[2][0])) / det;
+          }
+          ok = true;
+        }
+      }
+      for (size_t k = i; k < j; k++) {
+        double v = range * sgn;
+        if (ok) {
+          double u = t[k] - t0, q = c[0] + c[1] * u + c[2] * u * u;
+          /* at most twice full scale: beyond that the parabola is guessing */
+          if (q * sgn > range) v = sgn * fmin(fabs(q), 2.0 * range);
+        }
+        x[k][a] = v;
+        float e = (float)(fabs(v) - range + 0.05 * range);
+        if (e > excess[k]) excess[k] = e;
+      }
+      i = j;
+    }
+  }
+}
+
 AwStatus
 aw_fusion_prep_imu(const AwImuStream *imu, const AwFusionSettings *s, double g, AwImuPrep *m)
 {
@@ -204,6 +269,21 @@ aw_fusion_prep_imu(const AwImuStream *imu, const AwFusionSettings *s, double g, 
   }
   m->acc_range = detect_range(m->f, n, imu->meta.accel_range_m_s2);
   m->gyr_range = detect_range(m->w, n, imu->meta.gyro_range_rad_s);
+  m->f_own = malloc(sizeof *m->f_own * (n ? n : 1));
+  m->w_own = malloc(sizeof *m->w_own * (n ? n : 1));
+  m->acc_excess = calloc(n ? n : 1, sizeof *m->acc_excess);
+  m->gyr_excess = calloc(n ? n : 1, sizeof *m->gyr_excess);
+  if (!m->f_own || !m->w_own || !m->acc_excess || !m->gyr_excess) {
+    free(quiet);
+    aw_fusion_prep_imu_free(m);
+    return AW_ERR_NO_MEMORY;
+  }
+  memcpy(m->f_own, imu->accel_m_s2, sizeof *m->f_own * n);
+  memcpy(m->w_own, imu->gyro_rad_s, sizeof *m->w_own * n);
+  declip(m->f_own, imu->t_s, n, m->acc_range, m->acc_excess);
+  declip(m->w_own, imu->t_s, n, m->gyr_range, m->gyr_excess);
+  m->f = (const double (*)[3])m->f_own;
+  m->w = (const double (*)[3])m->w_own;
   size_t half = (size_t)ceil(0.5 * s->still_window_s / m->dt_nom_s);
   if (half < 1) half = 1;
   /* Window means of the gyro: stillness is judged on the rate's deviation from its local mean,
@@ -278,6 +358,10 @@ aw_fusion_prep_imu_free(AwImuPrep *m)
   free(m->sat_acc);
   free(m->sat_gyr);
   free(m->still);
+  free(m->f_own);
+  free(m->w_own);
+  free(m->acc_excess);
+  free(m->gyr_excess);
   memset(m, 0, sizeof *m);
 }
 
