@@ -103,10 +103,10 @@ rts(Ax *f, Ax *p, Ax *sn, double dt, Ax *s)
 }
 
 static void
-noise_var(const AwFusionSettings *s, const double p[3], double conf, double var[3])
+noise_var(const AwFusionSettings *s, double scale, const double p[3], double conf, double var[3])
 {
   double z = fmax(p[2], 0.1);
-  double sxy = s->cam_sigma_xy_m * z, sz = s->cam_sigma_z_coeff_per_m * z * z;
+  double sxy = scale * s->cam_sigma_xy_m * z, sz = scale * s->cam_sigma_z_coeff_per_m * z * z;
   double w = 1.0 / fmax(conf, 0.05);
   var[0] = var[1] = sxy * sxy * w;
   var[2] = sz * sz * w;
@@ -138,7 +138,7 @@ estimate_jerk_psd(const AwCamPrep *cam, const AwFusionSettings *s)
     for (int a = 0; a < 3; a++) {
       double d3 = cam->pos_m[k + 3][a] - 3 * cam->pos_m[k + 2][a] + 3 * cam->pos_m[k + 1][a] - cam->pos_m[k][a];
       double var[3];
-      noise_var(s, cam->pos_m[k + 1], cam->conf ? cam->conf[k + 1] : 1, var);
+      noise_var(s, cam->noise_scale, cam->pos_m[k + 1], cam->conf ? cam->conf[k + 1] : 1, var);
       sum += d3 * d3 - 20 * var[a];
       raw += d3 * d3;
     }
@@ -189,7 +189,7 @@ aw_fusion_camonly_run(const AwCamPrep *cam, const double *tau, size_t n,
   for (size_t k = 0; k < cam->n; k++) {
     if (!cam->valid[k]) continue;
     double var[3];
-    noise_var(s, cam->pos_m[k], cam->conf ? cam->conf[k] : 1, var);
+    noise_var(s, cam->noise_scale, cam->pos_m[k], cam->conf ? cam->conf[k] : 1, var);
     if (m == 0) {
       for (int a = 0; a < 3; a++) {
         memset(&cur[a], 0, sizeof cur[a]);

@@ -411,11 +411,12 @@ typedef struct {
   size_t frame;
 } CamMeas;
 
+/* Camera noise: the settings' model scaled by the level measured in the recording. */
 static void
-cam_noise(const AwFusionSettings *s, const double p[3], double conf, double R[3][3])
+cam_noise(const AwFusionSettings *s, double scale, const double p[3], double conf, double R[3][3])
 {
   double z = fmax(p[2], 0.1);
-  double sxy = s->cam_sigma_xy_m * z, sz = s->cam_sigma_z_coeff_per_m * z * z;
+  double sxy = scale * s->cam_sigma_xy_m * z, sz = scale * s->cam_sigma_z_coeff_per_m * z * z;
   double w = 1.0 / fmax(conf, 0.05);   /* confidence scales the variance */
   memset(R, 0, sizeof(double) * 9);
   R[0][0] = sxy * sxy * w;
@@ -634,7 +635,7 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
       aw_mat_mul_v3(Rl, (const double (*)[3])R, m.lever);
       for (int a = 0; a < 3; a++) x.p[a] = cam->pos_m[kb][a] - Rl[a];
       double Rc[3][3];
-      cam_noise(s, cam->pos_m[kb], cam->conf ? cam->conf[kb] : 1, Rc);
+      cam_noise(s, cam->noise_scale, cam->pos_m[kb], cam->conf ? cam->conf[kb] : 1, Rc);
       sp = sqrt(Rc[0][0] + Rc[1][1] + Rc[2][2] + 1e-4) + 2.0 * best;
     }
     double sv = imu->still[0] ? 0.05 : 1.5;
@@ -696,7 +697,7 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
         double delta = cam->t_s[k] - tau[i];
         double h[3], Hb[3][NH], R[3][3], y[3];
         cam_predict(&m, &x, i, delta, h, Hb);
-        cam_noise(s, cam->pos_m[k], cam->conf ? cam->conf[k] : 1, R);
+        cam_noise(s, cam->noise_scale, cam->pos_m[k], cam->conf ? cam->conf[k] : 1, R);
         for (int a = 0; a < 3; a++) y[a] = cam->pos_m[k][a] - h[a];
         Upd *u = upd_push(&ul);
         if (!u) { st = AW_ERR_NO_MEMORY; goto out; }

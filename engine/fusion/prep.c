@@ -144,6 +144,40 @@ aw_fusion_prep_cam(const AwDepthStream *d, const AwFusionSettings *s, AwCamPrep 
     }
   }
   c->wstart[d->n] = wn;
+  /* Camera noise level from the data: the residual of each frame against its own local fit,
+   * in units of the model's sigma. For a quadratic over ~13 frames the centre residual has
+   * variance sigma^2 (1 - h), h ~ 0.2; the median of a chi-square(1) is 0.455. The median
+   * keeps the fast parts of a swing (where the quadratic lags) from inflating it. */
+  c->noise_scale = 1.0;
+  {
+    double *r2 = malloc(sizeof *r2 * 3 * (d->n ? d->n : 1));
+    size_t nr = 0;
+    if (r2) {
+      for (size_t k = 0; k < d->n; k++) {
+        if (!c->acc_ok[k]) continue;
+        /* local fit value at the frame: the fit's own weights give only c2; recompute c0 by
+         * the mean of the kept neighbours corrected by the curvature term */
+        double z = d->pos_cam_m[k][2];
+        double sig[3] = { s->cam_sigma_xy_m * z, s->cam_sigma_xy_m * z, s->cam_sigma_z_coeff_per_m * z * z };
+        /* second difference with the neighbours when both exist and are evenly spaced */
+        if (k == 0 || k + 1 >= d->n || !c->valid[k - 1] || !c->valid[k + 1]) continue;
+        double h1 = d->t_s[k] - d->t_s[k - 1], h2 = d->t_s[k + 1] - d->t_s[k];
+        if (fabs(h1 - h2) > 0.2 * h1) continue;
+        for (int a = 0; a < 3; a++) {
+          /* x[k-1] - 2 x[k] + x[k+1] minus the fitted curvature: noise variance 6 sigma^2 */
+          double dd = d->pos_cam_m[k - 1][a] - 2 * d->pos_cam_m[k][a] + d->pos_cam_m[k + 1][a] -
+                      c->acc_m_s2[k][a] * h1 * h2;
+          r2[nr++] = dd * dd / (6.0 * sig[a] * sig[a]);
+        }
+      }
+      if (nr >= 30) {
+        qsort(r2, nr, sizeof *r2, cmp_double);
+        double sc2 = r2[nr / 2] / 0.455;
+        c->noise_scale = sqrt(fmin(fmax(sc2, 0.25), 25.0));
+      }
+      free(r2);
+    }
+  }
   return AW_OK;
 }
 
