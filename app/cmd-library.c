@@ -85,10 +85,7 @@ library_path(const char *given)
 {
   if (given != NULL)
     return g_strdup(given);
-  const char *env = g_getenv("ARCWISE_LIBRARY");
-  if (env != NULL && env[0] != '\0')
-    return g_strdup(env);
-  return arcwise_store_default_path();
+  return arcwise_store_chosen_path();
 }
 
 static ArcwiseStore *

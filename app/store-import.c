@@ -11,6 +11,7 @@
 #include "store-private.h"
 
 #include <math.h>
+#include <stdlib.h>
 #include <string.h>
 
 #if ARCWISE_HAVE_ANALYSIS
@@ -503,7 +504,10 @@ job_free(Job *j)
 static guint
 n_workers(void)
 {
-  guint n = g_get_num_processors();
+  /* ARCWISE_STORE_THREADS=N limits the workers (the benchmark compares 1 with all); 0 or unset
+   * means one per processor. */
+  const char *env = g_getenv("ARCWISE_STORE_THREADS");
+  guint n = env != NULL && atoi(env) > 0 ? (guint)atoi(env) : g_get_num_processors();
   return MAX(1, MIN(n, 16));
 }
 

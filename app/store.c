@@ -131,6 +131,34 @@ static const char *const migrations[ARCWISE_STORE_SCHEMA_VERSION] = {
   ") WITHOUT ROWID;\n"
   "CREATE INDEX swing_metric_by_value ON swing_metric(name, value);\n"
   "PRAGMA user_version = 3;\n",
+
+  /* 4: lists of 10,000 swings in well under 100 ms. The settings text (kilobytes, the same for
+   * every swing of one engine) moves to its own table, and the key numbers every list row shows
+   * are kept beside the result instead of looked up per row. */
+  "CREATE TABLE result_settings (\n"
+  "  settings_sha256 TEXT PRIMARY KEY,\n"
+  "  settings TEXT NOT NULL\n"
+  ") WITHOUT ROWID;\n"
+  "INSERT OR IGNORE INTO result_settings (settings_sha256, settings)\n"
+  "  SELECT settings_sha256, settings FROM swing_result;\n"
+  "ALTER TABLE swing_result DROP COLUMN settings;\n"
+  "ALTER TABLE swing_result ADD COLUMN tempo_ratio REAL;\n"
+  "ALTER TABLE swing_result ADD COLUMN backswing_s REAL;\n"
+  "ALTER TABLE swing_result ADD COLUMN downswing_s REAL;\n"
+  "ALTER TABLE swing_result ADD COLUMN peak_hand_speed_m_s REAL;\n"
+  "ALTER TABLE swing_result ADD COLUMN club_speed_impact_m_s REAL;\n"
+  "UPDATE swing_result SET\n"
+  "  tempo_ratio = (SELECT value FROM swing_metric m WHERE m.swing_id = swing_result.swing_id\n"
+  "                 AND m.name = 'tempo_ratio'),\n"
+  "  backswing_s = (SELECT value FROM swing_metric m WHERE m.swing_id = swing_result.swing_id\n"
+  "                 AND m.name = 'backswing_s'),\n"
+  "  downswing_s = (SELECT value FROM swing_metric m WHERE m.swing_id = swing_result.swing_id\n"
+  "                 AND m.name = 'downswing_s'),\n"
+  "  peak_hand_speed_m_s = (SELECT value FROM swing_metric m\n"
+  "                 WHERE m.swing_id = swing_result.swing_id AND m.name = 'peak_hand_speed_mps'),\n"
+  "  club_speed_impact_m_s = (SELECT value FROM swing_metric m\n"
+  "                 WHERE m.swing_id = swing_result.swing_id AND m.name = 'club_speed_impact_mps');\n"
+  "PRAGMA user_version = 4;\n",
 };
 
 /* ---- Errors and statements --------------------------------------------------------------- */
@@ -319,6 +347,15 @@ char *
 arcwise_store_default_path(void)
 {
   return g_build_filename(g_get_user_data_dir(), "arcwise", "library.sqlite", NULL);
+}
+
+char *
+arcwise_store_chosen_path(void)
+{
+  const char *env = g_getenv("ARCWISE_LIBRARY");
+  if (env != NULL && env[0] != '\0')
+    return g_strdup(env);
+  return arcwise_store_default_path();
 }
 
 const char *
@@ -1210,13 +1247,8 @@ arcwise_swing_filter_init(ArcwiseSwingFilter *f)
   "s.notes, (SELECT group_concat(t.tag, char(31)) FROM swing_tag t WHERE t.swing_id = s.id), " \
   "r.swing_id IS NOT NULL AND r.analysed, "                                                 \
   "r.engine_version IS ?13 AND r.settings_sha256 IS ?14, "                                  \
-  "(SELECT m.value FROM swing_metric m WHERE m.swing_id = s.id AND m.name = 'tempo_ratio'), " \
-  "(SELECT m.value FROM swing_metric m WHERE m.swing_id = s.id AND m.name = 'backswing_s'), " \
-  "(SELECT m.value FROM swing_metric m WHERE m.swing_id = s.id AND m.name = 'downswing_s'), " \
-  "(SELECT m.value FROM swing_metric m WHERE m.swing_id = s.id "                            \
-  "   AND m.name = 'peak_hand_speed_mps'), "                                                \
-  "(SELECT m.value FROM swing_metric m WHERE m.swing_id = s.id "                            \
-  "   AND m.name = 'club_speed_impact_mps') "                                               \
+  "r.tempo_ratio, r.backswing_s, r.downswing_s, r.peak_hand_speed_m_s, "                   \
+  "r.club_speed_impact_m_s "                                                                \
   "FROM swing s JOIN session se ON se.id = s.session_id JOIN player p ON p.id = se.player_id " \
   "LEFT JOIN club c ON c.id = s.club_id LEFT JOIN swing_result r ON r.swing_id = s.id "
 
@@ -1228,9 +1260,10 @@ static const char list_swings_sql[] =
   "AND (?4 IS NULL OR se.date >= ?4) "
   "AND (?5 IS NULL OR substr(se.date, 1, length(?5)) <= ?5) "
   "AND (?6 IS NULL OR c.kind = ?6) "
-  "AND (?7 IS NULL OR EXISTS (SELECT 1 FROM swing_tag t WHERE t.swing_id = s.id AND t.tag = ?7)) "
-  "AND (?8 IS NULL OR EXISTS (SELECT 1 FROM swing_metric m WHERE m.swing_id = s.id "
-  "     AND m.name = ?8 AND (?9 IS NULL OR m.value >= ?9) AND (?10 IS NULL OR m.value <= ?10))) "
+  /* Uncorrelated IN: each runs once, through its index, not once per row. */
+  "AND (?7 IS NULL OR s.id IN (SELECT t.swing_id FROM swing_tag t WHERE t.tag = ?7)) "
+  "AND (?8 IS NULL OR s.id IN (SELECT m.swing_id FROM swing_metric m WHERE m.name = ?8 "
+  "     AND m.value >= coalesce(?9, -1e308) AND m.value <= coalesce(?10, 1e308))) "
   "AND (?11 = 0 OR s.is_reference = 1) "
   "ORDER BY se.date DESC, s.session_id DESC, s.recording_id, s.index_in_recording "
   "LIMIT ?12";
@@ -1358,10 +1391,11 @@ arcwise_store_load_swing(ArcwiseStore *store, gint64 swing_id, GError **error)
   gboolean ok = (d->summary = arcwise_store_get_swing(store, swing_id, error)) != NULL;
   sqlite3_stmt *st = NULL;
   if (ok)
-    ok = (st = stmt(store, "SELECT r.engine_version, r.settings, r.made_utc, r.analysed, d.path, "
+    ok = (st = stmt(store, "SELECT r.engine_version, rs.settings, r.made_utc, r.analysed, d.path, "
                            "d.swing "
                            "FROM swing_result r LEFT JOIN swing_result_data d "
-                           "ON d.swing_id = r.swing_id WHERE r.swing_id = ?1", error)) != NULL;
+                           "ON d.swing_id = r.swing_id LEFT JOIN result_settings rs "
+                           "ON rs.settings_sha256 = r.settings_sha256 WHERE r.swing_id = ?1", error)) != NULL;
   gboolean analysed = FALSE;
   if (ok) {
     sqlite3_bind_int64(st, 1, swing_id);
@@ -1687,18 +1721,38 @@ static gboolean
 insert_result(ArcwiseStore *s, gint64 swing_id, const ArcwisePreparedRecording *r,
               const ArcwisePreparedSwing *ps, const char *made_utc, GError **error)
 {
-  sqlite3_stmt *st = stmt(s, "INSERT INTO swing_result (swing_id, engine_version, settings, "
-                             "settings_sha256, made_utc, analysed) VALUES (?1, ?2, ?3, ?4, ?5, ?6)",
-                          error);
+  sqlite3_stmt *st = stmt(s, "INSERT OR IGNORE INTO result_settings (settings_sha256, settings) "
+                             "VALUES (?1, ?2)", error);
+  if (st == NULL)
+    return FALSE;
+  bind_text(st, 1, r->settings_sha256);
+  bind_text(st, 2, r->settings != NULL ? r->settings : "");
+  if (!step_done(s, st, error, "storing settings"))
+    return FALSE;
+  st = stmt(s, "INSERT INTO swing_result (swing_id, engine_version, settings_sha256, made_utc, "
+               "analysed, tempo_ratio, backswing_s, downswing_s, peak_hand_speed_m_s, "
+               "club_speed_impact_m_s) VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10)", error);
   if (st == NULL)
     return FALSE;
   gboolean analysed = ps->metrics != NULL && ps->events != NULL;
   sqlite3_bind_int64(st, 1, swing_id);
   bind_text(st, 2, r->engine_version != NULL ? r->engine_version : ARCWISE_VERSION);
-  bind_text(st, 3, r->settings != NULL ? r->settings : "");
-  bind_text(st, 4, r->settings_sha256);
-  bind_text(st, 5, made_utc);
-  sqlite3_bind_int(st, 6, analysed ? 1 : 0);
+  bind_text(st, 3, r->settings_sha256);
+  bind_text(st, 4, made_utc);
+  sqlite3_bind_int(st, 5, analysed ? 1 : 0);
+  static const char *const keys[5] = {
+    ARCWISE_METRIC_TEMPO_RATIO, ARCWISE_METRIC_BACKSWING_S, ARCWISE_METRIC_DOWNSWING_S,
+    ARCWISE_METRIC_PEAK_HAND_SPEED, ARCWISE_METRIC_CLUB_SPEED,
+  };
+  for (int k = 0; k < 5; k++) {
+    double v = NAN;
+    for (guint i = 0; ps->metrics != NULL && i < ps->metrics->len; i++) {
+      const ArcwiseSwingMetric *m = g_ptr_array_index(ps->metrics, i);
+      if (strcmp(m->name, keys[k]) == 0)
+        v = m->value;
+    }
+    bind_real(st, 6 + k, isfinite(v) ? v : (double)NAN);
+  }
   if (!step_done(s, st, error, "storing a result"))
     return FALSE;
   st = stmt(s, "INSERT INTO swing_result_data (swing_id, path, swing) VALUES (?1, ?2, ?3)",
@@ -1991,6 +2045,8 @@ static const char *const export_sql[] = {
   "(SELECT id FROM xfer.swing)",
   "INSERT INTO xfer.swing_result SELECT * FROM main.swing_result WHERE swing_id IN "
   "(SELECT id FROM xfer.swing)",
+  "INSERT INTO xfer.result_settings SELECT * FROM main.result_settings WHERE settings_sha256 IN "
+  "(SELECT settings_sha256 FROM xfer.swing_result)",
   "INSERT INTO xfer.swing_result_data SELECT * FROM main.swing_result_data WHERE swing_id IN "
   "(SELECT id FROM xfer.swing)",
   "INSERT INTO xfer.swing_event SELECT * FROM main.swing_event WHERE swing_id IN "
@@ -2057,9 +2113,14 @@ arcwise_store_export_player(ArcwiseStore *store, gint64 player_id, const char *d
 
 /* Copies one result (row, data, events, metrics) of xfer swing `src` to main swing `dst`. */
 static const char *const import_result_sql[] = {
-  "INSERT INTO main.swing_result (swing_id, engine_version, settings, settings_sha256, "
-  "made_utc, analysed) SELECT ?2, engine_version, settings, settings_sha256, made_utc, analysed "
-  "FROM xfer.swing_result WHERE swing_id = ?1",
+  "INSERT OR IGNORE INTO main.result_settings (settings_sha256, settings) "
+  "SELECT rs.settings_sha256, rs.settings FROM xfer.result_settings rs JOIN xfer.swing_result r "
+  "ON r.settings_sha256 = rs.settings_sha256 WHERE r.swing_id = ?1 AND ?2 IS NOT NULL",
+  "INSERT INTO main.swing_result (swing_id, engine_version, settings_sha256, made_utc, analysed, "
+  "tempo_ratio, backswing_s, downswing_s, peak_hand_speed_m_s, club_speed_impact_m_s) "
+  "SELECT ?2, engine_version, settings_sha256, made_utc, analysed, tempo_ratio, backswing_s, "
+  "downswing_s, peak_hand_speed_m_s, club_speed_impact_m_s FROM xfer.swing_result "
+  "WHERE swing_id = ?1",
   "INSERT INTO main.swing_result_data (swing_id, path, swing) SELECT ?2, path, swing "
   "FROM xfer.swing_result_data WHERE swing_id = ?1",
   "INSERT INTO main.swing_event (swing_id, name, t_s) SELECT ?2, name, t_s "

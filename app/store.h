@@ -41,7 +41,7 @@ typedef enum {
 } ArcwiseStoreError;
 
 /* The schema version this program writes (PRAGMA user_version). */
-#define ARCWISE_STORE_SCHEMA_VERSION 3
+#define ARCWISE_STORE_SCHEMA_VERSION 4
 
 typedef struct _ArcwiseStore ArcwiseStore;
 
@@ -54,6 +54,9 @@ typedef enum {
 
 /* g_get_user_data_dir()/arcwise/library.sqlite (the folder is not created). Free with g_free. */
 char *arcwise_store_default_path(void);
+/* The library the program should open: $ARCWISE_LIBRARY when set (tools/quickstart run sets it
+ * to the bundled demo library, build/demo-data/demo-library.sqlite), else the default path. */
+char *arcwise_store_chosen_path(void);
 
 /* Opens (and, with CREATE, creates) a library. ":memory:" is accepted (tests). An older library
  * is migrated, one transaction per migration step; a newer one is refused (TOO_NEW). */

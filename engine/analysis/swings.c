@@ -555,7 +555,8 @@ try_swing(const AwAnWork *w, size_t ipk, AwSwing *s, size_t *next_i)
   double t_imp = t_imp_path, sig_imp = fmax(0.015, w->dt_s);
   bool contact = false;
   {
-    size_t lo = aw_an_index_at(t, n, t_imp_path - 0.06);
+    /* Not before 0.1 s after the top: no downswing is shorter (the sanity bound below). */
+    size_t lo = aw_an_index_at(t, n, fmax(t_imp_path - 0.06, t_top + 0.1));
     size_t hi = aw_an_index_at(t, n, t_imp_path + 0.06) + 1;
     if (lo < itop + 1)
       lo = itop + 1;
@@ -568,6 +569,13 @@ try_swing(const AwAnWork *w, size_t ipk, AwSwing *s, size_t *next_i)
     }
   }
   double t_down = t_imp - t_top, t_back = t_top - t_take;
+  if (contact && !(t_down > 0.1) && t_imp_path - t_top > 0.1) {
+    /* A "contact" right after the top is the turn itself, not a ball. */
+    contact = false;
+    t_imp = t_imp_path;
+    sig_imp = fmax(0.015, w->dt_s);
+    t_down = t_imp - t_top;
+  }
   /* Physical sanity: a downswing from a top takes 0.1-1 s, a backswing 0.15-3 s. */
   if (!(t_down > 0.1 && t_down < 1.0 && t_back > 0.15 && t_back < 3.0))
     return CAND_NOT_SWING;
