@@ -11,6 +11,7 @@ static const ArcwiseCommand benches[] = {
   { "fuse", "fusion speed (ns per IMU sample, 4 s to 30 min) and accuracy on seeded swings", arcwise_bench_fuse },
   { "capture", "IMU reader speed on a 10-minute 200 Hz file", arcwise_bench_capture },
   { "analysis", "swing events, tempo, speeds and swing finding on simulated swings", arcwise_bench_analysis },
+  { "clip", "export a 10 s 720p clip at 30 frames/s offscreen (goal: 10 s or less)", arcwise_bench_clip },
   { "library", "swing library: open + list and filters on 10,000 swings, bytes per swing, import rate", arcwise_bench_library },
 #ifdef ARCWISE_HAVE_SCENE
   { "render", "studio scene frames per second offscreen at 1920x1080, two swings", arcwise_bench_render },
