@@ -51,3 +51,5 @@ int arcwise_bench_capture(int argc, char **argv);
 int arcwise_bench_analysis(int argc, char **argv);
 int arcwise_bench_clip(int argc, char **argv);
 int arcwise_bench_library(int argc, char **argv);
+int arcwise_bench_render(int argc, char **argv);   /* with the GUI build only */
+int arcwise_bench_launch(int argc, char **argv);

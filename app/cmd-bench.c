@@ -13,6 +13,10 @@ static const ArcwiseCommand benches[] = {
   { "analysis", "swing events, tempo, speeds and swing finding on simulated swings", arcwise_bench_analysis },
   { "clip", "export a 10 s 720p clip at 30 frames/s offscreen (goal: 10 s or less)", arcwise_bench_clip },
   { "library", "swing library: open + list and filters on 10,000 swings, bytes per swing, import rate", arcwise_bench_library },
+#ifdef ARCWISE_HAVE_SCENE
+  { "render", "studio scene frames per second offscreen at 1920x1080, two swings", arcwise_bench_render },
+  { "launch", "time from starting the workbench to its first drawn frame", arcwise_bench_launch },
+#endif
   { NULL, NULL, NULL },
 };
 

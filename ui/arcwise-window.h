@@ -4,6 +4,8 @@
 #include <gtk/gtk.h>
 
 #include "arcwise-application.h"
+#include "arcwise-library.h"
+#include "arcwise-stage.h"
 
 G_BEGIN_DECLS
 
@@ -11,5 +13,20 @@ G_BEGIN_DECLS
 G_DECLARE_FINAL_TYPE(ArcwiseWindow, arcwise_window, ARCWISE, WINDOW, GtkApplicationWindow)
 
 ArcwiseWindow *arcwise_window_new(ArcwiseApplication *app);
+/* The library to browse (borrowed; outlives the window). */
+void arcwise_window_set_source(ArcwiseWindow *self, ArcwiseLibrarySource *source);
+/* Re-reads the library (after an import or an edit), keeping the selected swing. */
+void arcwise_window_reload(ArcwiseWindow *self);
+/* Brings in capture files or folders in a worker thread, with progress and a Stop button. */
+void arcwise_window_import_files(ArcwiseWindow *self, GFile **files, guint n);
+
+/* For the scripted smoke test (arcwise-smoke.c). */
+void arcwise_window_select_index(ArcwiseWindow *self, guint index);
+guint arcwise_window_get_n_visible(ArcwiseWindow *self);
+ArcwiseStage *arcwise_window_get_stage(ArcwiseWindow *self);
+double arcwise_window_get_time(ArcwiseWindow *self);
+gboolean arcwise_window_is_playing(ArcwiseWindow *self);
+guint arcwise_window_get_compare_rows(ArcwiseWindow *self);
+void arcwise_window_set_speed_index(ArcwiseWindow *self, guint i);
 
 G_END_DECLS

@@ -1,0 +1,180 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* `arcwise bench render`: frames per second of the studio scene drawn offscreen (EGL
+ * surfaceless, the exporter's path) at 1920x1080 with two swings overlaid, trust band and
+ * markers on; and `arcwise bench launch`: time from starting the workbench to its first drawn
+ * 3-D frame. Figures only: goals are read by people, never asserted in tests. */
+#include "cli.h"
+
+#include <epoxy/gl.h>
+#include <glib.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "arcwise-demo-swings.h"
+#include "arcwise-offscreen.h"
+#include "arcwise-scene.h"
+
+int
+arcwise_bench_render(int argc, char **argv)
+{
+  int width = 1920, height = 1080, frames = 120, samples = 0;
+  for (int i = 1; i < argc; i++) {
+    if (strcmp(argv[i], "--help") == 0 || strcmp(argv[i], "-h") == 0) {
+      printf("Usage: arcwise bench render [--size WxH] [--frames N] [--msaa N]\n\n"
+             "Draws the studio scene offscreen (EGL surfaceless, no display needed) with two\n"
+             "simulated swings overlaid, the 2-sigma band and moving markers, and prints frames\n"
+             "per second: drawing alone (glFinish per frame) and drawing plus read-back of the\n"
+             "RGBA frame (what the clip exporter does). Goal: at least 60 frames/s at 1920x1080\n"
+             "on Mesa llvmpipe.\n");
+      return 0;
+    } else if (strcmp(argv[i], "--size") == 0 && i + 1 < argc) {
+      if (sscanf(argv[++i], "%dx%d", &width, &height) != 2 || width < 16 || height < 16 ||
+          width > 8192 || height > 8192)
+        return arcwise_cli_usage_error("bench render", "--size wants WxH, e.g. 1920x1080");
+    } else if (strcmp(argv[i], "--frames") == 0 && i + 1 < argc) {
+      frames = atoi(argv[++i]);
+      if (frames < 1 || frames > 100000)
+        return arcwise_cli_usage_error("bench render", "--frames wants 1..100000");
+    } else if (strcmp(argv[i], "--msaa") == 0 && i + 1 < argc) {
+      samples = atoi(argv[++i]);
+      if (samples < 0 || samples > 16)
+        return arcwise_cli_usage_error("bench render", "--msaa wants 0..16");
+    } else
+      return arcwise_cli_usage_error("bench render", "unknown option '%s'", argv[i]);
+  }
+  g_autoptr(GError) error = NULL;
+  ArcwiseOffscreen *off = arcwise_offscreen_new(width, height, samples, &error);
+  if (off == NULL)
+    return arcwise_cli_fail("bench render", "%s", error->message);
+  ArcwiseScene *scene = arcwise_scene_new(&error);
+  ArcwiseSwingModel *a = arcwise_demo_swing_new(7, false, &error);
+  ArcwiseSwingModel *b = a ? arcwise_demo_swing_new(8, false, &error) : NULL;
+  if (scene == NULL || a == NULL || b == NULL) {
+    int rc = arcwise_cli_fail("bench render", "%s", error->message);
+    arcwise_swing_model_free(a);
+    arcwise_scene_free(scene);
+    arcwise_offscreen_free(off);
+    return rc;
+  }
+  ArcwiseScenePath pa, pb;
+  arcwise_swing_model_as_path(a, &pa);
+  arcwise_swing_model_as_path(b, &pb);
+  arcwise_scene_set_path(scene, 0, &pa);
+  arcwise_scene_set_path(scene, 1, &pb);
+  ArcwiseSceneOptions opt;
+  arcwise_scene_options_default(&opt);
+  opt.show_band = true;
+  opt.show_compare = true;
+  opt.show_club = true;
+  opt.dim_ahead = true;
+  ArcwiseCamera cam;
+  arcwise_camera_preset(&cam, ARCWISE_VIEW_FREE, a->handed, a->centre_m);
+  double dur = (double)a->t_s[a->n - 1];
+  uint8_t *rgba = g_malloc((size_t)width * (size_t)height * 4);
+
+  /* Warm-up: the first frames compile shaders in llvmpipe. */
+  for (int i = 0; i < 3; i++) {
+    arcwise_offscreen_begin(off);
+    arcwise_scene_draw(scene, &cam, &opt, width, height);
+    glFinish();
+  }
+  double t_draw = 0, t_read = 0;
+  for (int pass = 0; pass < 2; pass++) {
+    gint64 t0 = g_get_monotonic_time();
+    for (int i = 0; i < frames; i++) {
+      double t = dur * i / frames;
+      opt.marker_t_s[0] = opt.marker_t_s[1] = (float)t;
+      cam.yaw_rad += 0.01f;   /* a slow orbit, as a coach dragging the view */
+      arcwise_offscreen_begin(off);
+      arcwise_scene_draw(scene, &cam, &opt, width, height);
+      if (pass == 0)
+        glFinish();
+      else
+        arcwise_offscreen_read_rgba(off, rgba, (size_t)width * 4);
+    }
+    double s = (double)(g_get_monotonic_time() - t0) * 1e-6;
+    if (pass == 0) t_draw = s; else t_read = s;
+  }
+  printf("renderer              %s\n", arcwise_offscreen_get_renderer(off));
+  printf("size                  %dx%d, %d samples, 2 swings + band + club paths\n", width, height,
+         samples);
+  printf("frames                %d\n", frames);
+  printf("draw-fps              %.1f\n", frames / t_draw);
+  printf("draw-ms-per-frame     %.2f\n", 1000.0 * t_draw / frames);
+  printf("draw+readback-fps     %.1f\n", frames / t_read);
+  printf("goal                  draw-fps >= 60 on llvmpipe: %s\n",
+         frames / t_draw >= 60 ? "met" : "NOT met");
+  g_free(rgba);
+  arcwise_swing_model_free(a);
+  arcwise_swing_model_free(b);
+  arcwise_scene_free(scene);
+  arcwise_offscreen_free(off);
+  return 0;
+}
+
+int
+arcwise_bench_launch(int argc, char **argv)
+{
+  int swings = 1000, runs = 3;
+  const char *library = NULL;
+  for (int i = 1; i < argc; i++) {
+    if (strcmp(argv[i], "--help") == 0 || strcmp(argv[i], "-h") == 0) {
+      printf("Usage: arcwise bench launch [--swings N | --library FILE] [--runs N]\n\n"
+             "Starts the workbench (needs a display; use tests/with-xvfb.sh on a headless\n"
+             "machine) and prints the time from start to the first drawn 3-D frame, with a\n"
+             "stand-in library of N swings (default 1000) or the given library. Goal: under 1 s.\n");
+      return 0;
+    } else if (strcmp(argv[i], "--swings") == 0 && i + 1 < argc) {
+      swings = atoi(argv[++i]);
+      if (swings < 1 || swings > 1000000)
+        return arcwise_cli_usage_error("bench launch", "--swings wants 1..1000000");
+    } else if (strcmp(argv[i], "--library") == 0 && i + 1 < argc) {
+      library = argv[++i];
+    } else if (strcmp(argv[i], "--runs") == 0 && i + 1 < argc) {
+      runs = atoi(argv[++i]);
+      if (runs < 1 || runs > 50)
+        return arcwise_cli_usage_error("bench launch", "--runs wants 1..50");
+    } else
+      return arcwise_cli_usage_error("bench launch", "unknown option '%s'", argv[i]);
+  }
+  if (g_getenv("DISPLAY") == NULL && g_getenv("WAYLAND_DISPLAY") == NULL)
+    return arcwise_cli_fail("bench launch", "no display; run it under tests/with-xvfb.sh");
+  g_autofree char *self = g_file_read_link("/proc/self/exe", NULL);
+  if (self == NULL)
+    return arcwise_cli_fail("bench launch", "cannot find the program's own path");
+  g_autofree char *n = g_strdup_printf("--demo-size=%d", swings);
+  g_autofree char *lib = library ? g_strdup_printf("--library=%s", library) : NULL;
+  char *args[] = { self, library ? lib : n, NULL };
+  char **env = g_get_environ();
+  env = g_environ_setenv(env, "ARCWISE_BENCH_LAUNCH", "1", TRUE);
+  env = g_environ_setenv(env, "GSETTINGS_BACKEND", "memory", TRUE);
+  double best = INFINITY, sum = 0;
+  for (int r = 0; r < runs; r++) {
+    g_autofree char *out = NULL;
+    g_autoptr(GError) error = NULL;
+    int status = 0;
+    if (!g_spawn_sync(NULL, args, env, G_SPAWN_STDERR_TO_DEV_NULL, NULL, NULL, &out, NULL,
+                      &status, &error)) {
+      g_strfreev(env);
+      return arcwise_cli_fail("bench launch", "%s", error->message);
+    }
+    const char *p = out ? strstr(out, "launch-to-drawn-window-s ") : NULL;
+    if (p == NULL) {
+      g_strfreev(env);
+      return arcwise_cli_fail("bench launch", "the workbench did not report a drawn frame");
+    }
+    double s = g_ascii_strtod(p + strlen("launch-to-drawn-window-s "), NULL);
+    printf("run %d                 %.3f s\n", r + 1, s);
+    best = fmin(best, s);
+    sum += s;
+  }
+  g_strfreev(env);
+  printf("library               %s\n", library ? library : "stand-in");
+  printf("swings                %d\n", library ? -1 : swings);
+  printf("launch-to-drawn-best  %.3f s\n", best);
+  printf("launch-to-drawn-mean  %.3f s\n", sum / runs);
+  printf("goal                  under 1 s: %s\n", best < 1.0 ? "met" : "NOT met");
+  return 0;
+}

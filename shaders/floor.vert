@@ -1,0 +1,10 @@
+// SPDX-License-Identifier: GPL-3.0-or-later
+#version 330 core
+layout(location = 0) in vec3 a_pos;
+uniform mat4 u_view_proj;
+out vec3 v_world;
+void main()
+{
+  v_world = a_pos;
+  gl_Position = u_view_proj * vec4(a_pos, 1.0);
+}

@@ -1,0 +1,202 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* The scripted smoke session (see arcwise-smoke.h). */
+#include "arcwise-smoke.h"
+
+#include <math.h>
+
+typedef struct {
+  ArcwiseWindow *win;
+  GtkWindow *caution;
+  char *dir;
+  GString *report;
+  int step;
+  double t_before;
+  guint64 frames_before;
+  gint64 play_started_us;
+} Smoke;
+
+static void next_step(Smoke *s);
+
+static void
+snapshot_done(gpointer data)
+{
+  Smoke *s = data;
+  /* Let the frame reach the screen and layouts settle before the next step. */
+  g_timeout_add_once(120, (GSourceOnceFunc)next_step, s);
+}
+
+static void
+snap(Smoke *s, const char *name)
+{
+  g_autofree char *path = g_strdup_printf("%s/%s.png", s->dir, name);
+  ArcwiseStage *stage = arcwise_window_get_stage(s->win);
+  g_string_append_printf(s->report, "snapshot=%s %d %d\n", name,
+                         gtk_widget_get_width(GTK_WIDGET(stage)),
+                         gtk_widget_get_height(GTK_WIDGET(stage)));
+  arcwise_stage_request_snapshot(stage, path, G_CALLBACK(snapshot_done), s);
+}
+
+static void
+act(Smoke *s, const char *action, GVariant *target)
+{
+  gboolean ok = gtk_widget_activate_action_variant(GTK_WIDGET(s->win), action, target);
+  g_string_append_printf(s->report, "action=%s %s\n", action, ok ? "ok" : "missing");
+}
+
+static void
+finish(Smoke *s)
+{
+  g_autofree char *path = g_strdup_printf("%s/report.txt", s->dir);
+  g_autoptr(GError) error = NULL;
+  if (!g_file_set_contents(path, s->report->str, -1, &error))
+    g_printerr("smoke: %s\n", error->message);
+  GApplication *app = G_APPLICATION(gtk_window_get_application(GTK_WINDOW(s->win)));
+  g_string_free(s->report, TRUE);
+  g_free(s->dir);
+  g_free(s);
+  g_application_quit(app);
+}
+
+static gboolean
+wait_play(gpointer data)
+{
+  Smoke *s = data;
+  /* Wait for a few drawn frames, however slow the machine (sanitizers, software GL). */
+  ArcwiseStage *stage = arcwise_window_get_stage(s->win);
+  gint64 waited = g_get_monotonic_time() - s->play_started_us;
+  if ((arcwise_stage_get_frames(stage) - s->frames_before < 5 || waited < 500000) &&
+      waited < 60 * G_USEC_PER_SEC)
+    return G_SOURCE_CONTINUE;
+  g_string_append_printf(s->report, "play_time_before=%.4f\nplay_time_after=%.4f\n"
+                         "play_frames=%" G_GUINT64_FORMAT "\nplaying=%d\n",
+                         s->t_before, arcwise_window_get_time(s->win),
+                         arcwise_stage_get_frames(stage) - s->frames_before,
+                         arcwise_window_is_playing(s->win));
+  act(s, "win.play", NULL);   /* pause */
+  g_string_append_printf(s->report, "paused=%d\n", !arcwise_window_is_playing(s->win));
+  snap(s, "playing");
+  return G_SOURCE_REMOVE;
+}
+
+static void
+snap_presentation(gpointer data)
+{
+  snap(data, "presentation");
+}
+
+static void
+next_step(Smoke *s)
+{
+  ArcwiseStage *stage = arcwise_window_get_stage(s->win);
+  switch (s->step++) {
+  case 0:
+    g_string_append_printf(s->report, "caution_shown=%d\n", s->caution != NULL &&
+                           gtk_widget_get_visible(GTK_WIDGET(s->caution)));
+    if (s->caution != NULL) {
+      /* Press the caution's button as a user would. */
+      GtkWidget *def = gtk_window_get_default_widget(s->caution);
+      if (def != NULL)
+        g_signal_emit_by_name(def, "clicked");
+      s->caution = NULL;
+    }
+    g_string_append_printf(s->report, "swings=%u\n", arcwise_window_get_n_visible(s->win));
+    arcwise_window_select_index(s->win, 0);
+    snap(s, "swing");
+    break;
+  case 1: {
+    double t = arcwise_window_get_time(s->win);
+    act(s, "win.step", g_variant_new_int32(1));
+    act(s, "win.step", g_variant_new_int32(1));
+    g_string_append_printf(s->report, "step_dt=%.4f\n", arcwise_window_get_time(s->win) - t);
+    act(s, "win.seek", g_variant_new_int32(-1));
+    arcwise_window_set_speed_index(s->win, 1);   /* half speed */
+    s->t_before = arcwise_window_get_time(s->win);
+    s->frames_before = arcwise_stage_get_frames(stage);
+    s->play_started_us = g_get_monotonic_time();
+    act(s, "win.play", NULL);
+    g_timeout_add(50, wait_play, s);
+    break;
+  }
+  case 2:
+    arcwise_window_set_speed_index(s->win, 0);
+    act(s, "win.view", g_variant_new_string("down-the-line"));
+    snap(s, "view-dtl");
+    break;
+  case 3:
+    act(s, "win.view", g_variant_new_string("above"));
+    snap(s, "view-above");
+    break;
+  case 4:
+    act(s, "win.view", g_variant_new_string("face-on"));
+    act(s, "win.seek", g_variant_new_int32(1));
+    act(s, "win.trust", NULL);
+    snap(s, "trust");
+    break;
+  case 5:
+    act(s, "win.trust", NULL);
+    act(s, "win.compare", NULL);
+    g_string_append_printf(s->report, "compare_cells=%u\n", arcwise_window_get_compare_rows(s->win));
+    snap(s, "compare");
+    break;
+  case 6:
+    act(s, "win.presentation", NULL);
+    g_string_append_printf(s->report, "presentation_class=%d\n",
+                           gtk_widget_has_css_class(GTK_WIDGET(s->win), "presentation"));
+    /* Let the new layout (library hidden, larger type) settle before the picture. */
+    g_timeout_add_once(400, (GSourceOnceFunc)snap_presentation, s);
+    break;
+  case 7: {
+    act(s, "win.show-help-overlay", NULL);
+    GtkWindow *help = GTK_WINDOW(gtk_application_window_get_help_overlay(GTK_APPLICATION_WINDOW(s->win)));
+    guint n = 0;
+    if (help != NULL) {
+      /* Count the shortcut entries the window lists. */
+      GPtrArray *stack = g_ptr_array_new();
+      g_ptr_array_add(stack, help);
+      while (stack->len > 0) {
+        GtkWidget *w = g_ptr_array_steal_index(stack, stack->len - 1);
+        if (GTK_IS_SHORTCUTS_SHORTCUT(w))
+          n++;
+        for (GtkWidget *c = gtk_widget_get_first_child(w); c; c = gtk_widget_get_next_sibling(c))
+          g_ptr_array_add(stack, c);
+      }
+      g_ptr_array_unref(stack);
+      gtk_window_close(help);
+    }
+    g_string_append_printf(s->report, "shortcuts_listed=%u\n", n);
+    act(s, "win.presentation", NULL);
+    g_string_append_printf(s->report, "presentation_left=%d\n",
+                           !gtk_widget_has_css_class(GTK_WIDGET(s->win), "presentation"));
+    g_string_append_printf(s->report, "frames=%" G_GUINT64_FORMAT "\n",
+                           arcwise_stage_get_frames(stage));
+    const char *err = arcwise_stage_get_error_text(stage);
+    g_string_append_printf(s->report, "gl_error=%s\n", err ? err : "none");
+    finish(s);
+    break;
+  }
+  default:
+    break;
+  }
+}
+
+static gboolean
+wait_first_frame(gpointer data)
+{
+  Smoke *s = data;
+  ArcwiseStage *stage = arcwise_window_get_stage(s->win);
+  if (arcwise_stage_get_frames(stage) == 0 && arcwise_stage_get_error_text(stage) == NULL)
+    return G_SOURCE_CONTINUE;
+  next_step(s);
+  return G_SOURCE_REMOVE;
+}
+
+void
+arcwise_smoke_start(ArcwiseWindow *win, const char *dir, GtkWindow *caution)
+{
+  Smoke *s = g_new0(Smoke, 1);
+  s->win = win;
+  s->caution = caution;
+  s->dir = g_strdup(dir);
+  s->report = g_string_new(NULL);
+  g_timeout_add(50, wait_first_frame, s);
+}
