@@ -332,5 +332,8 @@ main(void)
     _exit(1);
   }
   wait(NULL);
+  char *owned[] = { lib, pristine, rec1, rec2, imu1, dep1, imu2, dep2, lib_opt, bak, target, work };
+  for (size_t i = 0; i < sizeof owned / sizeof owned[0]; i++)
+    g_free(owned[i]);
   return AW_TEST_END();
 }
