@@ -10,8 +10,8 @@
  * foreign_key_check, every stored blob decodes), and nothing is lost: the same players, the
  * same swings of the same recordings, every swing still analysed. An import is there completely
  * or not at all; a backup file is either absent or a complete library that passes the check
- * with the same swings. The kill moment is uniform over 1.2 times the measured length of an
- * uninterrupted run, so some kills land after the end (those runs must have succeeded). */
+ * with the same swings. The kill moment is uniform over 1.2 times the shortest of three
+ * uninterrupted runs, so some kills land after the end (those runs must have succeeded). */
 #include "testutil.h"
 
 #include <errno.h>
@@ -252,6 +252,22 @@ main(void)
   remove_library(bak);
   copy_file(pristine, target);
   AW_CHECK(ran_ok(run(argv_imp, -1, &t_imp)));
+  /* The first runs are cold (page cache, dynamic loading); later rounds are faster. Take the
+   * shortest of three runs, or kills drawn over a cold run's length land after a warm run has
+   * finished and the test stops meaning anything. */
+  for (int warm = 0; warm < 2; warm++) {
+    double t = 0;
+    AW_CHECK(ran_ok(run(argv_re, -1, &t)));
+    t_re = t < t_re ? t : t_re;
+    remove_library(bak);
+    AW_CHECK(ran_ok(run(argv_bak, -1, &t)));
+    t_bak = t < t_bak ? t : t_bak;
+    remove_library(bak);
+    remove_library(target);
+    copy_file(pristine, target);
+    AW_CHECK(ran_ok(run(argv_imp, -1, &t)));
+    t_imp = t < t_imp ? t : t_imp;
+  }
   Snapshot after_import;
   AW_CHECK(inspect(target, &after_import));
   AW_CHECK(after_import.swings != NULL && after_import.swings->len > base.swings->len);
