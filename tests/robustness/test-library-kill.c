@@ -275,6 +275,9 @@ main(void)
   if (aw_test_failures)
     return 1;
 
+  /* shrink_note: the measured lengths can be inflated by other tests running beside this one
+   * at the start; a run that finished before its kill shrinks that window, so most kills land
+   * mid-run whatever the load was while measuring. */
   GRand *rng = g_rand_new_with_seed(9);
   guint killed[3] = { 0 }, finished[3] = { 0 }, bad[3] = { 0 }, backups_present = 0;
   for (guint r = 0; r < rounds; r++) {
@@ -283,6 +286,7 @@ main(void)
     AW_CHECK(was_killed(st) || ran_ok(st));
     killed[0] += was_killed(st);
     finished[0] += ran_ok(st);
+    t_re *= ran_ok(st) ? 0.85 : 1.0; /* see shrink_note */
     if (!inspect(lib, &s) || !same_swings(&s, &base) || s.unanalysed != 0 || s.players != base.players) {
       fprintf(stderr, "re-analysis round %u: library lost something (%u unanalysed)\n", r,
               s.unanalysed);
@@ -296,6 +300,7 @@ main(void)
     AW_CHECK(was_killed(st) || ran_ok(st));
     killed[1] += was_killed(st);
     finished[1] += ran_ok(st);
+    t_bak *= ran_ok(st) ? 0.85 : 1.0;
     if (!inspect(lib, &s) || !same_swings(&s, &base))
       bad[1]++;
     snapshot_clear(&s);
@@ -318,6 +323,7 @@ main(void)
     AW_CHECK(was_killed(st) || ran_ok(st));
     killed[2] += was_killed(st);
     finished[2] += ran_ok(st);
+    t_imp *= ran_ok(st) ? 0.85 : 1.0;
     gboolean ok = inspect(target, &s);
     gboolean none = ok && same_swings(&s, &base), all = ok && same_swings(&s, &after_import);
     if (!ok || !(none || all) || s.unanalysed != 0 || (ran_ok(st) && !all)) {
