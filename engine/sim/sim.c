@@ -374,6 +374,22 @@ typedef struct {
   double wrist[3], club[3], R_grav_forearm[3][3], body_ref[3];
 } SimPose;
 
+/* The two-lever model above is built with the ball at +y of the player frame (x toward the
+ * target, z up): a player facing +y has the target on the right, which is a left-hander's
+ * stance (lead arm = right arm). A right-hander is its mirror image in the vertical plane
+ * through the target line, y -> -y: the ball then lies at -y, the player faces -y and the
+ * target is on the player's left. Positions flip; an orientation becomes M R M with
+ * M = diag(1, -1, 1), still a proper rotation. */
+static void
+mirror_to_right_handed(double wrist[3], double club[3], double body[3], double R[3][3])
+{
+  wrist[1] = -wrist[1];
+  club[1] = -club[1];
+  body[1] = -body[1];
+  R[1][0] = -R[1][0]; R[1][2] = -R[1][2];
+  R[0][1] = -R[0][1]; R[2][1] = -R[2][1];
+}
+
 static void
 pose_from(const AwSim *sim, const SimQ *q, const SimB *b, SimPose *out)
 {
@@ -407,14 +423,6 @@ pose_from(const AwSim *sim, const SimQ *q, const SimB *b, SimPose *out)
     R[i][2] = -sr * f2[i] + cr * n[i];
   }
   double body[3] = { 0.0, 0.05, sim->hub[2] - 0.35 }; /* chest, where snapped keypoints go */
-  if (sim->left) {
-    /* Mirror x: positions flip, rotations become M R M with M = diag(-1, 1, 1). */
-    w[0] = -w[0];
-    c[0] = -c[0];
-    body[0] = -body[0];
-    R[0][1] = -R[0][1]; R[0][2] = -R[0][2];
-    R[1][0] = -R[1][0]; R[2][0] = -R[2][0];
-  }
   /* Stance: heading about z, then floor position and bob. */
   double ch = cos(b->heading), sh = sin(b->heading);
   double H[3][3] = { { ch, -sh, 0 }, { sh, ch, 0 }, { 0, 0, 1 } };
@@ -430,6 +438,8 @@ pose_from(const AwSim *sim, const SimQ *q, const SimB *b, SimPose *out)
   for (int i = 0; i < 3; i++)
     for (int j = 0; j < 3; j++)
       out->R_grav_forearm[i][j] = H[i][0] * R[0][j] + H[i][1] * R[1][j] + H[i][2] * R[2][j];
+  if (!sim->left)
+    mirror_to_right_handed(out->wrist, out->club, out->body_ref, out->R_grav_forearm);
 }
 
 static SimQ
@@ -496,7 +506,9 @@ seg_state(const AwSim *sim, const SimSeg *sg, double t, SimQ *q, SimB *b)
       r = Tr * v * v * v * v * (2.5 + v * (-3 + v));
     } else
       r = 0.5 * Tr + (x - Tr);
-    b->heading = sg->b0.heading + sg->freq_hz * r;
+    /* The right-hander's mirror image (pose_from) turns a heading the other way: pre-negate
+     * so the configured rate is counter-clockwise seen from above for either hand. */
+    b->heading = sg->b0.heading + (sim->left ? 1 : -1) * sg->freq_hz * r;
     break;
   }
   case SEG_WALK: {
@@ -891,17 +903,17 @@ add_swing(Builder *B, const AwSwingStyle *style_in, bool practice, bool half, do
   }
   SimKin k;
   {
-    /* Plane normals: e_t x e_d of the two-lever model, mirrored for a left-hander, in the
-     * stance heading, then into the camera frame. */
+    /* Plane normals: e_t x e_d of the two-lever model in the stance heading, mirrored for a
+     * right-hander, then into the camera frame. */
     double phis[2] = { p.plane_b, p.plane_d }, yaws[2] = { 0, p.yaw_d };
     for (int pl = 0; pl < 2; pl++) {
       double cy = cos(yaws[pl]), sy = sin(yaws[pl]), cp = cos(phis[pl]), spn = sin(phis[pl]);
       double et[3] = { cy, sy, 0 }, ed[3] = { -sy * cp, cy * cp, -spn }, nrm[3];
       aw_v3_cross(nrm, et, ed);
-      if (sim->left)
-        nrm[0] = -nrm[0];
       double ch = cos(B->b.heading), sh = sin(B->b.heading);
       double ng[3] = { ch * nrm[0] - sh * nrm[1], sh * nrm[0] + ch * nrm[1], nrm[2] };
+      if (!sim->left)
+        ng[1] = -ng[1]; /* the right-hander's mirror image, as in pose_from() */
       aw_mat_mul_v3(pl == 0 ? sw.backswing_plane_normal_cam : sw.downswing_plane_normal_cam,
                     CM(sim->R_cam_grav), ng);
     }
@@ -1046,13 +1058,17 @@ place_camera(AwSim *sim, AwRng *rng)
   double roll = aw_rng_range(rng, -d->roll_max_rad, d->roll_max_rad);
   double tilt = d->tilt_rad;
   double pos[3], dir_h[3];
+  /* In the model's own frame (ball at +y, see mirror_to_right_handed()), then mirrored for a
+   * right-hander. Face-on: across the ball from the player, looking at the chest, a little
+   * toward the target. Down-the-line: behind the player on the far side from the target
+   * (target at +x for either hand), looking along the target line. */
+  double ball_side = sim->left ? 1 : -1;
   if (sim->cfg.view == AW_SIM_FACE_ON) {
-    aw_v3_set(pos, 0.05 * (sim->left ? -1 : 1), 0.3 + D, h);
-    aw_v3_set(dir_h, 0, -1, 0);
+    aw_v3_set(pos, 0.05, ball_side * (0.3 + D), h);
+    aw_v3_set(dir_h, 0, -ball_side, 0);
   } else {
-    double sgn = sim->left ? 1 : -1; /* behind the player, on the far side from the target */
-    aw_v3_set(pos, sgn * D, 0.45, h);
-    aw_v3_set(dir_h, -sgn, 0, 0);
+    aw_v3_set(pos, -D, ball_side * 0.45, h);
+    aw_v3_set(dir_h, 1, 0, 0);
   }
   double cy = cos(yaw_err), sy = sin(yaw_err);
   double dx = cy * dir_h[0] - sy * dir_h[1], dy = sy * dir_h[0] + cy * dir_h[1];

@@ -5,7 +5,11 @@
  * orientation, the wrist IMU and the depth camera that would have recorded it, and every truth
  * the fusion, analysis and benchmark need. Deterministic from a seed (own PRNG, xoshiro256**).
  *
- * Swing kinematics (player frame: x toward the target, y toward the ball, z up) follow the
+ * Player frame (grav): right-handed, z up, x toward the target for either hand, y = z x x. A
+ * right-handed player faces -y with the target on the left (ball at -y, backswing toward -x);
+ * a left-handed player is the mirror image in the target line (faces +y, ball at +y). The
+ * lever model is built for the ball at +y and mirrored (y -> -y) for a right-hander.
+ * Swing kinematics follow the
  * two-lever ("double pendulum") picture of Cochran & Stobbs (1968) and Jorgensen (The Physics
  * of Golf, 1994): the lead arm is a lever of length arm_length_m turning about a hub near the
  * lead shoulder in an inclined plane; the club is a second lever hinged at the wrist, held
@@ -56,7 +60,7 @@ typedef struct {
   double roll_rate_impact_rad_s; /* peak forearm roll rate, reached at impact */
   double impact_speed_loss;      /* fraction of speed lost in the ball-contact transient */
   double impact_recovery_s;      /* time constant of the recovery after contact */
-  bool left_handed;              /* mirror image; the lead wrist is the right one */
+  bool left_handed;              /* mirror image in the target line; lead wrist = right */
 } AwSwingStyle;
 
 /* A typical mid-handicap right-handed driver swing (fixed values, no randomness). */
