@@ -1,13 +1,17 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
 /* `arcwise bench accuracy`: every estimator of the lead-wrist path against the simulator's
- * truth over seeded swings mixing easy, normal and hard levels and both camera views.
+ * truth over seeded swings mixing easy, normal and hard levels and both camera views, and the
+ * swing analysis run on each estimator's path (events and coaching numbers), in one table.
  *
  * Adding an estimator is one function of type BenchEstimator (below) that maps the two
  * streams (plus, for estimators that need a start, the true state at address) to a path on
  * the depth frame times, and one line in the `estimators` table. */
 #include "cli.h"
+#include "bench-score.h"
 
+#include "arcwise/analysis.h"
 #include "arcwise/baseline.h"
+#include "arcwise/fusion.h"
 #include "arcwise/math3.h"
 #include "arcwise/sim.h"
 
@@ -24,9 +28,11 @@ typedef struct {
 } BenchInput;
 
 typedef struct {
-  double (*pos_cam_m)[3];  /* depth->n rows, preset to NaN */
-  double clock_offset_s;   /* NaN when the estimator does not estimate the clock */
-  double events_s[5];      /* address, takeaway, top, impact, finish; NaN when not estimated */
+  double (*pos_cam_m)[3];    /* depth->n rows, preset to NaN */
+  double (*sigma_cam_m)[3];  /* depth->n rows of 1-sigma per axis, preset to NaN (none) */
+  double clock_offset_s;     /* NaN when the estimator does not estimate the clock */
+  AwFusedPath *fused;        /* a fused path for the analysis (owned), or NULL: the analysis
+                                then runs on pos_cam_m alone */
 } BenchOutput;
 
 typedef AwStatus (*BenchEstimator)(const BenchInput *in, BenchOutput *out);
@@ -44,6 +50,35 @@ est_imu_only(const BenchInput *in, BenchOutput *out)
                             out->pos_cam_m, NULL);
 }
 
+/* The whole fusion (arcwise/fusion.h, default settings), sampled at the frame times. */
+static AwStatus
+est_fused(const BenchInput *in, BenchOutput *out)
+{
+  AwFusionSettings fs;
+  aw_fusion_settings_default(&fs);
+  AwFusedPath *p = NULL;
+  AwStatus st = aw_fuse(in->imu, in->depth, &fs, &p, NULL);
+  if (st != AW_OK)
+    return st;
+  size_t i = 0;
+  for (size_t j = 0; j < in->depth->n && p->n >= 2; j++) {
+    double t = in->depth->t_s[j];
+    if (t < p->t_s[0] || t > p->t_s[p->n - 1])
+      continue;
+    while (i + 2 < p->n && p->t_s[i + 1] <= t)
+      i++;
+    double u = (t - p->t_s[i]) / (p->t_s[i + 1] - p->t_s[i]);
+    for (int a = 0; a < 3; a++) {
+      out->pos_cam_m[j][a] = p->pos_cam_m[i][a] + u * (p->pos_cam_m[i + 1][a] - p->pos_cam_m[i][a]);
+      out->sigma_cam_m[j][a] =
+        p->pos_sigma_cam_m[i][a] + u * (p->pos_sigma_cam_m[i + 1][a] - p->pos_sigma_cam_m[i][a]);
+    }
+  }
+  out->clock_offset_s = p->report.clock_offset_s;
+  out->fused = p;
+  return AW_OK;
+}
+
 static const struct {
   const char *name;
   const char *what;
@@ -51,36 +86,69 @@ static const struct {
 } estimators[] = {
   { "depth-only", "confident frames, gaps filled, Savitzky-Golay 7/2", est_depth_only },
   { "imu-only", "dead reckoning from the true state at address", est_imu_only },
-  /* The fusion adds its row here (aw_fuse, arcwise/fusion.h). */
+  { "fused", "aw_fuse: clock sync, calibration, Kalman filter and smoother", est_fused },
 };
 enum { N_EST = sizeof estimators / sizeof estimators[0] };
 
-enum { M_RMSE, M_RMSE_OCC, M_MAX, M_CLOCK, M_EVENT, N_METRIC };
+/* Per swing: position RMSE over the motion and in the occlusion windows, the occluded RMSE
+ * over the depth-only baseline's, maximum error, clock-offset error, share of axes whose
+ * error lies within 2 sigma; then the analysis's errors (bench-score.h). */
+enum { M_RMSE, M_RMSE_OCC, M_RATIO, M_MAX, M_CLOCK, M_COVER, M_TOP, M_IMPACT, M_TEMPO,
+       M_HAND, M_CLUB, N_METRIC };
 
 typedef struct {
   double *v[N_METRIC];
   size_t n[N_METRIC];
 } Samples;
 
-static int
-cmp_double(const void *a, const void *b)
+/* Analysis of one estimator's path: the fused path as it is, or a path-only trajectory of
+ * the finite rows (up from the simulator, which the baselines cannot measure; without the
+ * watch the analysis times impact from the path and takes the club's rate from the path's
+ * turning). */
+static AwAnalysis *
+analyse_estimate(const AwSim *sim, const BenchOutput *out, const AwAnalysisSettings *set)
 {
-  double x = *(const double *)a, y = *(const double *)b;
-  return x < y ? -1 : x > y;
-}
-
-/* Linear-interpolated quantile of sorted data (numpy's default method). */
-static double
-quantile(double *v, size_t n, double q)
-{
-  if (n == 0)
-    return NAN;
-  qsort(v, n, sizeof *v, cmp_double);
-  double pos = q * (double)(n - 1);
-  size_t i = (size_t)floor(pos);
-  if (i + 1 >= n)
-    return v[n - 1];
-  return v[i] + (v[i + 1] - v[i]) * (pos - (double)i);
+  AwAnalysis *an = NULL;
+  const AwImuStream *imu = aw_sim_imu(sim);
+  if (out->fused != NULL) {
+    AwTrajectory tr;
+    aw_trajectory_from_fused(out->fused, imu->meta.accel_range_m_s2, imu->meta.gyro_range_rad_s,
+                             &tr);
+    if (aw_analyze(&tr, set, &an, NULL) != AW_OK)
+      return NULL;
+    return an;
+  }
+  const AwDepthStream *dp = aw_sim_depth(sim);
+  double *t = malloc(dp->n * sizeof *t);
+  double (*p)[3] = malloc(dp->n * sizeof *p);
+  if (t == NULL || p == NULL) {
+    free(t);
+    free(p);
+    return NULL;
+  }
+  size_t m = 0;
+  for (size_t j = 0; j < dp->n; j++)
+    if (isfinite(out->pos_cam_m[j][0]) && isfinite(out->pos_cam_m[j][1]) &&
+        isfinite(out->pos_cam_m[j][2]) && (m == 0 || dp->t_s[j] > t[m - 1])) {
+      t[m] = dp->t_s[j];
+      aw_v3_copy(p[m], out->pos_cam_m[j]);
+      m++;
+    }
+  AwTrajectory tr;
+  memset(&tr, 0, sizeof tr);
+  tr.n = m;
+  tr.t_s = t;
+  tr.pos_m = (const double (*)[3])p;
+  const AwSimTruth *truth = aw_sim_truth(sim);
+  for (int k = 0; k < 3; k++)
+    tr.up[k] = truth->R_cam_grav[k][2];
+  tr.sync_offset_s = NAN;
+  tr.sync_confidence = NAN;
+  if (aw_analyze(&tr, set, &an, NULL) != AW_OK)
+    an = NULL;
+  free(t);
+  free(p);
+  return an;
 }
 
 static void
@@ -93,7 +161,10 @@ usage(FILE *f)
           "normal, hard in turn; face-on and down-the-line alternating) and prints, for every\n"
           "estimator, the median and 90th percentile over swings of: position RMSE over the\n"
           "motion (takeaway to finish), RMSE in the occlusion windows only, the maximum error\n"
-          "over the motion, and clock-offset and event-timing errors where estimated.\n"
+          "over the motion, the occluded RMSE relative to the depth-only baseline, the\n"
+          "clock-offset error and the 2-sigma coverage where estimated; and the swing analysis\n"
+          "run on each estimator's path: top and impact timing errors, tempo, hand-speed and\n"
+          "club-head speed errors.\n"
           "--plot-data writes swing K's (default 0) truth, raw frames and estimates as CSV for\n"
           "tools/plot-swing.py.\n");
 }
@@ -142,7 +213,7 @@ arcwise_bench_accuracy(int argc, char **argv)
         if (S[e][l].v[m] == NULL)
           return arcwise_cli_fail("bench accuracy", "out of memory");
       }
-  size_t failures[N_EST] = { 0 };
+  size_t failures[N_EST] = { 0 }, no_swing[N_EST] = { 0 };
   double frames_total = 0, frames_occ = 0;
   for (long s = 0; s < n_swings; s++) {
     AwSimConfig c;
@@ -161,8 +232,9 @@ arcwise_bench_accuracy(int argc, char **argv)
     size_t n = dp->n;
     double (*truth)[3] = malloc(n * sizeof *truth);
     double (*est)[3] = malloc(n * sizeof *est);
+    double (*sig)[3] = malloc(n * sizeof *sig);
     bool *occ = calloc(n, sizeof *occ);
-    if (!truth || !est || !occ)
+    if (!truth || !est || !sig || !occ)
       return arcwise_cli_fail("bench accuracy", "out of memory");
     for (size_t j = 0; j < n; j++) {
       AwSimState st;
@@ -190,20 +262,26 @@ arcwise_bench_accuracy(int argc, char **argv)
     double (*plot_est)[N_EST][3] = NULL;
     if (plot != NULL && s == plot_index)
       plot_est = calloc(n, sizeof *plot_est);
+    AwAnalysisSettings aset;
+    aw_analysis_settings_default(&aset);
+    aset.handed = sw->style.left_handed ? AW_HANDED_LEFT : AW_HANDED_RIGHT;
+    aset.club_length_m = sw->style.club_length_m;
+    double base_occ = NAN; /* the depth-only baseline's occluded RMSE of this swing */
     for (int e = 0; e < N_EST; e++) {
       BenchOutput out;
       out.pos_cam_m = est;
+      out.sigma_cam_m = sig;
       out.clock_offset_s = NAN;
+      out.fused = NULL;
       for (size_t j = 0; j < n; j++)
-        est[j][0] = est[j][1] = est[j][2] = NAN;
-      for (int k = 0; k < 5; k++)
-        out.events_s[k] = NAN;
+        for (int ax = 0; ax < 3; ax++)
+          est[j][ax] = sig[j][ax] = NAN;
       if (estimators[e].run(&in, &out) != AW_OK) {
         failures[e]++;
         continue;
       }
       double se = 0, se_occ = 0, mx = 0;
-      size_t cnt = 0, cnt_occ = 0;
+      size_t cnt = 0, cnt_occ = 0, cov = 0, cov_n = 0;
       for (size_t j = 0; j < n; j++) {
         if (plot_est)
           aw_v3_copy(plot_est[j][e], est[j]);
@@ -220,27 +298,43 @@ arcwise_bench_accuracy(int argc, char **argv)
           se_occ += d * d;
           cnt_occ++;
         }
+        for (int ax = 0; ax < 3; ax++)
+          if (isfinite(sig[j][ax])) {
+            cov_n++;
+            cov += fabs(est[j][ax] - truth[j][ax]) <= 2 * sig[j][ax];
+          }
       }
       if (e == 0) {
         frames_total += (double)cnt;
         frames_occ += (double)cnt_occ;
       }
-      double vals[N_METRIC] = { cnt ? sqrt(se / cnt) : (double)NAN, cnt_occ ? sqrt(se_occ / cnt_occ) : (double)NAN,
-                                cnt ? mx : (double)NAN,
-                                isfinite(out.clock_offset_s)
-                                  ? fabs(out.clock_offset_s - tr->clock_offset_s) : (double)NAN,
-                                NAN };
-      double ev_true[5] = { sw->t_address_s, sw->t_takeaway_s, sw->t_top_s, sw->t_impact_s,
-                            sw->t_finish_s };
-      double ev_err = 0;
-      int n_ev = 0;
-      for (int k = 0; k < 5; k++)
-        if (isfinite(out.events_s[k])) {
-          ev_err = fmax(ev_err, fabs(out.events_s[k] - ev_true[k]));
-          n_ev++;
-        }
-      if (n_ev)
-        vals[M_EVENT] = ev_err;
+      double vals[N_METRIC];
+      for (int m = 0; m < N_METRIC; m++)
+        vals[m] = NAN;
+      vals[M_RMSE] = cnt ? sqrt(se / (double)cnt) : (double)NAN;
+      vals[M_RMSE_OCC] = cnt_occ ? sqrt(se_occ / (double)cnt_occ) : (double)NAN;
+      if (e == 0)
+        base_occ = vals[M_RMSE_OCC];
+      else if (base_occ > 0)
+        vals[M_RATIO] = vals[M_RMSE_OCC] / base_occ;
+      vals[M_MAX] = cnt ? mx : (double)NAN;
+      if (isfinite(out.clock_offset_s))
+        vals[M_CLOCK] = fabs(out.clock_offset_s - tr->clock_offset_s);
+      if (cov_n)
+        vals[M_COVER] = (double)cov / (double)cov_n;
+      AwAnalysis *an = analyse_estimate(sim, &out, &aset);
+      ArcwiseSwingErrors er;
+      if (an != NULL && arcwise_bench_swing_errors(sw, an, &er) != NULL) {
+        vals[M_TOP] = 1e-3 * er.top_ms; /* s, like the clock */
+        vals[M_IMPACT] = 1e-3 * er.impact_ms;
+        vals[M_TEMPO] = er.tempo_pct;
+        vals[M_HAND] = er.hand_pct;
+        vals[M_CLUB] = er.club_pct;
+      } else {
+        no_swing[e]++;
+      }
+      aw_analysis_free(an);
+      aw_fused_path_free(out.fused);
       for (int m = 0; m < N_METRIC; m++)
         if (isfinite(vals[m])) {
           Samples *lv = &S[e][level], *all = &S[e][3];
@@ -273,36 +367,63 @@ arcwise_bench_accuracy(int argc, char **argv)
     }
     free(truth);
     free(est);
+    free(sig);
     free(occ);
     aw_sim_free(sim);
   }
 
   printf("Lead-wrist path accuracy over %ld simulated swings (seeds %llu..%llu; easy, normal, "
-         "hard in turn;\nface-on and down-the-line; %.0f frames in motion, %.0f of them "
-         "occluded). Errors are\ndistances to the true keypoint at the depth frame times, in mm "
-         "(clock and events in ms);\neach cell is median / 90th percentile over swings.\n\n",
+         "hard in turn;\nface-on and down-the-line; every fifth left-handed; %.0f frames in "
+         "motion, %.0f of them occluded).\nPositions: distance to the true keypoint at the depth "
+         "frame times over the motion (takeaway to\nfinish), mm; 'occl/base': occluded RMSE over "
+         "the depth-only baseline's on the same swing;\n'2 sigma': share of axes whose error lies "
+         "within twice the estimator's own sigma. Events and\nnumbers: the swing analysis run on "
+         "each estimator's path, against the true events (ms) and\nthe true tempo, hand speed "
+         "and club-head speed at impact (relative, %%). Each cell is median /\n90th percentile "
+         "over swings ('2 sigma': mean / 10th percentile).\n"
+         "Goals (issues 4 and 5): fused RMSE 15 / 30 mm, occluded 20 mm median and 0.15 of the "
+         "baseline;\nclock 2 ms; 2 sigma 90-99 %%; top and impact 10 / 20 ms; tempo 3 %%, hand "
+         "5 %%, club 8 %% median.\n\n",
          n_swings, seed0, seed0 + (unsigned long long)n_swings - 1, frames_total, frames_occ);
-  printf("%-11s %-7s %15s %15s %15s %13s %13s\n", "estimator", "level", "RMSE motion",
-         "RMSE occluded", "max error", "clock", "events");
+  static const char *heads[N_METRIC] = { "RMSE", "RMSE occl", "occl/base", "max", "clock ms",
+                                         "2 sigma %", "top ms", "impact ms", "tempo %",
+                                         "hand %", "club %" };
+  static const int widths[N_METRIC] = { 11, 11, 11, 13, 11, 11, 11, 11, 11, 11, 11 };
+  printf("%-10s %-6s", "estimator", "level");
+  for (int m = 0; m < N_METRIC; m++)
+    printf(" %*s", widths[m], heads[m]);
+  printf("\n");
   static const char *lv_names[4] = { "easy", "normal", "hard", "all" };
   for (int e = 0; e < N_EST; e++) {
     for (int l = 0; l < 4; l++) {
-      char cell[N_METRIC][32];
+      printf("%-10s %-6s", l == 0 ? estimators[e].name : "", lv_names[l]);
       for (int m = 0; m < N_METRIC; m++) {
         Samples *x = &S[e][l];
+        char cell[40];
         if (x->n[m] == 0) {
-          snprintf(cell[m], sizeof cell[m], "-");
-          continue;
+          snprintf(cell, sizeof cell, "-");
+        } else if (m == M_COVER) {
+          double mean = 0;
+          for (size_t k = 0; k < x->n[m]; k++)
+            mean += x->v[m][k];
+          mean /= (double)x->n[m];
+          snprintf(cell, sizeof cell, "%.1f/%.1f", 100 * mean,
+                   100 * arcwise_bench_quantile(x->v[m], x->n[m], 0.1));
+        } else {
+          double med = arcwise_bench_quantile(x->v[m], x->n[m], 0.5);
+          double p90 = arcwise_bench_quantile(x->v[m], x->n[m], 0.9);
+          /* positions in mm, times in ms, ratios as they are, relative errors in % */
+          double k = m == M_RATIO ? 1.0 : m >= M_TEMPO ? 1.0 : 1000.0;
+          snprintf(cell, sizeof cell, m == M_RATIO ? "%.2f/%.2f" : "%.1f/%.1f", med * k, p90 * k);
         }
-        double med = quantile(x->v[m], x->n[m], 0.5), p90 = quantile(x->v[m], x->n[m], 0.9);
-        snprintf(cell[m], sizeof cell[m], "%.1f / %.1f", med * 1000, p90 * 1000);
+        printf(" %*s", widths[m], cell);
       }
-      printf("%-11s %-7s %15s %15s %15s %13s %13s\n", l == 0 ? estimators[e].name : "",
-             lv_names[l], cell[M_RMSE], cell[M_RMSE_OCC], cell[M_MAX], cell[M_CLOCK],
-             cell[M_EVENT]);
+      printf("\n");
     }
     if (failures[e])
-      printf("%-11s %zu swings failed\n", "", failures[e]);
+      printf("%-10s %zu swings failed\n", "", failures[e]);
+    if (no_swing[e])
+      printf("%-10s %zu swings not found by the analysis on this path\n", "", no_swing[e]);
   }
   printf("\n");
   for (int e = 0; e < N_EST; e++)

@@ -2,6 +2,7 @@
 /* `arcwise bench analysis`: event, tempo and speed accuracy of the swing analysis over seeded
  * simulated swings, and swing finding over simulated continuous sessions. */
 #include "cli.h"
+#include "bench-score.h"
 
 #include "arcwise/analysis.h"
 #include "arcwise/math3.h"
@@ -76,25 +77,6 @@ ideal_path(const AwSim *sim, BenchPath *b, AwTrajectory *tr)
   return 0;
 }
 
-static int
-cmp_d(const void *a, const void *b)
-{
-  double x = *(const double *)a, y = *(const double *)b;
-  return x < y ? -1 : x > y ? 1 : 0;
-}
-
-static double
-quantile(double *v, size_t n, double q)
-{
-  if (n == 0)
-    return NAN;
-  qsort(v, n, sizeof *v, cmp_d);
-  double pos = q * (double)(n - 1);
-  size_t i = (size_t)pos;
-  double f = pos - (double)i;
-  return i + 1 < n ? v[i] * (1 - f) + v[i + 1] * f : v[i];
-}
-
 typedef struct {
   size_t n;
   double *top_ms, *imp_ms, *tempo_pct, *hand_pct, *club_pct;
@@ -106,10 +88,10 @@ errs_row(const char *name, Errs *e, const char *goal_top)
 {
   printf("%-10s %4zu/%-4zu  top %5.1f/%5.1f ms  impact %5.1f/%5.1f ms  tempo %4.1f %%  "
          "hand %4.1f %%  club %4.1f %%\n",
-         name, e->found, e->found + e->missed, quantile(e->top_ms, e->n, 0.5),
-         quantile(e->top_ms, e->n, 0.9), quantile(e->imp_ms, e->n, 0.5),
-         quantile(e->imp_ms, e->n, 0.9), quantile(e->tempo_pct, e->n, 0.5),
-         quantile(e->hand_pct, e->n, 0.5), quantile(e->club_pct, e->n, 0.5));
+         name, e->found, e->found + e->missed, arcwise_bench_quantile(e->top_ms, e->n, 0.5),
+         arcwise_bench_quantile(e->top_ms, e->n, 0.9), arcwise_bench_quantile(e->imp_ms, e->n, 0.5),
+         arcwise_bench_quantile(e->imp_ms, e->n, 0.9), arcwise_bench_quantile(e->tempo_pct, e->n, 0.5),
+         arcwise_bench_quantile(e->hand_pct, e->n, 0.5), arcwise_bench_quantile(e->club_pct, e->n, 0.5));
   (void)goal_top;
 }
 
@@ -193,23 +175,17 @@ arcwise_bench_analysis(int argc, char **argv)
       else
         st = aw_analyze_capture(aw_sim_imu(sim), aw_sim_depth(sim), NULL, &set, &an, &fused, &err);
       if (st == AW_OK) {
-        /* The detected swing nearest the true impact. */
-        const AwSwing *best = NULL;
-        for (size_t j = 0; j < an->n_swings; j++)
-          if (best == NULL || fabs(an->swings[j].events[AW_EVENT_IMPACT].t_s - ts->t_impact_s) <
-                                fabs(best->events[AW_EVENT_IMPACT].t_s - ts->t_impact_s))
-            best = &an->swings[j];
+        ArcwiseSwingErrors se;
+        const AwSwing *best = arcwise_bench_swing_errors(ts, an, &se);
+        double tempo_true = (ts->t_top_s - ts->t_takeaway_s) / (ts->t_impact_s - ts->t_top_s);
         Errs *E = &e[est];
         E->found++;
         size_t i = E->n++;
-        E->top_ms[i] = 1e3 * fabs(best->events[AW_EVENT_TOP].t_s - ts->t_top_s);
-        E->imp_ms[i] = 1e3 * fabs(best->events[AW_EVENT_IMPACT].t_s - ts->t_impact_s);
-        double tempo_true = (ts->t_top_s - ts->t_takeaway_s) / (ts->t_impact_s - ts->t_top_s);
-        E->tempo_pct[i] = 100 * fabs(best->metrics[AW_METRIC_TEMPO_RATIO] / tempo_true - 1);
-        E->hand_pct[i] = 100 * fabs(best->metrics[AW_METRIC_HAND_SPEED_IMPACT_M_S] /
-                                    ts->hand_speed_impact_m_s - 1);
-        E->club_pct[i] = 100 * fabs(best->metrics[AW_METRIC_CLUB_SPEED_IMPACT_M_S] /
-                                    ts->club_speed_impact_m_s - 1);
+        E->top_ms[i] = se.top_ms;
+        E->imp_ms[i] = se.impact_ms;
+        E->tempo_pct[i] = se.tempo_pct;
+        E->hand_pct[i] = se.hand_pct;
+        E->club_pct[i] = se.club_pct;
         if (est == 1) {
           /* Sensor trust against the simulator's own record of which frames were lost. */
           const AwDepthStream *dep = aw_sim_depth(sim);

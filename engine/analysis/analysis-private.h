@@ -9,8 +9,6 @@
 /* NAN is a float constant; the engine computes in double. */
 #define AN_NAN ((double)NAN)
 
-void aw_an_sym3_eigen(const double A[3][3], double w[3], double V[3][3]);
-
 /* Local polynomial fit of degree `order` over 2*half+1 samples around each sample, evaluated
  * there (deriv 0, 1 or 2, in units per second^deriv). x and out are strided arrays. */
 bool aw_an_local_poly(const double *t_s, const double *x, size_t stride, size_t n, int half,

@@ -10,48 +10,25 @@
  * is far beyond the median (occlusion snaps, mis-detections) are dropped for the last round. */
 #include "fusion-internal.h"
 
+#include "arcwise/eig.h"
 #include "arcwise/math3.h"
 
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
-/* Largest eigenvector of a symmetric 4x4 matrix by cyclic Jacobi rotations. */
+/* Eigenvector of the largest eigenvalue of a symmetric 4x4 matrix (arcwise/eig.h). */
 static void
 eig4_max(double A[4][4], double v_out[4])
 {
-  double V[4][4] = { { 1, 0, 0, 0 }, { 0, 1, 0, 0 }, { 0, 0, 1, 0 }, { 0, 0, 0, 1 } };
-  for (int sweep = 0; sweep < 50; sweep++) {
-    double off = 0;
-    for (int p = 0; p < 4; p++)
-      for (int q = p + 1; q < 4; q++) off += A[p][q] * A[p][q];
-    if (off < 1e-30) break;
-    for (int p = 0; p < 4; p++)
-      for (int q = p + 1; q < 4; q++) {
-        if (fabs(A[p][q]) < 1e-300) continue;
-        double th = 0.5 * (A[q][q] - A[p][p]) / A[p][q];
-        double t = (th >= 0 ? 1.0 : -1.0) / (fabs(th) + sqrt(th * th + 1));
-        double c = 1 / sqrt(t * t + 1), s = t * c;
-        for (int k = 0; k < 4; k++) {
-          double akp = A[k][p], akq = A[k][q];
-          A[k][p] = c * akp - s * akq;
-          A[k][q] = s * akp + c * akq;
-        }
-        for (int k = 0; k < 4; k++) {
-          double apk = A[p][k], aqk = A[q][k];
-          A[p][k] = c * apk - s * aqk;
-          A[q][k] = s * apk + c * aqk;
-        }
-        for (int k = 0; k < 4; k++) {
-          double vkp = V[k][p], vkq = V[k][q];
-          V[k][p] = c * vkp - s * vkq;
-          V[k][q] = s * vkp + c * vkq;
-        }
-      }
+  double w[4], V[4][4];
+  if (!aw_sym_eigen(4, &A[0][0], w, &V[0][0])) {
+    /* Non-finite input: a non-finite answer, which the caller's checks reject. */
+    v_out[0] = v_out[1] = v_out[2] = v_out[3] = (double)NAN;
+    return;
   }
-  int best = 0;
-  for (int i = 1; i < 4; i++) if (A[i][i] > A[best][best]) best = i;
-  for (int k = 0; k < 4; k++) v_out[k] = V[k][best];
+  for (int k = 0; k < 4; k++)
+    v_out[k] = V[k][3];
 }
 
 void
