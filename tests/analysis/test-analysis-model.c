@@ -327,6 +327,67 @@ test_metrics_100hz(void)
     AW_CHECK(cmp.phase_rms_m[AW_PHASE_BACKSWING] < 0.05);
     AW_CHECK_NEAR(cmp.metric_diff[AW_METRIC_TEMPO_RATIO], 3.75 - 3.0, 0.15);
   }
+  /* Session consistency of the 3:1 swing and the slower one (design tempos 3.0 and 3.75):
+   * the sample standard deviation of two values is |a - b| / sqrt(2) = 0.530 (the n - 1
+   * definition, numpy.std(ddof=1)); mean 3.375. Hand-computed; the tolerance covers the
+   * events' own timing errors. */
+  if (c3 != NULL && c3->n_swings == 1) {
+    const AwSwing *pair[2] = { &a->swings[0], &c3->swings[0] };
+    AwConsistency cons;
+    aw_session_consistency(pair, 2, &cons);
+    AW_CHECK(cons.n[AW_METRIC_TEMPO_RATIO] == 2);
+    AW_CHECK_NEAR(cons.mean[AW_METRIC_TEMPO_RATIO], 3.375, 0.08);
+    AW_CHECK_NEAR(cons.sd[AW_METRIC_TEMPO_RATIO], 0.75 / sqrt(2.0), 0.1);
+    AW_CHECK_NEAR(cons.min[AW_METRIC_TEMPO_RATIO], 3.0, 0.08);
+    AW_CHECK_NEAR(cons.max[AW_METRIC_TEMPO_RATIO], 3.75, 0.08);
+    /* Equal backswing planes: no spread, to rounding. */
+    AW_CHECK_NEAR(cons.sd[AW_METRIC_PLANE_BACKSWING_DEG], 0.0, 0.05);
+  }
+  /* A longer arm (radius 0.80 m against 0.75 m) on the same timing, placed and turned
+   * elsewhere in the room: after the alignment at address and along the target line, B's hand
+   * is A's scaled by r_b / r_a about the address position, so at arc angle phi the two lie
+   * dr * |(sin phi, 1 - cos phi)| = dr * 2 |sin(phi / 2)| apart. The backswing's RMS of that
+   * over A's own samples is the hand-computed reference. */
+  {
+    TestSwingSpec s4 = s;
+    s4.radius_m = 0.80;
+    Path P4 = { 0 };
+    sample_swing(&P4, &s4, (const double (*)[3])Rt, off, 5.0, 0.0, test_swing_t_end(&s4));
+    fill_imu(&P4, &s4, 5.0, test_swing_t_impact(&s4) + 5.0);
+    for (size_t i = 0; i < P4.n; i++)
+      aw_mat_to_quat(P4.q[i], (const double (*)[3])Rt);
+    AwAnalysis *c4 = analyze_ok(&P4, up_c, &set);
+    AW_CHECK(c4 != NULL && c4->n_swings == 1);
+    if (c4 != NULL && c4->n_swings == 1) {
+      AwTrajectory t4;
+      traj_of(&P4, up_c, &t4);
+      AwSwingComparison cmp;
+      AW_CHECK(aw_swing_compare(&ta, &a->swings[0], &t4, &c4->swings[0], &cmp, NULL) == AW_OK);
+      double ss = 0;
+      size_t c = 0;
+      const AwPhase *ph = &a->swings[0].phases[AW_PHASE_BACKSWING];
+      for (size_t i = 0; i < P.n; i++) {
+        if (P.t[i] < ph->start_s || P.t[i] > ph->end_s)
+          continue;
+        double rate, phi = test_swing_phi(&s, P.t[i], &rate);
+        double d = (s4.radius_m - s.radius_m) * 2.0 * fabs(sin(0.5 * phi));
+        ss += d * d;
+        c++;
+      }
+      AW_CHECK(c > 10);
+      double ref = sqrt(ss / (double)c);
+      fprintf(stderr, "compare: backswing deviation %.2f cm, hand-computed %.2f cm\n",
+              100 * cmp.phase_rms_m[AW_PHASE_BACKSWING], 100 * ref);
+      AW_CHECK(ref > 0.03);
+      AW_CHECK_NEAR(cmp.phase_rms_m[AW_PHASE_BACKSWING], ref, 0.003);
+      AW_CHECK_NEAR(cmp.metric_diff[AW_METRIC_TOP_HEIGHT_M],
+                    (s4.radius_m - s.radius_m) * (1 - cos(s.top_angle_rad)) * sin(s.incline_rad),
+                    0.003);
+      AW_CHECK_NEAR(cmp.event_dt_s[AW_EVENT_TOP], 0.0, 0.005);
+    }
+    aw_analysis_free(c4);
+    path_free(&P4);
+  }
   aw_analysis_free(c3);
   path_free(&P3);
   aw_analysis_free(b2);

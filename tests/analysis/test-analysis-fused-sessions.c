@@ -1,0 +1,78 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* Swing finding through the whole pipeline (aw_analyze_capture: fusion, masked fusions,
+ * analysis) on simulated continuous recordings with waggles, practice half- and full swings
+ * and walking between shots: every swing found once and nothing else taken for one (the
+ * acceptance of issue 5, on a smaller set than `arcwise bench analysis`, whose seeds these are
+ * not). The floor is asserted on the easy and normal levels, right- and left-handed, both
+ * views. */
+#include "testutil.h"
+
+#include "arcwise/analysis.h"
+#include "arcwise/sim.h"
+
+#include <math.h>
+#include <stdio.h>
+
+static void
+check(uint64_t seed, AwSimLevel level, AwSimView view, bool left, int shots)
+{
+  AwSimConfig cfg;
+  aw_sim_config_default(&cfg, level);
+  cfg.seed = seed;
+  cfg.n_swings = shots;
+  cfg.session_extras = true;
+  cfg.view = view;
+  cfg.left_handed = left;
+  AwSim *sim = NULL;
+  AwError err;
+  AW_CHECK(aw_sim_new(&cfg, &sim, &err) == AW_OK);
+  if (sim == NULL)
+    return;
+  const AwSimTruth *truth = aw_sim_truth(sim);
+  AwAnalysisSettings set;
+  aw_analysis_settings_default(&set);
+  set.handed = left ? AW_HANDED_LEFT : AW_HANDED_RIGHT;
+  AwAnalysis *an = NULL;
+  AwStatus st = aw_analyze_capture(aw_sim_imu(sim), aw_sim_depth(sim), NULL, &set, &an, NULL,
+                                   &err);
+  AW_CHECK(st == AW_OK);
+  if (st != AW_OK)
+    fprintf(stderr, "seed %llu: %s\n", (unsigned long long)seed, err.message);
+  size_t found = 0, wrong = 0;
+  for (size_t s = 0; an != NULL && s < truth->n_swings; s++) {
+    int hits = 0;
+    for (size_t j = 0; j < an->n_swings; j++)
+      hits += fabs(an->swings[j].events[AW_EVENT_IMPACT].t_s - truth->swings[s].t_impact_s) < 0.15;
+    if (hits != 1)
+      fprintf(stderr, "seed %llu: %s swing %zu at %.2f s found %d times\n",
+              (unsigned long long)seed, truth->swings[s].practice ? "practice" : "struck", s,
+              truth->swings[s].t_impact_s, hits);
+    found += hits == 1;
+  }
+  for (size_t j = 0; an != NULL && j < an->n_swings; j++) {
+    bool match = false;
+    for (size_t s = 0; s < truth->n_swings; s++)
+      match |= fabs(an->swings[j].events[AW_EVENT_IMPACT].t_s - truth->swings[s].t_impact_s) < 0.15;
+    if (!match) {
+      wrong++;
+      fprintf(stderr, "seed %llu: a swing at %.2f s that the player never made\n",
+              (unsigned long long)seed, an->swings[j].events[AW_EVENT_IMPACT].t_s);
+    }
+  }
+  fprintf(stderr, "seed %llu (%s, %s, %s-handed): %zu of %zu swings found, %zu false\n",
+          (unsigned long long)seed, aw_sim_level_name(level), aw_sim_view_name(view),
+          left ? "left" : "right", found, truth->n_swings, wrong);
+  AW_CHECK(found == truth->n_swings);
+  AW_CHECK(wrong == 0);
+  aw_analysis_free(an);
+  aw_sim_free(sim);
+}
+
+int
+main(void)
+{
+  check(7301, AW_SIM_EASY, AW_SIM_FACE_ON, false, 6);
+  check(7302, AW_SIM_NORMAL, AW_SIM_DOWN_THE_LINE, false, 6);
+  check(7303, AW_SIM_NORMAL, AW_SIM_FACE_ON, true, 6);
+  return AW_TEST_END();
+}
