@@ -329,17 +329,18 @@ test_metrics_100hz(void)
   }
   /* Session consistency of the 3:1 swing and the slower one (design tempos 3.0 and 3.75):
    * the sample standard deviation of two values is |a - b| / sqrt(2) = 0.530 (the n - 1
-   * definition, numpy.std(ddof=1)); mean 3.375. Hand-computed; the tolerance covers the
-   * events' own timing errors. */
+   * definition, numpy.std(ddof=1)); mean 3.375. Hand-computed; the tolerance of 0.2 covers
+   * the events' own timing: the analytic backswing starts with zero velocity, acceleration
+   * and jerk, so its takeaway is found up to 30 ms late (checked above), some 4 % of tempo. */
   if (c3 != NULL && c3->n_swings == 1) {
     const AwSwing *pair[2] = { &a->swings[0], &c3->swings[0] };
     AwConsistency cons;
     aw_session_consistency(pair, 2, &cons);
     AW_CHECK(cons.n[AW_METRIC_TEMPO_RATIO] == 2);
-    AW_CHECK_NEAR(cons.mean[AW_METRIC_TEMPO_RATIO], 3.375, 0.08);
+    AW_CHECK_NEAR(cons.mean[AW_METRIC_TEMPO_RATIO], 3.375, 0.2);
     AW_CHECK_NEAR(cons.sd[AW_METRIC_TEMPO_RATIO], 0.75 / sqrt(2.0), 0.1);
-    AW_CHECK_NEAR(cons.min[AW_METRIC_TEMPO_RATIO], 3.0, 0.08);
-    AW_CHECK_NEAR(cons.max[AW_METRIC_TEMPO_RATIO], 3.75, 0.08);
+    AW_CHECK_NEAR(cons.min[AW_METRIC_TEMPO_RATIO], 3.0, 0.2);
+    AW_CHECK_NEAR(cons.max[AW_METRIC_TEMPO_RATIO], 3.75, 0.2);
     /* Equal backswing planes: no spread, to rounding. */
     AW_CHECK_NEAR(cons.sd[AW_METRIC_PLANE_BACKSWING_DEG], 0.0, 0.05);
   }
