@@ -86,6 +86,7 @@ arcwise_store_current_settings(void)
   kv(s, "analysis.min_top_rise_m", a.min_top_rise_m);
   kv(s, "analysis.min_peak_speed_m_s", a.min_peak_speed_m_s);
   kv(s, "analysis.impact_snr", a.impact_snr);
+  kv(s, "analysis.contact_min_loss", a.contact_min_loss);
   AwAnalysisSettings az;
   memset(&az, 0, sizeof az);
   aw_analysis_settings_default(&az);

@@ -241,6 +241,13 @@ find_contact(const AwAnWork *w, size_t i_lo, size_t i_hi, size_t r_lo, size_t r_
    * §8: about 0.0125 m/s^2 rms at 100 Hz), so a dead-smooth analytic signal never fakes contact. */
   double thr = med + w->set->impact_snr * fmax(mad, 0.1);
   bool ok = best > thr && best > 2.0;
+  /* A ball slows the hands by a share of their speed, not by a fixed amount: a fast practice
+   * swing's smooth turn through the bottom of the arc (the forearm rolling at up to 40 rad/s
+   * swings the watch's own centripetal force around) leaves a second difference of some
+   * 5-15 m/s^2, which stands above a quiet background but is a velocity change of well under
+   * 1 % of the hands' speed per sample, where a ball costs several per cent (settings). */
+  if (ok && !(best * w->dt_s >= w->set->contact_min_loss * w->speed[kbest]))
+    ok = false;
   if (ok) {
     /* A contact of a few ms falls inside one anti-aliased sample or straddles two: centroid of
      * the excess roughness over the peak and its neighbours. */
@@ -674,9 +681,11 @@ aw_analyze(const AwTrajectory *traj, const AwAnalysisSettings *settings_in, AwAn
       if (r == CAND_CUT_END && isnan(fs.cut_end_t))
         fs.cut_end_t = traj->t_s[ipk];
       a->n_ignored++;
-      /* Skip the rest of this burst of motion. */
+      /* Skip the rest of this speed hump, down to its valley, and no further: a fast
+       * backswing's own hump fails here (no top before it), and the downswing hump that
+       * follows within a few tenths of a second must still be looked at. */
       i = ipk + 1;
-      while (i + 1 < n && sp[i] >= set.still_speed_m_s && traj->t_s[i] - traj->t_s[ipk] < 0.3)
+      while (i + 1 < n && sp[i + 1] <= sp[i])
         i++;
     }
   }

@@ -120,6 +120,8 @@ typedef struct {
   double min_top_rise_m;         /* a swing's top rises at least this far, else not a swing */
   double min_peak_speed_m_s;     /* a swing's downswing reaches at least this hand speed */
   double impact_snr;             /* accelerometer transient / local noise needed for contact */
+  double contact_min_loss;       /* a contact transient is a velocity change of at least this
+                                    fraction of the hands' speed within one sample */
   /* Club-head lever: the club's angular rate at impact over the lead arm's (the watch's), the
    * wrist's release on top of the arm's turn. Default 2.1 from segment peak rates (club about
    * 2000-2500 deg/s, lead arm 800-1300 deg/s, REFERENCES.md §6, values from memory). */
