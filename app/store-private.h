@@ -102,12 +102,8 @@ gboolean arcwise_store_replace_results(ArcwiseStore *store, const ArcwisePrepare
 gboolean arcwise_store_add_journal(ArcwiseStore *store, const char *kind, const char *detail,
                                    GError **error);
 
-/* integrity_check and foreign_key_check only (arcwise_store_check also decodes every blob). */
-gboolean arcwise_store_check_database(ArcwiseStore *store, GError **error);
-
 /* Migration hooks for the tests: open without migrating, migrate up to `version`. */
 ArcwiseStore *arcwise_store_open_at_version(const char *path, int version, GError **error);
-int arcwise_store_get_schema_version(ArcwiseStore *store);
 /* Migrates an open library up to `version` (one transaction per step). */
 gboolean arcwise_store_migrate_to(ArcwiseStore *store, int version, GError **error);
 /* Runs one constant SQL script (tests and the benchmark only; never built from strings). */
