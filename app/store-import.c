@@ -39,6 +39,16 @@ kv(GString *s, const char *key, double v)
   g_string_append_printf(s, "%s=%s\n", key, g_ascii_formatd(num, sizeof num, "%.17g", v));
 }
 
+/* The settings named in the text, in the order of earlier versions (the text's hash is the
+ * identity of stored results, so the names and order must not change). */
+#define FUSION_SCALARS(X)                                                                   \
+  X(accel_noise_density_m_s2_rthz) X(gyro_noise_density_rad_s_rthz)                         \
+  X(accel_bias_walk_m_s3_rthz) X(gyro_bias_walk_rad_s2_rthz) X(cam_sigma_xy_m)              \
+  X(cam_sigma_z_coeff_per_m) X(gate_chi2) X(latitude_rad)
+#define ANALYSIS_SCALARS(X)                                                                 \
+  X(still_speed_m_s) X(still_min_s) X(full_top_rise_m) X(min_top_rise_m)                    \
+  X(min_peak_speed_m_s) X(impact_snr)
+
 char *
 arcwise_store_current_settings(void)
 {
@@ -51,14 +61,9 @@ arcwise_store_current_settings(void)
 #if ARCWISE_HAVE_FUSION
   AwFusionSettings f;
   aw_fusion_settings_default(&f);
-  kv(s, "fusion.accel_noise_density_m_s2_rthz", f.accel_noise_density_m_s2_rthz);
-  kv(s, "fusion.gyro_noise_density_rad_s_rthz", f.gyro_noise_density_rad_s_rthz);
-  kv(s, "fusion.accel_bias_walk_m_s3_rthz", f.accel_bias_walk_m_s3_rthz);
-  kv(s, "fusion.gyro_bias_walk_rad_s2_rthz", f.gyro_bias_walk_rad_s2_rthz);
-  kv(s, "fusion.cam_sigma_xy_m", f.cam_sigma_xy_m);
-  kv(s, "fusion.cam_sigma_z_coeff_per_m", f.cam_sigma_z_coeff_per_m);
-  kv(s, "fusion.gate_chi2", f.gate_chi2);
-  kv(s, "fusion.latitude_rad", f.latitude_rad);
+#define FUSION_KV(field) kv(s, "fusion." #field, f.field);
+  FUSION_SCALARS(FUSION_KV)
+#undef FUSION_KV
   for (int k = 0; k < 3; k++) {
     char key[64];
     g_snprintf(key, sizeof key, "fusion.lever_arm_body_m.%d", k);
@@ -80,12 +85,9 @@ arcwise_store_current_settings(void)
 #if ARCWISE_HAVE_ANALYSIS
   AwAnalysisSettings a;
   aw_analysis_settings_default(&a);
-  kv(s, "analysis.still_speed_m_s", a.still_speed_m_s);
-  kv(s, "analysis.still_min_s", a.still_min_s);
-  kv(s, "analysis.full_top_rise_m", a.full_top_rise_m);
-  kv(s, "analysis.min_top_rise_m", a.min_top_rise_m);
-  kv(s, "analysis.min_peak_speed_m_s", a.min_peak_speed_m_s);
-  kv(s, "analysis.impact_snr", a.impact_snr);
+#define ANALYSIS_KV(field) kv(s, "analysis." #field, a.field);
+  ANALYSIS_SCALARS(ANALYSIS_KV)
+#undef ANALYSIS_KV
   AwAnalysisSettings az;
   memset(&az, 0, sizeof az);
   aw_analysis_settings_default(&az);

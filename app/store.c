@@ -324,6 +324,47 @@ col_bytes(sqlite3_stmt *st, int i)
   return g_bytes_new(d, (gsize)n);
 }
 
+/* Every list and every fetch by id goes through these two: a row function makes the record. */
+typedef gpointer (*RowFunc)(sqlite3_stmt *st);
+
+/* All rows of a bound statement, or NULL with an error naming `what`. */
+static GPtrArray *
+collect_rows(ArcwiseStore *s, sqlite3_stmt *st, RowFunc row, GDestroyNotify free_func,
+             const char *what, GError **error)
+{
+  GPtrArray *out = g_ptr_array_new_with_free_func(free_func);
+  int rc;
+  while ((rc = sqlite3_step(st)) == SQLITE_ROW)
+    g_ptr_array_add(out, row(st));
+  sqlite3_reset(st);
+  if (rc != SQLITE_DONE) {
+    g_ptr_array_unref(out);
+    sql_fail(s, error, what);
+    return NULL;
+  }
+  return out;
+}
+
+/* The one row of a bound statement; NOT_FOUND ("no KIND ID") when there is none. */
+static gpointer
+fetch_row(ArcwiseStore *s, sqlite3_stmt *st, RowFunc row, const char *kind, gint64 id,
+          GError **error)
+{
+  gpointer r = NULL;
+  int rc = sqlite3_step(st);
+  if (rc == SQLITE_ROW)
+    r = row(st);
+  else if (rc == SQLITE_DONE)
+    g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_NOT_FOUND,
+                "no %s %" G_GINT64_FORMAT, kind, id);
+  else {
+    g_autofree char *what = g_strdup_printf("reading a %s", kind);
+    sql_fail(s, error, what);
+  }
+  sqlite3_reset(st);
+  return r;
+}
+
 static gboolean
 exec_const(ArcwiseStore *s, const char *sql, GError **error, const char *what)
 {
@@ -1060,7 +1101,7 @@ arcwise_store_update_player(ArcwiseStore *store, const ArcwisePlayer *p, GError 
   "(SELECT count(*) FROM swing sw JOIN session se ON se.id = sw.session_id "               \
   " WHERE se.player_id = p.id) FROM player p "
 
-static ArcwisePlayer *
+static gpointer
 player_from_row(sqlite3_stmt *st)
 {
   ArcwisePlayer *p = g_new0(ArcwisePlayer, 1);
@@ -1079,19 +1120,9 @@ GPtrArray *
 arcwise_store_list_players(ArcwiseStore *store, GError **error)
 {
   sqlite3_stmt *st = stmt(store, PLAYER_COLUMNS "ORDER BY p.name", error);
-  if (st == NULL)
-    return NULL;
-  GPtrArray *out = g_ptr_array_new_with_free_func((GDestroyNotify)arcwise_player_free);
-  int rc;
-  while ((rc = sqlite3_step(st)) == SQLITE_ROW)
-    g_ptr_array_add(out, player_from_row(st));
-  sqlite3_reset(st);
-  if (rc != SQLITE_DONE) {
-    g_ptr_array_unref(out);
-    sql_fail(store, error, "listing players");
-    return NULL;
-  }
-  return out;
+  return st == NULL ? NULL : collect_rows(store, st, player_from_row,
+                                          (GDestroyNotify)arcwise_player_free,
+                                          "listing players", error);
 }
 
 ArcwisePlayer *
@@ -1101,17 +1132,7 @@ arcwise_store_get_player(ArcwiseStore *store, gint64 id, GError **error)
   if (st == NULL)
     return NULL;
   sqlite3_bind_int64(st, 1, id);
-  ArcwisePlayer *p = NULL;
-  int rc = sqlite3_step(st);
-  if (rc == SQLITE_ROW)
-    p = player_from_row(st);
-  else if (rc == SQLITE_DONE)
-    g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_NOT_FOUND,
-                "no player %" G_GINT64_FORMAT, id);
-  else
-    sql_fail(store, error, "reading a player");
-  sqlite3_reset(st);
-  return p;
+  return fetch_row(store, st, player_from_row, "player", id, error);
 }
 
 gint64
@@ -1176,29 +1197,24 @@ arcwise_store_ensure_club(ArcwiseStore *store, const char *kind, double length_m
   return finish_write(store, id != 0, error) ? id : 0;
 }
 
+static gpointer
+club_from_row(sqlite3_stmt *st)
+{
+  ArcwiseClub *c = g_new0(ArcwiseClub, 1);
+  c->id = sqlite3_column_int64(st, 0);
+  c->kind = col_text0(st, 1);
+  c->length_m = col_real(st, 2);
+  return c;
+}
+
 GPtrArray *
 arcwise_store_list_clubs(ArcwiseStore *store, GError **error)
 {
   sqlite3_stmt *st = stmt(store, "SELECT id, kind, length_m FROM club ORDER BY kind, length_m",
                           error);
-  if (st == NULL)
-    return NULL;
-  GPtrArray *out = g_ptr_array_new_with_free_func((GDestroyNotify)arcwise_club_free);
-  int rc;
-  while ((rc = sqlite3_step(st)) == SQLITE_ROW) {
-    ArcwiseClub *c = g_new0(ArcwiseClub, 1);
-    c->id = sqlite3_column_int64(st, 0);
-    c->kind = col_text0(st, 1);
-    c->length_m = col_real(st, 2);
-    g_ptr_array_add(out, c);
-  }
-  sqlite3_reset(st);
-  if (rc != SQLITE_DONE) {
-    g_ptr_array_unref(out);
-    sql_fail(store, error, "listing clubs");
-    return NULL;
-  }
-  return out;
+  return st == NULL ? NULL : collect_rows(store, st, club_from_row,
+                                          (GDestroyNotify)arcwise_club_free, "listing clubs",
+                                          error);
 }
 
 static gint64
@@ -1256,7 +1272,7 @@ arcwise_store_add_session(ArcwiseStore *store, gint64 player_id, const char *dat
   "SELECT se.id, se.player_id, se.date, se.place, se.notes, "                              \
   "(SELECT count(*) FROM swing sw WHERE sw.session_id = se.id) FROM session se "
 
-static ArcwiseSession *
+static gpointer
 session_from_row(sqlite3_stmt *st)
 {
   ArcwiseSession *s = g_new0(ArcwiseSession, 1);
@@ -1277,17 +1293,8 @@ arcwise_store_list_sessions(ArcwiseStore *store, gint64 player_id, GError **erro
   if (st == NULL)
     return NULL;
   sqlite3_bind_int64(st, 1, player_id);
-  GPtrArray *out = g_ptr_array_new_with_free_func((GDestroyNotify)arcwise_session_free);
-  int rc;
-  while ((rc = sqlite3_step(st)) == SQLITE_ROW)
-    g_ptr_array_add(out, session_from_row(st));
-  sqlite3_reset(st);
-  if (rc != SQLITE_DONE) {
-    g_ptr_array_unref(out);
-    sql_fail(store, error, "listing sessions");
-    return NULL;
-  }
-  return out;
+  return collect_rows(store, st, session_from_row, (GDestroyNotify)arcwise_session_free,
+                      "listing sessions", error);
 }
 
 ArcwiseSession *
@@ -1297,17 +1304,7 @@ arcwise_store_get_session(ArcwiseStore *store, gint64 id, GError **error)
   if (st == NULL)
     return NULL;
   sqlite3_bind_int64(st, 1, id);
-  ArcwiseSession *s = NULL;
-  int rc = sqlite3_step(st);
-  if (rc == SQLITE_ROW)
-    s = session_from_row(st);
-  else if (rc == SQLITE_DONE)
-    g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_NOT_FOUND,
-                "no session %" G_GINT64_FORMAT, id);
-  else
-    sql_fail(store, error, "reading a session");
-  sqlite3_reset(st);
-  return s;
+  return fetch_row(store, st, session_from_row, "session", id, error);
 }
 
 /* ---- Swings --------------------------------------------------------------------------------- */
@@ -1357,7 +1354,7 @@ cmp_str(gconstpointer a, gconstpointer b)
   return strcmp(*(char *const *)a, *(char *const *)b);
 }
 
-static ArcwiseSwingSummary *
+static gpointer
 swing_from_row(sqlite3_stmt *st)
 {
   ArcwiseSwingSummary *s = g_new0(ArcwiseSwingSummary, 1);
@@ -1428,17 +1425,8 @@ arcwise_store_list_swings(ArcwiseStore *store, const ArcwiseSwingFilter *f, GErr
   sqlite3_bind_int(st, 11, f->reference_only ? 1 : 0);
   sqlite3_bind_int64(st, 12, f->limit > 0 ? (gint64)f->limit : -1);
   bind_current_engine(st);
-  GPtrArray *out = g_ptr_array_new_with_free_func((GDestroyNotify)arcwise_swing_summary_free);
-  int rc;
-  while ((rc = sqlite3_step(st)) == SQLITE_ROW)
-    g_ptr_array_add(out, swing_from_row(st));
-  sqlite3_reset(st);
-  if (rc != SQLITE_DONE) {
-    g_ptr_array_unref(out);
-    sql_fail(store, error, "listing swings");
-    return NULL;
-  }
-  return out;
+  return collect_rows(store, st, swing_from_row, (GDestroyNotify)arcwise_swing_summary_free,
+                      "listing swings", error);
 }
 
 ArcwiseSwingSummary *
@@ -1449,17 +1437,7 @@ arcwise_store_get_swing(ArcwiseStore *store, gint64 swing_id, GError **error)
     return NULL;
   sqlite3_bind_int64(st, 1, swing_id);
   bind_current_engine(st);
-  ArcwiseSwingSummary *s = NULL;
-  int rc = sqlite3_step(st);
-  if (rc == SQLITE_ROW)
-    s = swing_from_row(st);
-  else if (rc == SQLITE_DONE)
-    g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_NOT_FOUND,
-                "no swing %" G_GINT64_FORMAT, swing_id);
-  else
-    sql_fail(store, error, "reading a swing");
-  sqlite3_reset(st);
-  return s;
+  return fetch_row(store, st, swing_from_row, "swing", swing_id, error);
 }
 
 ArcwiseSwingDetail *
@@ -1751,30 +1729,25 @@ arcwise_store_add_journal(ArcwiseStore *store, const char *kind, const char *det
   return finish_write(store, insert_journal(store, kind, detail, error), error);
 }
 
+static gpointer
+journal_from_row(sqlite3_stmt *st)
+{
+  ArcwiseJournalEntry *e = g_new0(ArcwiseJournalEntry, 1);
+  e->id = sqlite3_column_int64(st, 0);
+  e->when_utc = col_text0(st, 1);
+  e->kind = col_text0(st, 2);
+  e->detail = col_text0(st, 3);
+  return e;
+}
+
 GPtrArray *
 arcwise_store_list_journal(ArcwiseStore *store, GError **error)
 {
   sqlite3_stmt *st = stmt(store, "SELECT id, when_utc, kind, detail FROM journal ORDER BY id",
                           error);
-  if (st == NULL)
-    return NULL;
-  GPtrArray *out = g_ptr_array_new_with_free_func((GDestroyNotify)arcwise_journal_entry_free);
-  int rc;
-  while ((rc = sqlite3_step(st)) == SQLITE_ROW) {
-    ArcwiseJournalEntry *e = g_new0(ArcwiseJournalEntry, 1);
-    e->id = sqlite3_column_int64(st, 0);
-    e->when_utc = col_text0(st, 1);
-    e->kind = col_text0(st, 2);
-    e->detail = col_text0(st, 3);
-    g_ptr_array_add(out, e);
-  }
-  sqlite3_reset(st);
-  if (rc != SQLITE_DONE) {
-    g_ptr_array_unref(out);
-    sql_fail(store, error, "reading the journal");
-    return NULL;
-  }
-  return out;
+  return st == NULL ? NULL : collect_rows(store, st, journal_from_row,
+                                          (GDestroyNotify)arcwise_journal_entry_free,
+                                          "reading the journal", error);
 }
 
 /* ---- Import: the writer ------------------------------------------------------------------ */
