@@ -627,11 +627,13 @@ arcwise_store_import(ArcwiseStore *store, const ArcwiseImportTarget *target, GPt
 
 /* ---- Async import ----------------------------------------------------------------------- */
 
+/* The data of a background import or re-analysis (reanalyse_all: which swings). */
 typedef struct {
   char *library_path;
   ArcwiseImportTarget target;
   char *player_name, *session_date, *session_place, *club_kind;
   GPtrArray *pairs;
+  gboolean reanalyse_all;
   ArcwiseProgressFunc progress;
   gpointer progress_data;
   GDestroyNotify progress_data_free;
@@ -647,7 +649,8 @@ import_task_data_clear(gpointer data)
   g_free(d->session_date);
   g_free(d->session_place);
   g_free(d->club_kind);
-  g_ptr_array_unref(d->pairs);
+  if (d->pairs != NULL)
+    g_ptr_array_unref(d->pairs);
   if (d->progress_data_free != NULL)
     d->progress_data_free(d->progress_data);
   g_main_context_unref(d->context);
@@ -871,4 +874,59 @@ arcwise_store_reanalyse(ArcwiseStore *store, gboolean all, GCancellable *cancell
   if (g_cancellable_set_error_if_cancelled(cancellable, error))
     return -1;
   return updated;
+}
+
+/* ---- Background re-analysis ------------------------------------------------------------ */
+
+static void
+reanalyse_thread(GTask *task, gpointer source, gpointer task_data, GCancellable *cancellable)
+{
+  ImportTaskData *d = task_data;
+  GError *error = NULL;
+  g_autoptr(ArcwiseStore) store = arcwise_store_open(d->library_path, ARCWISE_STORE_OPEN_DEFAULT,
+                                                     &error);
+  if (store == NULL) {
+    g_task_return_error(task, error);
+    return;
+  }
+  gint n = arcwise_store_reanalyse(store, d->reanalyse_all, cancellable, progress_forward, d,
+                                   &error);
+  if (n < 0)
+    g_task_return_error(task, error);
+  else
+    g_task_return_int(task, n);
+}
+
+void
+arcwise_store_reanalyse_async(const char *library_path, gboolean all, GCancellable *cancellable,
+                              ArcwiseProgressFunc progress, gpointer progress_data,
+                              GDestroyNotify progress_data_free, GAsyncReadyCallback callback,
+                              gpointer user_data)
+{
+  ImportTaskData *d = g_rc_box_new0(ImportTaskData);
+  d->library_path = g_strdup(library_path);
+  d->reanalyse_all = all;
+  d->progress = progress;
+  d->progress_data = progress_data;
+  d->progress_data_free = progress_data_free;
+  d->context = g_main_context_ref_thread_default();
+  GTask *task = g_task_new(NULL, cancellable, callback, user_data);
+  static const int reanalyse_tag;
+  g_task_set_source_tag(task, (gpointer)&reanalyse_tag);
+  g_task_set_task_data(task, d, import_task_data_release);
+  g_task_run_in_thread(task, reanalyse_thread);
+  g_object_unref(task);
+}
+
+gint
+arcwise_store_reanalyse_finish(GAsyncResult *result, GError **error)
+{
+  g_return_val_if_fail(g_task_is_valid(result, NULL), -1);
+  GError *e = NULL;
+  gssize n = g_task_propagate_int(G_TASK(result), &e);
+  if (e != NULL) {
+    g_propagate_error(error, e);
+    return -1;
+  }
+  return (gint)n;
 }

@@ -366,6 +366,15 @@ guint arcwise_store_count_stale(ArcwiseStore *store, GError **error);
  * updated, -1 on error. */
 gint arcwise_store_reanalyse(ArcwiseStore *store, gboolean all, GCancellable *cancellable,
                              ArcwiseProgressFunc progress, gpointer user_data, GError **error);
+/* The same in the background (a GTask thread with its own connection to library_path; the
+ * workers as above): the workbench stays responsive and reads the library meanwhile, seeing
+ * each swing's previous result until its new one is committed. progress runs in the main
+ * context current at the call; the finish gives the count or -1. */
+void arcwise_store_reanalyse_async(const char *library_path, gboolean all,
+                                   GCancellable *cancellable, ArcwiseProgressFunc progress,
+                                   gpointer progress_data, GDestroyNotify progress_data_free,
+                                   GAsyncReadyCallback callback, gpointer user_data);
+gint arcwise_store_reanalyse_finish(GAsyncResult *result, GError **error);
 
 /* ---- One player's history as a file ------------------------------------------------------ */
 
