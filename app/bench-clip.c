@@ -88,10 +88,13 @@ arcwise_bench_clip(int argc, char **argv)
   ArcwiseClipStats st;
   char msg[1024];
   double t0 = now_s();
-  clock_t c0 = clock();
+  struct timespec c0;
+  clock_gettime(CLOCK_PROCESS_CPUTIME_ID, &c0);
   bool ok = arcwise_export_clip_swing(&req, out, true, NULL, NULL, NULL, &st, msg, sizeof msg);
   double wall = now_s() - t0;
-  double cpu = (double)(clock() - c0) / CLOCKS_PER_SEC;
+  struct timespec c1;
+  clock_gettime(CLOCK_PROCESS_CPUTIME_ID, &c1);
+  double cpu = (double)(c1.tv_sec - c0.tv_sec) + 1e-9 * (double)(c1.tv_nsec - c0.tv_nsec);
   if (!ok) {
     rc = arcwise_cli_fail("bench clip", "%s", msg);
   } else {
@@ -99,14 +102,28 @@ arcwise_bench_clip(int argc, char **argv)
     stat(out, &sb);
     printf("clip export: %zu frames %dx%d at %d frames/s = %.2f s of video (swing %.2f s, %.2fx slower)\n",
            st.frames, width, height, fps, st.video_s, span, slowmo);
-    printf("renderer: %s, multisampling %s; encoder: %s\n", arcwise_export_renderer_name(),
-           samples > 1 ? "on" : "off", st.encoder);
+    int used = samples > 0 ? samples : ARCWISE_CLIP_SAMPLES_DEFAULT;
+    printf("renderer: %s, multisampling %s (%d); encoder: %s, preset %s, crf %d\n",
+           arcwise_export_renderer_name(), used > 1 ? "on" : "off", used, st.encoder,
+           ARCWISE_CLIP_PRESET, ARCWISE_CLIP_CRF);
     printf("wall time: %.2f s (goal <= %.0f s for 10 s of 720p): %s\n", wall, seconds,
            wall <= seconds ? "met" : "NOT met");
-    printf("process CPU time: %.2f s (all threads)\n", cpu);
-    printf("per frame: render %.1f ms, overlays %.1f ms, encode %.1f ms\n",
-           1e3 * st.render_s / (double)st.frames, 1e3 * st.overlay_s / (double)st.frames,
-           1e3 * st.encode_s / (double)st.frames);
+    printf("process CPU time: %.2f s (all threads; %.1f ms a frame)\n", cpu,
+           1e3 * cpu / (double)st.frames);
+    double nf = (double)st.frames;
+    printf("per frame (wall, ms): caller's thread: render %.1f, read-back %.1f, waiting for a "
+           "free buffer %.1f;\n  worker: overlays %.1f, RGB to yuv420p %.1f, x264 %.1f\n",
+           1e3 * st.render_s / nf, 1e3 * st.readback_s / nf, 1e3 * st.wait_s / nf,
+           1e3 * st.overlay_s / nf, 1e3 * st.convert_s / nf, 1e3 * st.encode_s / nf);
+    double load[3] = { 0, 0, 0 };
+    FILE *la = fopen("/proc/loadavg", "r");
+    if (la != NULL) {
+      if (fscanf(la, "%lf %lf %lf", &load[0], &load[1], &load[2]) != 3)
+        load[0] = load[1] = load[2] = 0;
+      fclose(la);
+    }
+    printf("machine load average: %.2f %.2f %.2f on %ld cores (figures under load are "
+           "pessimistic)\n", load[0], load[1], load[2], sysconf(_SC_NPROCESSORS_ONLN));
     printf("file size: %.2f MB (%.0f kbit/s)\n", (double)sb.st_size / 1e6,
            8.0 * (double)sb.st_size / st.video_s / 1e3);
     if (keep != NULL) {

@@ -18,7 +18,19 @@
 typedef bool (*ArcwiseClipRenderFunc)(void *user, const double t_s[2], uint8_t *rgba, int width,
                                       int height, size_t stride, char *err, size_t err_size);
 
-/* Called after each frame with the share done (0..1]. */
+/* A renderer that works one frame ahead, so that reading a frame back overlaps drawing the next
+ * (the scene renderer reads into pixel buffer objects): submit() starts the frame at times
+ * t_s[2] (as above); fetch() waits for the oldest submitted frame and copies it into `xrgb` in
+ * cairo's native layout (32-bit words 0xAARRGGBB, alpha ignored), top row first. Frames are
+ * fetched in the order submitted, at most two being outstanding. */
+typedef struct {
+  bool (*submit)(void *user, const double t_s[2], char *err, size_t err_size);
+  bool (*fetch)(void *user, uint8_t *xrgb, size_t stride, char *err, size_t err_size);
+  void *user;
+} ArcwiseClipPipe;
+
+/* Called after each frame is encoded with the share done (0..1], always increasing, on the
+ * thread that called arcwise_clip_export(). */
 typedef void (*ArcwiseClipProgressFunc)(void *user, double fraction);
 
 /* A swing as the overlays need it: per-sample arrays on its own clock (borrowed). Phases use
@@ -50,8 +62,9 @@ typedef struct {
   bool overlays;                 /* false: the bare scene */
   ArcwiseClipSwing a;            /* the swing under study */
   const ArcwiseClipSwing *b;     /* overlaid comparison swing, or NULL */
-  ArcwiseClipRenderFunc render;
+  ArcwiseClipRenderFunc render; /* either this ... */
   void *render_user;
+  const ArcwiseClipPipe *pipe;   /* ... or this (used when render is NULL) */
   ArcwiseClipProgressFunc progress;  /* may be NULL */
   void *progress_user;
   const atomic_bool *cancel;     /* may be NULL; set it from any thread to stop */
@@ -59,10 +72,20 @@ typedef struct {
   const char *preset;            /* NULL = default */
 } ArcwiseClipSpec;
 
+/* The export runs as two threads: the caller's renders and reads frames back; a worker draws
+ * the overlays, converts to yuv420p and feeds the encoder (libx264 has threads of its own).
+ * Frames pass between them through a bounded queue of ARCWISE_CLIP_QUEUE buffers. */
+#define ARCWISE_CLIP_QUEUE 4
+
 typedef struct {
   size_t frames;
   double video_s;
-  double render_s, overlay_s, encode_s;  /* wall-clock seconds spent in each stage */
+  /* Wall-clock seconds spent in each stage, summed over the frames. render and readback run
+   * on the caller's thread, the others on the worker, so they overlap: wall_s is less than
+   * their sum when the pipeline works. */
+  double render_s, readback_s, overlay_s, convert_s, encode_s;
+  double wait_s;                 /* the caller's thread waiting for a free buffer */
+  double wall_s, cpu_s;          /* the whole export: wall clock and process CPU (all threads) */
   const char *encoder;
 } ArcwiseClipStats;
 

@@ -11,6 +11,7 @@
 #if ARCWISE_HAVE_SCENE
 
 #include <cairo.h>
+#include <epoxy/gl.h>
 
 #include "arcwise-offscreen.h"
 #include "arcwise-scene.h"
@@ -68,13 +69,25 @@ typedef struct {
   ArcwiseSceneOptions opt;
   double base_a, base_b;      /* depth-clock time of each model's t = 0 */
   int width, height;
+  /* Clip read-back, two frames deep: pixel buffer objects written by glReadPixels after each
+   * frame is drawn and mapped one frame later, so the copy of frame k overlaps the drawing of
+   * frame k+1. A single-sample framebuffer of our own resolves a multisampled frame first. */
+  GLuint pbo[2], resolve_fbo, resolve_rb;
+  unsigned n_submitted, n_fetched;
 } Job;
 
 static void
 job_free(Job *j)
 {
-  if (j->off != NULL)
+  if (j->off != NULL) {
     arcwise_offscreen_begin(j->off);
+    if (j->pbo[0])
+      glDeleteBuffers(2, j->pbo);
+    if (j->resolve_fbo)
+      glDeleteFramebuffers(1, &j->resolve_fbo);
+    if (j->resolve_rb)
+      glDeleteRenderbuffers(1, &j->resolve_rb);
+  }
   arcwise_scene_free(j->scene);
   arcwise_offscreen_free(j->off);
   arcwise_swing_model_free(j->a);
@@ -231,11 +244,105 @@ arcwise_export_still(const AwFusedPath *path, const AwSwing *s, const AwFusedPat
   return ok;
 }
 
+/* Sets up the pixel buffers and, for a multisampled frame, the resolve framebuffer. */
 static bool
-clip_render(void *user, const double t[2], uint8_t *rgba, int width, int height, size_t stride,
-            char *err, size_t err_size)
+job_pipe_init(Job *j, char *err, size_t n)
 {
-  job_draw(user, t, rgba, stride);
+  arcwise_offscreen_begin(j->off);
+  GLint samples = 0, fbo = 0;
+  glGetIntegerv(GL_SAMPLES, &samples);
+  glGetIntegerv(GL_DRAW_FRAMEBUFFER_BINDING, &fbo);
+  size_t size = (size_t)j->width * (size_t)j->height * 4;
+  glGenBuffers(2, j->pbo);
+  for (int i = 0; i < 2; i++) {
+    glBindBuffer(GL_PIXEL_PACK_BUFFER, j->pbo[i]);
+    glBufferData(GL_PIXEL_PACK_BUFFER, (GLsizeiptr)size, NULL, GL_STREAM_READ);
+  }
+  glBindBuffer(GL_PIXEL_PACK_BUFFER, 0);
+  if (samples > 1) {
+    glGenFramebuffers(1, &j->resolve_fbo);
+    glBindFramebuffer(GL_FRAMEBUFFER, j->resolve_fbo);
+    glGenRenderbuffers(1, &j->resolve_rb);
+    glBindRenderbuffer(GL_RENDERBUFFER, j->resolve_rb);
+    glRenderbufferStorage(GL_RENDERBUFFER, GL_RGBA8, j->width, j->height);
+    glFramebufferRenderbuffer(GL_FRAMEBUFFER, GL_COLOR_ATTACHMENT0, GL_RENDERBUFFER,
+                              j->resolve_rb);
+    GLenum stat = glCheckFramebufferStatus(GL_FRAMEBUFFER);
+    glBindFramebuffer(GL_FRAMEBUFFER, (GLuint)fbo);
+    if (stat != GL_FRAMEBUFFER_COMPLETE) {
+      snprintf(err, n, "GL: the clip's resolve framebuffer is incomplete (status 0x%04x)", stat);
+      return false;
+    }
+  }
+  GLenum e = glGetError();
+  if (e != GL_NO_ERROR) {
+    snprintf(err, n, "GL: cannot set up the clip read-back (error 0x%04x)", e);
+    return false;
+  }
+  return true;
+}
+
+static bool
+clip_submit(void *user, const double t[2], char *err, size_t err_size)
+{
+  Job *j = user;
+  j->opt.marker_t_s[0] = (float)t[0];
+  j->opt.marker_t_s[1] = j->b && isfinite(t[1]) ? (float)t[1] : NAN;
+  arcwise_offscreen_begin(j->off);
+  arcwise_scene_draw(j->scene, &j->cam, &j->opt, j->width, j->height);
+  GLint fbo = 0;
+  glGetIntegerv(GL_DRAW_FRAMEBUFFER_BINDING, &fbo);
+  GLuint src = (GLuint)fbo;
+  if (j->resolve_fbo) {
+    glBindFramebuffer(GL_READ_FRAMEBUFFER, (GLuint)fbo);
+    glBindFramebuffer(GL_DRAW_FRAMEBUFFER, j->resolve_fbo);
+    glBlitFramebuffer(0, 0, j->width, j->height, 0, 0, j->width, j->height, GL_COLOR_BUFFER_BIT,
+                      GL_NEAREST);
+    src = j->resolve_fbo;
+  }
+  glBindFramebuffer(GL_READ_FRAMEBUFFER, src);
+  glBindBuffer(GL_PIXEL_PACK_BUFFER, j->pbo[j->n_submitted % 2]);
+  glPixelStorei(GL_PACK_ALIGNMENT, 4);
+  glPixelStorei(GL_PACK_ROW_LENGTH, 0);
+  /* BGRA as 8_8_8_8_REV is the 32-bit word 0xAARRGGBB on any byte order: cairo's layout, so
+   * the worker draws overlays on the frame without a conversion pass. */
+  glReadPixels(0, 0, j->width, j->height, GL_BGRA, GL_UNSIGNED_INT_8_8_8_8_REV, NULL);
+  glBindBuffer(GL_PIXEL_PACK_BUFFER, 0);
+  glBindFramebuffer(GL_FRAMEBUFFER, (GLuint)fbo);
+  glFlush(); /* start the work now; the map in clip_fetch waits for it */
+  j->n_submitted++;
+  GLenum e = glGetError();
+  if (e != GL_NO_ERROR) {
+    snprintf(err, err_size, "GL: drawing frame %u failed (error 0x%04x)", j->n_submitted, e);
+    return false;
+  }
+  return true;
+}
+
+static bool
+clip_fetch(void *user, uint8_t *xrgb, size_t stride, char *err, size_t err_size)
+{
+  Job *j = user;
+  if (j->n_fetched >= j->n_submitted) {
+    snprintf(err, err_size, "no frame was drawn to read back");
+    return false;
+  }
+  arcwise_offscreen_begin(j->off);
+  size_t row = (size_t)j->width * 4;
+  glBindBuffer(GL_PIXEL_PACK_BUFFER, j->pbo[j->n_fetched % 2]);
+  const uint8_t *src = glMapBufferRange(GL_PIXEL_PACK_BUFFER, 0,
+                                        (GLsizeiptr)(row * (size_t)j->height), GL_MAP_READ_BIT);
+  if (src == NULL) {
+    glBindBuffer(GL_PIXEL_PACK_BUFFER, 0);
+    snprintf(err, err_size, "GL: cannot map the read-back buffer (error 0x%04x)", glGetError());
+    return false;
+  }
+  /* GL's rows run bottom-up. */
+  for (int y = 0; y < j->height; y++)
+    memcpy(xrgb + (size_t)y * stride, src + (size_t)(j->height - 1 - y) * row, row);
+  glUnmapBuffer(GL_PIXEL_PACK_BUFFER);
+  glBindBuffer(GL_PIXEL_PACK_BUFFER, 0);
+  j->n_fetched++;
   return true;
 }
 
@@ -249,13 +356,14 @@ arcwise_export_clip_swing(const ArcwiseClipRequest *req, const char *out, bool f
     return false;
   Job j;
   if (!job_init(&j, req->path_a, req->swing_a, req->path_b, req->swing_b, req->view,
-                req->width, req->height, req->samples > 0 ? req->samples : 4, err, err_size))
+                req->width, req->height, req->samples > 0 ? req->samples : ARCWISE_CLIP_SAMPLES_DEFAULT, err, err_size))
     return false;
   ArcwiseClipSwing a = {
     .n = j.a->n, .t_s = j.a->t_s, .speed_m_s = j.a->speed_m_s, .phase = j.a->phase,
     .cam_share = j.a->cam_share, .t0_s = 0, .t1_s = j.a->t_s[j.a->n - 1],
     .align_s = isfinite(j.a->events.impact_s) ? j.a->events.impact_s : 0, .name = "this swing",
   };
+  ArcwiseClipPipe pipe = { .submit = clip_submit, .fetch = clip_fetch, .user = &j };
   ArcwiseClipSwing b = { 0 };
   if (j.b) {
     b = (ArcwiseClipSwing){
@@ -269,10 +377,12 @@ arcwise_export_clip_swing(const ArcwiseClipRequest *req, const char *out, bool f
     .width = req->width, .height = req->height, .fps = req->fps > 0 ? req->fps : 30,
     .slowmo = req->slowmo >= 1 ? req->slowmo : 1, .player = req->player, .date = req->date,
     .view_name = req->view, .units = req->imperial ? ARCWISE_UNITS_IMPERIAL : ARCWISE_UNITS_METRIC,
-    .overlays = req->overlays, .a = a, .b = j.b ? &b : NULL, .render = clip_render,
-    .render_user = &j, .progress = progress, .progress_user = progress_user, .cancel = cancel,
+    .overlays = req->overlays, .a = a, .b = j.b ? &b : NULL, .pipe = &pipe,
+    .progress = progress, .progress_user = progress_user, .cancel = cancel,
+    .preset = ARCWISE_CLIP_PRESET, .crf = ARCWISE_CLIP_CRF,
   };
-  bool ok = arcwise_clip_export(&spec, out, force, stats, err, err_size);
+  bool ok = job_pipe_init(&j, err, err_size) &&
+            arcwise_clip_export(&spec, out, force, stats, err, err_size);
   job_free(&j);
   return ok;
 }

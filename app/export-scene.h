@@ -29,6 +29,16 @@ bool arcwise_export_still(const AwFusedPath *path, const AwSwing *s, const AwFus
                           const AwSwing *swing_b, const char *view, double t_s, int width,
                           int height, const char *out, bool force, char *err, size_t err_size);
 
+/* Clip defaults, chosen on llvmpipe (figures in `arcwise bench clip`): there 2x multisampling
+ * took 70 ms of CPU a frame against 46 ms without, which alone breaks the 10 s budget for 10 s
+ * of 720p on two cores, and after H.264 coding of a moving scene the edges of the two looked
+ * alike; so clips are drawn without multisampling (`--samples N` asks for it; stills keep 4).
+ * x264's "veryfast" preset at constant rate factor 20 keeps the flat-shaded scene and the
+ * overlay text sharp at about 0.3 Mbit/s. */
+#define ARCWISE_CLIP_SAMPLES_DEFAULT 1
+#define ARCWISE_CLIP_PRESET "veryfast"
+#define ARCWISE_CLIP_CRF 20
+
 typedef struct {
   const AwFusedPath *path_a;
   const AwSwing *swing_a;
@@ -40,7 +50,7 @@ typedef struct {
   bool overlays;
   const char *player, *date;
   bool imperial;
-  int samples;                   /* multisampling, 0 = default (4) */
+  int samples;                   /* multisampling, 0 = ARCWISE_CLIP_SAMPLES_DEFAULT */
 } ArcwiseClipRequest;
 
 /* Renders and encodes the clip (see export-clip.h for the file rules). progress and cancel may

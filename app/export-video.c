@@ -1,18 +1,21 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
 /* The MP4 encoder of the clip exporter, after FFmpeg's doc/examples/encode_video.c and
- * mux.c: one video stream, frames converted by libswscale, packets interleaved by
+ * mux.c: one video stream, frames converted by export-yuv.c, packets interleaved by
  * libavformat. */
 #include "export-video.h"
+
+#include "export-yuv.h"
 
 #include <libavcodec/avcodec.h>
 #include <libavformat/avformat.h>
 #include <libavutil/imgutils.h>
 #include <libavutil/opt.h>
-#include <libswscale/swscale.h>
 
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <time.h>
+#include <unistd.h>
 
 struct ArcwiseVideo {
   AVFormatContext *fmt;
@@ -20,11 +23,20 @@ struct ArcwiseVideo {
   AVStream *st;
   AVFrame *frame;
   AVPacket *pkt;
-  struct SwsContext *sws;
+  ArcwiseRgbLayout layout;
   int64_t next_pts;
+  double convert_s, encode_s;  /* wall-clock seconds in the colour conversion and in x264 */
   int width, height;
   bool header_written;
 };
+
+static double
+now_s(void)
+{
+  struct timespec ts;
+  clock_gettime(CLOCK_MONOTONIC, &ts);
+  return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
 
 static void
 av_msg(char *err, size_t n, const char *what, int rc)
@@ -39,7 +51,6 @@ arcwise_video_abort(ArcwiseVideo *v)
 {
   if (v == NULL)
     return;
-  sws_freeContext(v->sws);
   av_frame_free(&v->frame);
   av_packet_free(&v->pkt);
   avcodec_free_context(&v->enc);
@@ -108,7 +119,10 @@ arcwise_video_open(const char *path, const ArcwiseVideoSettings *s, char *err, s
   v->enc->color_primaries = AVCOL_PRI_BT709;
   v->enc->color_trc = AVCOL_TRC_BT709;
   v->enc->color_range = AVCOL_RANGE_MPEG;
-  v->enc->thread_count = 0; /* as many as there are cores */
+  /* x264's frame threads, one per core (its own default is 1.5 per core, which only adds
+   * latency and memory on a 2-core machine shared with the renderer). */
+  long cores = sysconf(_SC_NPROCESSORS_ONLN);
+  v->enc->thread_count = cores >= 1 && cores <= 64 ? (int)cores : 0;
   if (v->fmt->oformat->flags & AVFMT_GLOBALHEADER)
     v->enc->flags |= AV_CODEC_FLAG_GLOBAL_HEADER;
   if (strcmp(codec->name, "libx264") == 0) {
@@ -138,17 +152,8 @@ arcwise_video_open(const char *path, const ArcwiseVideoSettings *s, char *err, s
     av_msg(err, err_size, "frame buffer", rc);
     goto fail;
   }
-  enum AVPixelFormat in = s->pixels == ARCWISE_PIXELS_CAIRO ? AV_PIX_FMT_NE(ARGB, BGRA)
-                                                            : AV_PIX_FMT_RGBA;
-  v->sws = sws_getContext(s->width, s->height, in, s->width, s->height, AV_PIX_FMT_YUV420P,
-                          SWS_BILINEAR | SWS_ACCURATE_RND | SWS_FULL_CHR_H_INT, NULL, NULL, NULL);
-  if (v->sws == NULL) {
-    snprintf(err, err_size, "cannot set up the colour conversion");
-    goto fail;
-  }
-  /* RGB to BT.709 limited-range YUV, matching the tags above. */
-  const int *coef = sws_getCoefficients(SWS_CS_ITU709);
-  sws_setColorspaceDetails(v->sws, coef, 1, coef, 0, 0, 1 << 16, 1 << 16);
+  /* RGB to BT.709 limited-range YUV (export-yuv.h), matching the tags above. */
+  v->layout = s->pixels == ARCWISE_PIXELS_CAIRO ? arcwise_layout_cairo() : arcwise_layout_rgba;
   rc = avio_open(&v->fmt->pb, path, AVIO_FLAG_WRITE);
   if (rc < 0) {
     av_msg(err, err_size, path, rc);
@@ -199,16 +204,28 @@ arcwise_video_write(ArcwiseVideo *v, const uint8_t *pixels, size_t stride, char 
     av_msg(err, err_size, "frame buffer", rc);
     return false;
   }
-  const uint8_t *src[1] = { pixels };
-  int src_stride[1] = { (int)stride };
-  sws_scale(v->sws, src, src_stride, 0, v->height, v->frame->data, v->frame->linesize);
+  double t0 = now_s();
+  arcwise_rgb_to_yuv420(pixels, stride, v->layout, v->width, v->height, v->frame->data[0],
+                        v->frame->linesize[0], v->frame->data[1], v->frame->linesize[1],
+                        v->frame->data[2], v->frame->linesize[2]);
+  double t1 = now_s();
   v->frame->pts = v->next_pts++;
   rc = avcodec_send_frame(v->enc, v->frame);
-  if (rc < 0) {
+  bool ok = rc >= 0;
+  if (!ok)
     av_msg(err, err_size, "encoding failed", rc);
-    return false;
-  }
-  return drain(v, err, err_size);
+  else
+    ok = drain(v, err, err_size);
+  v->convert_s += t1 - t0;
+  v->encode_s += now_s() - t1;
+  return ok;
+}
+
+void
+arcwise_video_times(const ArcwiseVideo *v, double *convert_s, double *encode_s)
+{
+  *convert_s = v->convert_s;
+  *encode_s = v->encode_s;
 }
 
 bool

@@ -1,7 +1,7 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
 #pragma once
 
-/* H.264 in MP4 through FFmpeg's libavcodec (libx264), libavformat and libswscale: yuv420p,
+/* H.264 in MP4 through FFmpeg's libavcodec (libx264), libavformat, with our own RGB to yuv420p conversion (export-yuv.h): yuv420p,
  * High profile, BT.709 tags and the index at the front ("faststart"), which is what phones and
  * browsers play. Frames go in as 8-bit RGBA or in cairo's native ARGB32 layout. */
 
@@ -32,6 +32,10 @@ ArcwiseVideo *arcwise_video_open(const char *path, const ArcwiseVideoSettings *s
 /* Encodes one frame of width x height pixels, rows `stride` bytes apart, top row first. */
 bool arcwise_video_write(ArcwiseVideo *v, const uint8_t *pixels, size_t stride, char *err,
                          size_t err_size);
+
+/* Wall-clock seconds spent so far converting to yuv420p and inside the encoder (the flush at
+ * close is not counted). */
+void arcwise_video_times(const ArcwiseVideo *v, double *convert_s, double *encode_s);
 
 /* Flushes the encoder, writes the trailer, closes the file and frees v (also on failure). */
 bool arcwise_video_close(ArcwiseVideo *v, char *err, size_t err_size);

@@ -280,9 +280,9 @@ apply_unit(const Unit *u, double v)
 /* ---- the reader ------------------------------------------------------------------------- */
 
 enum { META_UNITS, META_DEVICE, META_RATE, META_ACCEL_RANGE, META_GYRO_RANGE, META_WRIST,
-       META_COUNT_ };
+       META_OUTPUT_DELAY, META_COUNT_ };
 static const char *const meta_keys[META_COUNT_] = {
-  "units", "device", "rate_hz", "accel_range", "gyro_range", "wrist",
+  "units", "device", "rate_hz", "accel_range", "gyro_range", "wrist", "output_delay",
 };
 
 typedef struct {
@@ -292,7 +292,7 @@ typedef struct {
   const Unit *u_time, *u_accel, *u_gyro, *u_pos;
   long meta_line[META_COUNT_];    /* where each key was given, 0 when not */
   char device[128];
-  double rate_hz, accel_range_m_s2, gyro_range_rad_s;
+  double rate_hz, accel_range_m_s2, gyro_range_rad_s, output_delay_s;
   AwWrist wrist;
   /* header */
   long header_line;
@@ -420,7 +420,7 @@ parse_comment(Reader *r, const Line *ln, const char *hash)
   if (key < 0)
     return AW_OK;  /* unknown keys are ignored so that newer files still read */
   bool imu = r->fmt->kind == AW_CAPTURE_IMU;
-  if (!imu && (key == META_ACCEL_RANGE || key == META_GYRO_RANGE))
+  if (!imu && (key == META_ACCEL_RANGE || key == META_GYRO_RANGE || key == META_OUTPUT_DELAY))
     return AW_OK;  /* not a depth camera property: ignored like an unknown key */
   if (r->meta_line[key] != 0)
     return fail(r, AW_ERR_PARSE, ln->no, col_of(ln, kb),
@@ -474,6 +474,33 @@ parse_comment(Reader *r, const Line *ln, const char *hash)
     return parse_range_value(r, ln, "accel_range", vb, ve, accel_units, &r->accel_range_m_s2);
   case META_GYRO_RANGE:
     return parse_range_value(r, ln, "gyro_range", vb, ve, gyro_units, &r->gyro_range_rad_s);
+  case META_OUTPUT_DELAY: {
+    /* "5 ms": a number, a blank and a time unit; 0 up to 1 s (beyond that it is not a sensor
+     * filter but a clock offset, which the fusion estimates). */
+    const char *sp = vb;
+    while (sp < ve && !is_blank(*sp))
+      sp++;
+    const char *ub = sp;
+    while (ub < ve && is_blank(*ub))
+      ub++;
+    char list[96];
+    double v;
+    if (ub >= ve || aw_capture_parse_double(vb, sp, &v) != AW_NUM_OK)
+      return fail(r, AW_ERR_PARSE, ln->no, col_of(ln, vb),
+                  "output_delay: expected a number and a unit (%s), found '%s'",
+                  unit_list(time_units, list, sizeof list), shown(sb, vb, ve));
+    const Unit *u = find_unit(time_units, ub, ve);
+    if (u == NULL)
+      return fail(r, AW_ERR_UNITS, ln->no, col_of(ln, ub),
+                  "output_delay: unknown unit '%s' (known: %s)", shown(sb, ub, ve),
+                  unit_list(time_units, list, sizeof list));
+    double d = apply_unit(u, v);
+    if (!isfinite(d) || d < 0 || d > 1.0)
+      return fail(r, AW_ERR_RANGE, ln->no, col_of(ln, vb),
+                  "output_delay: %g s is outside 0..1 s", d);
+    r->output_delay_s = d;
+    return AW_OK;
+  }
   case META_WRIST:
     if (span_ieq(vb, ve, "left"))
       r->wrist = AW_WRIST_LEFT;
@@ -792,6 +819,7 @@ aw_imu_read_buffer(const char *data, size_t len, const char *name, AwImuStream *
   s->meta.nominal_rate_hz = r.rate_hz;
   s->meta.accel_range_m_s2 = r.accel_range_m_s2;
   s->meta.gyro_range_rad_s = r.gyro_range_rad_s;
+  s->meta.output_delay_s = r.output_delay_s;
   s->meta.wrist = r.wrist;
   snprintf(s->meta.units, sizeof s->meta.units, "t=%s accel=%s gyro=%s", r.u_time->canonical,
            r.u_accel->canonical, r.u_gyro->canonical);

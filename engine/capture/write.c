@@ -175,6 +175,11 @@ aw_imu_write_file(const char *path, const AwImuStream *s, AwError *err)
     put_num(f, s->meta.gyro_range_rad_s);
     fputs(" rad/s\n", f);
   }
+  if (s->meta.output_delay_s > 0) {
+    fputs("# output_delay: ", f);
+    put_num(f, s->meta.output_delay_s);
+    fputs(" s\n", f);
+  }
   if (wrist_name(s->meta.wrist) != NULL)
     fprintf(f, "# wrist: %s\n", wrist_name(s->meta.wrist));
   fputs("t,ax,ay,az,gx,gy,gz\n", f);

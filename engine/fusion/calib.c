@@ -328,7 +328,7 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
                  (const double (*)[4])qb0, n_ok, cam, frames, m0, fmax(s->lever_arm_sigma_m, 1e-3) };
       if (m0 >= 10) {
         double best = 0, br = INFINITY, step = 0.005;
-        for (int j = -10; j <= 10; j++) {
+        for (int j = -30; j <= 30; j++) {
           double r = w_resid(&w, j * step, NULL, NULL, NULL);
           if (r < br) { br = r; best = j * step; }
         }

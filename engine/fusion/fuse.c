@@ -45,6 +45,14 @@ aw_fusion_settings_default(AwFusionSettings *s)
   /* A watch sits a few centimetres from the wrist keypoint a camera reports: unknown to
    * +-3 cm per axis unless measured (then pass it with a smaller sigma). */
   s->lever_arm_sigma_m = 0.03;
+  s->imu_output_delay_s = NAN;   /* as the IMU file declares */
+}
+
+static double
+output_delay(const AwImuStream *imu, const AwFusionSettings *s)
+{
+  double d = isfinite(s->imu_output_delay_s) ? s->imu_output_delay_s : imu->meta.output_delay_s;
+  return isfinite(d) && d > 0 ? d : 0;
 }
 
 AwFusedPath *
@@ -129,6 +137,7 @@ aw_fusion_sync_clocks(const AwImuStream *imu, const AwDepthStream *depth,
   }
   double gc[3];
   st = aw_fusion_sync_run(&im, &cam, s, g, out, gc, err);
+  if (st == AW_OK) out->clock_offset_s += output_delay(imu, s);
   aw_fusion_prep_cam_free(&cam);
   aw_fusion_prep_imu_free(&im);
   return st;
@@ -245,6 +254,9 @@ aw_fuse(const AwImuStream *imu, const AwDepthStream *depth, const AwFusionSettin
     for (int a = 0; a < 3; a++) { Rg[a][0] = xg[a]; Rg[a][1] = yg[a]; Rg[a][2] = up[a]; }
     aw_mat_to_quat(rep->q_cam_grav, (const double (*)[3])Rg);
   }
+  /* Everything above works on the offset the signals imply (the times the motion happened);
+   * the clock offset proper is later by the IMU's output delay. */
+  rep->clock_offset_s += output_delay(imu, s);
   for (size_t i = 0; i < imu->n; i++)
     for (int a = 0; a < 3; a++)
       if (!isfinite(path->pos_cam_m[i][a]) || !isfinite(path->pos_sigma_cam_m[i][a])) {

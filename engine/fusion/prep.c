@@ -217,6 +217,7 @@ detect_range(const double (*x)[3], size_t n, double declared)
 static void
 declip(double (*x)[3], const double *t, size_t n, double range, float *excess)
 {
+  const double margin_frac = 0.05;
   if (!(range > 0)) return;
   double lim = 0.995 * range;
   for (int a = 0; a < 3; a++) {
@@ -267,7 +268,9 @@ declip(double (*x)[3], const double *t, size_t n, double range, float *excess)
           if (q * sgn > range) v = sgn * fmin(fabs(q), 2.0 * range);
         }
         x[k][a] = v;
-        float e = (float)(fabs(v) - range + 0.05 * range);
+        /* A clipped reading says only |x| >= range: the reconstruction is a guess, wrong by
+         * up to its excess plus a margin (margin_frac of full scale). */
+        float e = (float)((fabs(v) - range + margin_frac * range));
         if (e > excess[k]) excess[k] = e;
       }
       i = j;
@@ -296,11 +299,6 @@ aw_fusion_prep_imu(const AwImuStream *imu, const AwFusionSettings *s, double g, 
   }
   m->dt_nom_s = median_interval(imu->t_s, n);
   if (!(m->dt_nom_s > 0)) m->dt_nom_s = 0.01;
-  for (size_t i = 1; i < n; i++) {
-    double dt = imu->t_s[i] - imu->t_s[i - 1];
-    for (int a = 0; a < 3; a++)
-      m->cumf[i][a] = m->cumf[i - 1][a] + 0.5 * dt * (m->f[i][a] + m->f[i - 1][a]);
-  }
   m->acc_range = detect_range(m->f, n, imu->meta.accel_range_m_s2);
   m->gyr_range = detect_range(m->w, n, imu->meta.gyro_range_rad_s);
   m->f_own = malloc(sizeof *m->f_own * (n ? n : 1));
@@ -318,6 +316,12 @@ aw_fusion_prep_imu(const AwImuStream *imu, const AwFusionSettings *s, double g, 
   declip(m->w_own, imu->t_s, n, m->gyr_range, m->gyr_excess);
   m->f = (const double (*)[3])m->f_own;
   m->w = (const double (*)[3])m->w_own;
+  /* Running integral of the reconstructed specific force (box means use it). */
+  for (size_t i = 1; i < n; i++) {
+    double dt = imu->t_s[i] - imu->t_s[i - 1];
+    for (int a = 0; a < 3; a++)
+      m->cumf[i][a] = m->cumf[i - 1][a] + 0.5 * dt * (m->f[i][a] + m->f[i - 1][a]);
+  }
   size_t half = (size_t)ceil(0.5 * s->still_window_s / m->dt_nom_s);
   if (half < 1) half = 1;
   /* Window means of the gyro: stillness is judged on the rate's deviation from its local mean,

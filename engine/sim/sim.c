@@ -1153,6 +1153,9 @@ make_imu(AwSim *sim, AwRng *rng)
   s->meta.nominal_rate_hz = m->rate_hz;
   s->meta.accel_range_m_s2 = m->accel_range_m_s2;
   s->meta.gyro_range_rad_s = m->gyro_range_rad_s;
+  /* The trailing box average over [t - T, t] below delays the output by T/2 (its group delay),
+   * a property of the device that a real IMU declares the same way. */
+  s->meta.output_delay_s = 0.5 * m->antialias_window_s;
   s->meta.wrist = sim->left ? AW_WRIST_RIGHT : AW_WRIST_LEFT;
   double ba[3], bg[3];
   memcpy(ba, tr->accel_bias_m_s2, sizeof ba);

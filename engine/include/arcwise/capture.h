@@ -29,6 +29,10 @@ typedef struct {
   /* Added by the capture module (after the fields above, which others code against). */
   char units[96];              /* the units the file declared, normalised, e.g.
                                   "t=ms accel=g gyro=deg/s"; the defaults when none declared */
+  /* Added by the fusion module: the device's output group delay, s (a sample stamped t shows
+   * the motion around t - output_delay_s, e.g. half a box-averaging window); 0 = none
+   * declared. */
+  double output_delay_s;
 } AwImuMeta;
 
 typedef struct {

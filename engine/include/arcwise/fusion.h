@@ -56,12 +56,18 @@ typedef struct {
   double gate_recover_s;                  /* after this long of consecutive rejections, re-anchor */
   double motion_jerk_psd_m2_s5;           /* camera-only motion model; 0 = estimate from data */
   double lever_arm_sigma_m;               /* 1-sigma of lever_arm_body_m per axis (refined) */
+  /* The IMU's output group delay (its filter or averaging window: a sample stamped t shows the
+   * motion around t - delay); NaN = as the IMU file declares (meta.output_delay_s, 0 when not
+   * declared). The clock sync cannot tell it from a clock offset, so it is taken off the
+   * offset the signals imply: the report gives the clock offset proper. */
+  double imu_output_delay_s;
 } AwFusionSettings;
 
 void aw_fusion_settings_default(AwFusionSettings *out);
 
 typedef struct {
-  double clock_offset_s;        /* t_depth = t_imu * (1 + clock_drift) + clock_offset_s */
+  double clock_offset_s;        /* t_depth = t_imu * (1 + clock_drift) + clock_offset_s; the
+                                   motion a sample shows happened output delay earlier */
   double clock_drift;           /* dimensionless (ppm * 1e-6) */
   double clock_confidence;      /* 0..1 */
   double q_cam_grav[4];         /* rotation from the gravity-aligned frame to the camera frame */
