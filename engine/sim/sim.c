@@ -208,6 +208,19 @@ aw_sim_imu_model_default(AwSimImuModel *m, AwSimLevel level)
   }
 }
 
+/* Depth impairments per level (easy, normal, hard): lateral noise per metre of depth, depth
+ * noise coefficient (sigma_z = k z^2; 1.6e-3 after Khoshelham & Oude Elberink 2012),
+ * occlusion windows around the top and in the follow-through, the share of occluded frames
+ * missing (the rest snap toward the body), random dropouts, gross outliers, camera roll. */
+static const struct {
+  double sigma_xy_per_m, sigma_z_coeff_per_m, occlusion_top_s, occlusion_follow_s;
+  double occluded_missing_prob, dropout_prob, outlier_prob, roll_max_deg;
+} depth_levels[3] = {
+  [AW_SIM_EASY] = { 0.0015, 0.8e-3, 0.10, 0.12, 0.8, 0.01, 0.002, 1 },
+  [AW_SIM_NORMAL] = { 0.0025, 1.6e-3, 0.20, 0.25, 0.6, 0.03, 0.01, 3 },
+  [AW_SIM_HARD] = { 0.004, 3.0e-3, 0.30, 0.40, 0.5, 0.06, 0.03, 5 },
+};
+
 void
 aw_sim_depth_model_default(AwSimDepthModel *m, AwSimLevel level)
 {
@@ -216,38 +229,16 @@ aw_sim_depth_model_default(AwSimDepthModel *m, AwSimLevel level)
   m->distance_m = 3.0;
   m->height_m = 1.3;
   m->tilt_rad = aw_deg_to_rad(8);
-  switch (level) {
-  case AW_SIM_EASY:
-    m->sigma_xy_per_m = 0.0015;
-    m->sigma_z_coeff_per_m = 0.8e-3;
-    m->occlusion_top_s = 0.10;
-    m->occlusion_follow_s = 0.12;
-    m->occluded_missing_prob = 0.8;
-    m->dropout_prob = 0.01;
-    m->outlier_prob = 0.002;
-    m->roll_max_rad = aw_deg_to_rad(1);
-    break;
-  case AW_SIM_NORMAL:
-    m->sigma_xy_per_m = 0.0025;
-    m->sigma_z_coeff_per_m = 1.6e-3;
-    m->occlusion_top_s = 0.20;
-    m->occlusion_follow_s = 0.25;
-    m->occluded_missing_prob = 0.6;
-    m->dropout_prob = 0.03;
-    m->outlier_prob = 0.01;
-    m->roll_max_rad = aw_deg_to_rad(3);
-    break;
-  case AW_SIM_HARD:
-    m->sigma_xy_per_m = 0.004;
-    m->sigma_z_coeff_per_m = 3.0e-3;
-    m->occlusion_top_s = 0.30;
-    m->occlusion_follow_s = 0.40;
-    m->occluded_missing_prob = 0.5;
-    m->dropout_prob = 0.06;
-    m->outlier_prob = 0.03;
-    m->roll_max_rad = aw_deg_to_rad(5);
-    break;
-  }
+  if ((unsigned)level > AW_SIM_HARD)
+    return;
+  m->sigma_xy_per_m = depth_levels[level].sigma_xy_per_m;
+  m->sigma_z_coeff_per_m = depth_levels[level].sigma_z_coeff_per_m;
+  m->occlusion_top_s = depth_levels[level].occlusion_top_s;
+  m->occlusion_follow_s = depth_levels[level].occlusion_follow_s;
+  m->occluded_missing_prob = depth_levels[level].occluded_missing_prob;
+  m->dropout_prob = depth_levels[level].dropout_prob;
+  m->outlier_prob = depth_levels[level].outlier_prob;
+  m->roll_max_rad = aw_deg_to_rad(depth_levels[level].roll_max_deg);
 }
 
 void
