@@ -10,7 +10,12 @@
 
 #include "arcwise-shaders.h"
 
-#define TUBE_SIDES 12
+/* Faces around each tube: enough that the silhouette reads round at studio-screen sizes, few
+ * enough that llvmpipe's triangle setup stays cheap (it dominates the frame). */
+#define TUBE_SIDES 10
+#define COMPARE_SIDES 8
+#define CLUB_SIDES 6
+#define BAND_SIDES 8
 #define TUBE_RADIUS_M 0.016f       /* drawn thicker than a wrist path so it reads at 4 m */
 #define COMPARE_RADIUS_M 0.010f
 #define CLUB_RADIUS_M 0.006f
@@ -26,7 +31,7 @@ typedef struct {
 
 typedef struct {
   bool present;
-  Mesh tube, band, club;
+  Mesh tube, band, club, shadow;
   bool has_club;
   size_t n;
   float *t_s;          /* owned copies for marker placement */
@@ -41,18 +46,22 @@ typedef struct {
 } Program;
 
 struct _ArcwiseScene {
-  Program backdrop, floor, solid, tube;
+  Program backdrop, floor, mark, solid, tube;
   GLuint empty_vao;
-  Mesh floor_mesh, sphere;
+  Mesh floor_mesh, sphere, marks;
+  /* Index ranges of `marks`: what every scene shows, then the stance of a right-handed and of
+   * a left-handed player. */
+  GLsizei marks_common, marks_feet_right, marks_feet_left;
   Slot slot[2];
 };
 
 /* Uniform slots per program (indices into Program.u). */
 enum { BD_HORIZON };
-enum { FL_FLOOR, FL_GRID, FL_TARGET, FL_FOOT, FL_HANDED };
+enum { FL_FLOOR };
+enum { MK_VIEWPORT, MK_PX_PER_M };
 enum { SO_RGB, SO_CENTRE_RADIUS, SO_GLOW };
 enum { TU_STYLE, TU_COLOUR_MODE, TU_SPEED_MAX, TU_PHASE_RGB, TU_STYLE_RGB, TU_CAM_RGB,
-       TU_IMU_RGB, TU_TIME_CUT, TU_ALPHA, TU_FLATTEN };
+       TU_IMU_RGB, TU_TIME_CUT, TU_ALPHA };
 
 /* ---- palette (our own studio colours) ---------------------------------------------------- */
 
@@ -67,6 +76,9 @@ static const float compare_rgb[3] = { 0.80f, 0.86f, 1.00f };   /* pale ice */
 static const float club_rgb[3] = { 0.93f, 0.90f, 0.80f };
 static const float cam_rgb[3] = { 0.25f, 0.78f, 0.95f };       /* camera carried: sky */
 static const float imu_rgb[3] = { 1.00f, 0.55f, 0.18f };       /* IMU carried: orange */
+static const float grid_rgb[3] = { 0.42f, 0.50f, 0.58f };
+static const float target_rgb[3] = { 0.94f, 0.70f, 0.35f };
+static const float foot_rgb[3] = { 0.55f, 0.70f, 0.82f };
 
 void
 arcwise_scene_phase_rgb(ArcwiseScenePhase phase, float rgb[3])
@@ -314,30 +326,255 @@ make_floor(Mesh *m)
   mesh_upload(m, verts, 4, 3, sizes, 1, idx, 6);
 }
 
+/* ---- floor markings ----------------------------------------------------------------------- */
+
+#define MARK_FLOATS 14   /* position 3, other end 3, rgba 4, side / half-width m / px / fade 4 */
+
+typedef struct {
+  GArray *v;   /* float */
+  GArray *i;   /* guint32 */
+} MarkBuilder;
+
+static float
+smooth01(float e0, float e1, float x)
+{
+  float t = (x - e0) / (e1 - e0);
+  t = t < 0 ? 0 : t > 1 ? 1 : t;
+  return t * t * (3.0f - 2.0f * t);
+}
+
+static void
+mark_vertex(MarkBuilder *mb, const float p[3], const float other[3], const float rgb[3],
+            float alpha, float side, float half_m, float min_px, float fade)
+{
+  float v[MARK_FLOATS] = { p[0], p[1], p[2], other[0], other[1], other[2], rgb[0], rgb[1],
+                           rgb[2], alpha, side, half_m, min_px, fade };
+  g_array_append_vals(mb->v, v, MARK_FLOATS);
+}
+
+/* One straight stroke from a to b on the floor; alpha may change along it. */
+static void
+mark_segment(MarkBuilder *mb, const float a[3], const float b[3], const float rgb[3],
+             float alpha_a, float alpha_b, float half_m, float min_px, float fade)
+{
+  guint32 base = mb->v->len / MARK_FLOATS;
+  /* |side| 1 at the start, 2 at the end: the shader takes the direction start to end for
+   * both, so the quad does not twist. */
+  mark_vertex(mb, a, b, rgb, alpha_a, -1.0f, half_m, min_px, fade);
+  mark_vertex(mb, a, b, rgb, alpha_a, 1.0f, half_m, min_px, fade);
+  mark_vertex(mb, b, a, rgb, alpha_b, -2.0f, half_m, min_px, fade);
+  mark_vertex(mb, b, a, rgb, alpha_b, 2.0f, half_m, min_px, fade);
+  const guint32 q[6] = { base, base + 1, base + 3, base, base + 3, base + 2 };
+  g_array_append_vals(mb->i, q, 6);
+}
+
+static void
+mark_triangle(MarkBuilder *mb, const float p[3][3], const float rgb[3], const float alpha[3])
+{
+  guint32 base = mb->v->len / MARK_FLOATS;
+  for (int k = 0; k < 3; k++)
+    mark_vertex(mb, p[k], p[k], rgb, alpha[k], 0.0f, 0.0f, 0.0f, 0.0f);
+  const guint32 t[3] = { base, base + 1, base + 2 };
+  g_array_append_vals(mb->i, t, 3);
+}
+
+/* Outline of a rounded rectangle centred at c, `steps` points per corner, counter-clockwise. */
+static int
+rounded_rect(float c_x, float c_y, float half_x, float half_y, float r, int steps,
+             float out[][3])
+{
+  static const float corner[4][2] = { { 1, 1 }, { -1, 1 }, { -1, -1 }, { 1, -1 } };
+  int n = 0;
+  for (int q = 0; q < 4; q++) {
+    float cx = c_x + corner[q][0] * (half_x - r), cy = c_y + corner[q][1] * (half_y - r);
+    for (int k = 0; k < steps; k++) {
+      float ang = (float)q * GLM_PI_2f + GLM_PI_2f * (float)k / (float)(steps - 1);
+      out[n][0] = cx + r * cosf(ang);
+      out[n][1] = cy + r * sinf(ang);
+      out[n][2] = 0.0f;
+      n++;
+    }
+  }
+  return n;
+}
+
+/* Two foot marks parallel to the target line, shoulder width apart, about 0.65 m from the
+ * ball toward the player (the lie of a mid iron, common practice): a dim fill and a brighter
+ * rim just inside the edge. */
+static void
+marks_feet(MarkBuilder *mb, float side)
+{
+  enum { STEPS = 8 };
+  float fill_rgb[3] = { foot_rgb[0] * 0.55f, foot_rgb[1] * 0.55f, foot_rgb[2] * 0.55f };
+  for (int f = 0; f < 2; f++) {
+    float cx = f == 0 ? 0.22f : -0.22f, cy = 0.65f * side;
+    float o[4 * STEPS][3];
+    int n = rounded_rect(cx, cy, 0.044f, 0.129f, 0.034f, STEPS, o);
+    const float centre[3] = { cx, cy, 0.0f };
+    for (int k = 0; k < n; k++) {
+      const float tri[3][3] = { { centre[0], centre[1], 0 }, { o[k][0], o[k][1], 0 },
+                                { o[(k + 1) % n][0], o[(k + 1) % n][1], 0 } };
+      const float al[3] = { 0.6f, 0.6f, 0.6f };
+      mark_triangle(mb, tri, fill_rgb, al);
+    }
+    for (int k = 0; k < n; k++)
+      mark_segment(mb, o[k], o[(k + 1) % n], foot_rgb, 0.9f, 0.9f, 0.004f, 0.6f, 0.0f);
+  }
+}
+
+static void
+make_marks(ArcwiseScene *scene)
+{
+  MarkBuilder mb = { g_array_new(FALSE, FALSE, sizeof(float)),
+                     g_array_new(FALSE, FALSE, sizeof(guint32)) };
+  /* Grid: 0.5 m squares over the whole floor, 0.1 m subdivisions near the ball that fade out
+   * between 1 m and 2.5 m. Strokes are cut into short pieces so the per-vertex fade with
+   * distance from the eye stays smooth. */
+  const float half = 9.0f;
+  for (int axis = 0; axis < 2; axis++) {
+    for (int l = -18; l <= 18; l++) {
+      float c = 0.5f * (float)l;
+      for (float u = -half; u < half - 1e-3f; u += 1.0f) {
+        float a[3] = { 0 }, b[3] = { 0 };
+        a[axis] = b[axis] = c;
+        a[1 - axis] = u;
+        b[1 - axis] = u + 1.0f;
+        mark_segment(&mb, a, b, grid_rgb, 0.55f, 0.55f, 0.0f, 0.6f, 1.0f);
+      }
+    }
+    for (int l = -25; l <= 25; l++) {
+      if (l % 5 == 0)
+        continue;   /* on a major line */
+      float c = 0.1f * (float)l;
+      for (float u = -2.5f; u < 2.5f - 1e-3f; u += 0.25f) {
+        float a[3] = { 0 }, b[3] = { 0 };
+        a[axis] = b[axis] = c;
+        a[1 - axis] = u;
+        b[1 - axis] = u + 0.25f;
+        float fa = 0.22f * (1.0f - smooth01(1.0f, 2.5f, hypotf(c, u)));
+        float fb = 0.22f * (1.0f - smooth01(1.0f, 2.5f, hypotf(c, u + 0.25f)));
+        if (fa > 0.0f || fb > 0.0f)
+          mark_segment(&mb, a, b, grid_rgb, fa, fb, 0.0f, 0.4f, 1.0f);
+      }
+    }
+  }
+  /* Target line: from 1 m behind the ball to 6 m ahead, brighter ahead of the ball. */
+  mark_segment(&mb, (float[3]){ -1, 0, 0 }, (float[3]){ 0, 0, 0 }, target_rgb, 0.45f, 0.45f,
+               0.006f, 0.75f, 0.0f);
+  mark_segment(&mb, (float[3]){ 0, 0, 0 }, (float[3]){ 5, 0, 0 }, target_rgb, 0.95f, 0.95f,
+               0.006f, 0.75f, 0.0f);
+  for (int k = 0; k < 4; k++) {
+    float x0 = 5.0f + 0.25f * (float)k, x1 = x0 + 0.25f;
+    mark_segment(&mb, (float[3]){ x0, 0, 0 }, (float[3]){ x1, 0, 0 }, target_rgb,
+                 0.95f * (1.0f - smooth01(5, 6, x0)), 0.95f * (1.0f - smooth01(5, 6, x1)),
+                 0.006f, 0.75f, 0.0f);
+  }
+  /* Aim chevron 1.5 m ahead of the ball, pointing at the target. */
+  for (int sgn = -1; sgn <= 1; sgn += 2)
+    mark_segment(&mb, (float[3]){ 1.5f, 0, 0 }, (float[3]){ 1.38f, 0.096f * (float)sgn, 0 },
+                 target_rgb, 1.0f, 1.0f, 0.008f, 0.75f, 0.0f);
+  /* A ring around the ball so a real-size ball is easy to find on a big screen. */
+  enum { RING = 72 };
+  static const float ring_rgb[3] = { 0.92f, 0.92f, 0.92f };
+  for (int k = 0; k < RING; k++) {
+    float a0 = 2.0f * GLM_PIf * (float)k / RING, a1 = 2.0f * GLM_PIf * (float)(k + 1) / RING;
+    mark_segment(&mb, (float[3]){ 0.075f * cosf(a0), 0.075f * sinf(a0), 0 },
+                 (float[3]){ 0.075f * cosf(a1), 0.075f * sinf(a1), 0 }, ring_rgb, 0.8f, 0.8f,
+                 0.004f, 0.75f, 0.0f);
+  }
+  /* Soft contact shadow under the ball: a Gaussian of 3 cm, darkening the floor by 55 %. */
+  enum { RINGS = 10, SLICES = 32 };
+  static const float black[3] = { 0, 0, 0 };
+  for (int r = 0; r < RINGS; r++)
+    for (int k = 0; k < SLICES; k++) {
+      float r0 = 0.1f * (float)r / RINGS, r1 = 0.1f * (float)(r + 1) / RINGS;
+      float a0 = 2.0f * GLM_PIf * (float)k / SLICES, a1 = 2.0f * GLM_PIf * (float)(k + 1) / SLICES;
+      float s0 = 0.55f * expf(-r0 * r0 / (2.0f * 0.03f * 0.03f));
+      float s1 = 0.55f * expf(-r1 * r1 / (2.0f * 0.03f * 0.03f));
+      const float p00[3] = { r0 * cosf(a0), r0 * sinf(a0), 0 }, p01[3] = { r0 * cosf(a1), r0 * sinf(a1), 0 };
+      const float p10[3] = { r1 * cosf(a0), r1 * sinf(a0), 0 }, p11[3] = { r1 * cosf(a1), r1 * sinf(a1), 0 };
+      const float t1[3][3] = { { p00[0], p00[1], 0 }, { p10[0], p10[1], 0 }, { p11[0], p11[1], 0 } };
+      const float t2[3][3] = { { p00[0], p00[1], 0 }, { p11[0], p11[1], 0 }, { p01[0], p01[1], 0 } };
+      mark_triangle(&mb, t1, black, (const float[3]){ s0, s1, s1 });
+      mark_triangle(&mb, t2, black, (const float[3]){ s0, s1, s0 });
+    }
+  scene->marks_common = (GLsizei)mb.i->len;
+  marks_feet(&mb, 1.0f);
+  scene->marks_feet_right = (GLsizei)mb.i->len - scene->marks_common;
+  marks_feet(&mb, -1.0f);
+  scene->marks_feet_left = (GLsizei)mb.i->len - scene->marks_common - scene->marks_feet_right;
+  static const int sizes[] = { 3, 3, 4, 4 };
+  mesh_upload(&scene->marks, (const float *)(void *)mb.v->data, mb.v->len / MARK_FLOATS,
+              MARK_FLOATS, sizes, 4, (const guint32 *)(void *)mb.i->data, mb.i->len);
+  g_array_unref(mb.v);
+  g_array_unref(mb.i);
+}
+
 /* ---- tubes -------------------------------------------------------------------------------- */
 
-/* Builds a tube along pos with per-sample radius (radius_m[i], or `radius` when NULL).
- * Frames are parallel-transported so the tube never twists where the path turns sharply. */
+/* Which samples become rings of the tube. llvmpipe pays for every triangle it sets up, and at
+ * 100 samples/s the slow parts of a swing (address, the top, the finish) put many samples
+ * within a few millimetres, where extra rings add triangles and no shape. A sample is kept
+ * when the path has moved MIN_STEP_M since the last kept one or turned by more than
+ * MAX_TURN_RAD, and always where its occlusion or phase changes (so dashes and colours start
+ * where they should), and at both ends. Faster parts keep every sample. */
+#define MIN_STEP_M 0.012f            /* below the tube's own diameter: invisible detail */
+#define MAX_TURN_RAD 0.14f           /* 8 degrees */
+
+static size_t
+decimate(const ArcwiseScenePath *p, const float (*pos)[3], guint32 *keep)
+{
+  size_t n = p->n, m = 0;
+  keep[m++] = 0;
+  vec3 last_dir = { 0, 0, 0 };
+  for (size_t i = 1; i + 1 < n; i++) {
+    size_t j = keep[m - 1];
+    vec3 d;
+    glm_vec3_sub((float *)pos[i], (float *)pos[j], d);
+    float len = glm_vec3_norm(d);
+    bool flags = (p->occluded && (p->occluded[i] != 0) != (p->occluded[i + 1] != 0)) ||
+                 (p->occluded && (p->occluded[i] != 0) != (p->occluded[i - 1] != 0)) ||
+                 (p->phase && (p->phase[i] != p->phase[i + 1] || p->phase[i] != p->phase[i - 1]));
+    bool turned = false;
+    if (len > 1e-6f && glm_vec3_norm(last_dir) > 0.5f) {
+      float c = glm_vec3_dot(d, last_dir) / len;
+      turned = c < cosf(MAX_TURN_RAD);
+    }
+    if (flags || len >= MIN_STEP_M || turned) {
+      keep[m++] = (guint32)i;
+      if (len > 1e-6f)
+        glm_vec3_scale(d, 1.0f / len, last_dir);
+    }
+  }
+  keep[m++] = (guint32)(n - 1);
+  return m;
+}
+
+/* Builds a tube of `sides` faces through the kept samples of pos with per-sample radius
+ * (radius_m[i], or `radius` when NULL). Frames are parallel-transported so the tube never
+ * twists where the path turns sharply. */
 static void
 build_tube(Mesh *m, const ArcwiseScenePath *p, const float (*pos)[3], const float *radius_m,
-           float radius, float min_radius)
+           float radius, float min_radius, int sides)
 {
-  size_t n = p->n;
-  size_t n_verts = n * (TUBE_SIDES + 1);
+  guint32 *keep = g_new(guint32, p->n);
+  size_t n = decimate(p, pos, keep);
+  size_t n_verts = n * (size_t)(sides + 1);
   float *verts = g_new(float, n_verts * FLOATS_PER_VERTEX);
-  guint32 *idx = g_new(guint32, (n - 1) * TUBE_SIDES * 6);
+  guint32 *idx = g_new(guint32, (n - 1) * (size_t)sides * 6);
   vec3 prev_t = { 1, 0, 0 }, normal = { 0, 0, 1 };
   float arc = 0.0f;
   size_t v = 0;
-  for (size_t i = 0; i < n; i++) {
+  for (size_t j = 0; j < n; j++) {
+    size_t i = keep[j];
     vec3 a, b, t;
-    glm_vec3_copy((float *)pos[i > 0 ? i - 1 : i], a);
-    glm_vec3_copy((float *)pos[i + 1 < n ? i + 1 : i], b);
+    glm_vec3_copy((float *)pos[keep[j > 0 ? j - 1 : j]], a);
+    glm_vec3_copy((float *)pos[keep[j + 1 < n ? j + 1 : j]], b);
     glm_vec3_sub(b, a, t);
     if (glm_vec3_norm(t) < 1e-7f)
       glm_vec3_copy(prev_t, t);
     glm_vec3_normalize(t);
-    if (i == 0) {
+    if (j == 0) {
       vec3 up = { 0, 0, 1 };
       if (fabsf(glm_vec3_dot(up, t)) > 0.9f)
         glm_vec3_copy((vec3){ 0, 1, 0 }, up);
@@ -356,7 +593,7 @@ build_tube(Mesh *m, const ArcwiseScenePath *p, const float (*pos)[3], const floa
       }
       glm_vec3_normalize(normal);
       vec3 seg;
-      glm_vec3_sub((float *)pos[i], (float *)pos[i - 1], seg);
+      glm_vec3_sub((float *)pos[i], (float *)pos[keep[j - 1]], seg);
       arc += glm_vec3_norm(seg);
     }
     glm_vec3_copy(t, prev_t);
@@ -370,8 +607,8 @@ build_tube(Mesh *m, const ArcwiseScenePath *p, const float (*pos)[3], const floa
     float occl = p->occluded ? (float)(p->occluded[i] != 0) : 0.0f;
     float time = p->t_s ? p->t_s[i] : (float)i;
     float share = p->cam_share ? p->cam_share[i] : 1.0f;
-    for (int s = 0; s <= TUBE_SIDES; s++) {
-      float ang = 2.0f * GLM_PIf * (float)s / TUBE_SIDES;
+    for (int s = 0; s <= sides; s++) {
+      float ang = 2.0f * GLM_PIf * (float)s / (float)sides;
       vec3 nrm;
       for (int k = 0; k < 3; k++)
         nrm[k] = cosf(ang) * normal[k] + sinf(ang) * binormal[k];
@@ -386,8 +623,8 @@ build_tube(Mesh *m, const ArcwiseScenePath *p, const float (*pos)[3], const floa
   }
   size_t k = 0;
   for (size_t i = 0; i + 1 < n; i++)
-    for (int s = 0; s < TUBE_SIDES; s++) {
-      guint32 a = (guint32)(i * (TUBE_SIDES + 1) + (size_t)s), b = a + TUBE_SIDES + 1;
+    for (int s = 0; s < sides; s++) {
+      guint32 a = (guint32)(i * (size_t)(sides + 1) + (size_t)s), b = a + (guint32)sides + 1;
       /* Counter-clockwise seen from outside. */
       idx[k++] = a; idx[k++] = a + 1; idx[k++] = b;
       idx[k++] = a + 1; idx[k++] = b + 1; idx[k++] = b;
@@ -396,6 +633,47 @@ build_tube(Mesh *m, const ArcwiseScenePath *p, const float (*pos)[3], const floa
   mesh_upload(m, verts, v, FLOATS_PER_VERTEX, sizes, 4, idx, k);
   g_free(verts);
   g_free(idx);
+  g_free(keep);
+}
+
+/* The path's shadow: a flat strip on the floor under the tube, as wide as the tube. Two
+ * triangles per segment instead of the tube's dozen. */
+static void
+build_shadow(Mesh *m, const ArcwiseScenePath *p, float half_width_m)
+{
+  guint32 *keep = g_new(guint32, p->n);
+  size_t n = decimate(p, p->pos_m, keep);
+  float *verts = g_new0(float, n * 2 * FLOATS_PER_VERTEX);
+  guint32 *idx = g_new(guint32, (n - 1) * 6);
+  float side_prev[2] = { 0, 1 };
+  for (size_t j = 0; j < n; j++) {
+    const float *a = p->pos_m[keep[j > 0 ? j - 1 : j]], *b = p->pos_m[keep[j + 1 < n ? j + 1 : j]];
+    float dx = b[0] - a[0], dy = b[1] - a[1], len = hypotf(dx, dy);
+    /* Where the hands move straight up or down the strip keeps its last direction. */
+    float sx = len > 1e-5f ? -dy / len : side_prev[0], sy = len > 1e-5f ? dx / len : side_prev[1];
+    side_prev[0] = sx;
+    side_prev[1] = sy;
+    const float *c = p->pos_m[keep[j]];
+    for (int e = 0; e < 2; e++) {
+      float *o = verts + (j * 2 + (size_t)e) * FLOATS_PER_VERTEX;
+      float sg = e == 0 ? -1.0f : 1.0f;
+      o[0] = c[0] + sg * half_width_m * sx;
+      o[1] = c[1] + sg * half_width_m * sy;
+      o[2] = 0.002f;
+      o[5] = 1.0f;
+      o[10] = p->t_s ? p->t_s[keep[j]] : (float)keep[j];
+    }
+  }
+  for (size_t j = 0; j + 1 < n; j++) {
+    guint32 a = (guint32)(2 * j);
+    const guint32 q[6] = { a, a + 2, a + 1, a + 1, a + 2, a + 3 };
+    memcpy(idx + 6 * j, q, sizeof q);
+  }
+  static const int sizes[] = { 3, 3, 4, 2 };
+  mesh_upload(m, verts, 2 * n, FLOATS_PER_VERTEX, sizes, 4, idx, 6 * (n - 1));
+  g_free(verts);
+  g_free(idx);
+  g_free(keep);
 }
 
 static void
@@ -404,6 +682,7 @@ slot_clear(Slot *s)
   mesh_clear(&s->tube);
   mesh_clear(&s->band);
   mesh_clear(&s->club);
+  mesh_clear(&s->shadow);
   g_clear_pointer(&s->t_s, g_free);
   g_clear_pointer(&s->pos_m, g_free);
   g_clear_pointer(&s->club_m, g_free);
@@ -421,11 +700,12 @@ arcwise_scene_set_path(ArcwiseScene *scene, int slot, const ArcwiseScenePath *pa
   if (path == NULL || path->n < 2 || path->pos_m == NULL)
     return;
   float r = slot == 0 ? TUBE_RADIUS_M : COMPARE_RADIUS_M;
-  build_tube(&s->tube, path, path->pos_m, NULL, r, r);
+  build_tube(&s->tube, path, path->pos_m, NULL, r, r, slot == 0 ? TUBE_SIDES : COMPARE_SIDES);
+  build_shadow(&s->shadow, path, r);
   if (path->band_m != NULL)
-    build_tube(&s->band, path, path->pos_m, path->band_m, 0.0f, r * 1.6f);
+    build_tube(&s->band, path, path->pos_m, path->band_m, 0.0f, r * 1.6f, BAND_SIDES);
   if (path->club_m != NULL) {
-    build_tube(&s->club, path, path->club_m, NULL, CLUB_RADIUS_M, CLUB_RADIUS_M);
+    build_tube(&s->club, path, path->club_m, NULL, CLUB_RADIUS_M, CLUB_RADIUS_M, CLUB_SIDES);
     s->has_club = true;
     s->club_m = g_memdup2(path->club_m, path->n * sizeof path->club_m[0]);
   }
@@ -467,14 +747,15 @@ arcwise_scene_new(GError **error)
   }
   ArcwiseScene *scene = g_new0(ArcwiseScene, 1);
   static const char *const bd_u[] = { "u_horizon", NULL };
-  static const char *const fl_u[] = { "u_floor_rgb", "u_grid_rgb", "u_target_rgb", "u_foot_rgb",
-                                      "u_handed", NULL };
+  static const char *const fl_u[] = { "u_floor_rgb", NULL };
+  static const char *const mk_u[] = { "u_viewport", "u_px_per_m", NULL };
   static const char *const so_u[] = { "u_rgb", "u_centre_radius", "u_glow", NULL };
   static const char *const tu_u[] = { "u_style", "u_colour_mode", "u_speed_max", "u_phase_rgb",
                                       "u_style_rgb", "u_cam_rgb", "u_imu_rgb", "u_time_cut",
-                                      "u_alpha", "u_flatten", NULL };
+                                      "u_alpha", NULL };
   if (!program_init(&scene->backdrop, "backdrop.vert", "backdrop.frag", bd_u, error) ||
       !program_init(&scene->floor, "floor.vert", "floor.frag", fl_u, error) ||
+      !program_init(&scene->mark, "mark.vert", "mark.frag", mk_u, error) ||
       !program_init(&scene->solid, "solid.vert", "solid.frag", so_u, error) ||
       !program_init(&scene->tube, "tube.vert", "tube.frag", tu_u, error)) {
     arcwise_scene_free(scene);
@@ -483,6 +764,7 @@ arcwise_scene_new(GError **error)
   glGenVertexArrays(1, &scene->empty_vao);
   make_floor(&scene->floor_mesh);
   make_sphere(&scene->sphere);
+  make_marks(scene);
   return scene;
 }
 
@@ -495,9 +777,11 @@ arcwise_scene_free(ArcwiseScene *scene)
   slot_clear(&scene->slot[1]);
   mesh_clear(&scene->floor_mesh);
   mesh_clear(&scene->sphere);
+  mesh_clear(&scene->marks);
   if (scene->empty_vao)
     glDeleteVertexArrays(1, &scene->empty_vao);
-  Program *progs[] = { &scene->backdrop, &scene->floor, &scene->solid, &scene->tube };
+  Program *progs[] = { &scene->backdrop, &scene->floor, &scene->mark, &scene->solid,
+                       &scene->tube };
   for (size_t i = 0; i < G_N_ELEMENTS(progs); i++)
     if (progs[i]->prog)
       glDeleteProgram(progs[i]->prog);
@@ -558,28 +842,50 @@ arcwise_scene_draw(ArcwiseScene *scene, const ArcwiseCamera *cam, const ArcwiseS
   glClearDepth(1.0);
   glClear(GL_COLOR_BUFFER_BIT | GL_DEPTH_BUFFER_BIT);
 
-  /* Backdrop, behind everything. */
-  glDisable(GL_DEPTH_TEST);
+  glEnable(GL_DEPTH_TEST);
+  glDepthFunc(GL_LESS);
+
+  /* Floor first: a flat fill that writes depth, so the backdrop after it shades only the
+   * pixels above the horizon. */
+  Program *fl = &scene->floor;
+  glUseProgram(fl->prog);
+  glUniformMatrix4fv(fl->view_proj, 1, GL_FALSE, (const float *)view_proj);
+  glUniform3f(fl->u[FL_FLOOR], opt->clear_rgb[0] * 0.78f, opt->clear_rgb[1] * 0.80f,
+              opt->clear_rgb[2] * 0.82f);
+  draw_mesh(&scene->floor_mesh);
+
+  /* Backdrop at the far plane, only where nothing is nearer. */
+  glDepthFunc(GL_LEQUAL);
+  glDepthMask(GL_FALSE);
   glUseProgram(scene->backdrop.prog);
   glUniform3fv(scene->backdrop.u[BD_HORIZON], 1, opt->clear_rgb);
   glBindVertexArray(scene->empty_vao);
   glDrawArrays(GL_TRIANGLES, 0, 3);
 
-  glEnable(GL_DEPTH_TEST);
+  /* Markings on the floor: blended over it with no depth test (nothing else is drawn yet, and
+   * everything later is above the floor and tested against its depth). */
+  glDisable(GL_DEPTH_TEST);
+  glEnable(GL_BLEND);
+  glBlendFuncSeparate(GL_SRC_ALPHA, GL_ONE_MINUS_SRC_ALPHA, GL_ZERO, GL_ONE);
+  Program *mk = &scene->mark;
+  glUseProgram(mk->prog);
+  glUniformMatrix4fv(mk->view_proj, 1, GL_FALSE, (const float *)view_proj);
+  glUniform3fv(mk->eye, 1, eye);
+  glUniform2f(mk->u[MK_VIEWPORT], (float)width, (float)height);
+  glUniform1f(mk->u[MK_PX_PER_M], proj[1][1] * 0.5f * (float)height);
+  glBindVertexArray(scene->marks.vao);
+  glDrawElements(GL_TRIANGLES, scene->marks_common, GL_UNSIGNED_INT, NULL);
+  if (opt->handed < 0)
+    glDrawElements(GL_TRIANGLES, scene->marks_feet_left, GL_UNSIGNED_INT,
+                   (const void *)((size_t)(scene->marks_common + scene->marks_feet_right) *
+                                  sizeof(guint32)));
+  else
+    glDrawElements(GL_TRIANGLES, scene->marks_feet_right, GL_UNSIGNED_INT,
+                   (const void *)((size_t)scene->marks_common * sizeof(guint32)));
+  glDisable(GL_BLEND);
+  glDepthMask(GL_TRUE);
   glDepthFunc(GL_LESS);
-
-  /* Floor. */
-  Program *fl = &scene->floor;
-  glUseProgram(fl->prog);
-  glUniformMatrix4fv(fl->view_proj, 1, GL_FALSE, (const float *)view_proj);
-  glUniform3fv(fl->eye, 1, eye);
-  glUniform3f(fl->u[FL_FLOOR], opt->clear_rgb[0] * 0.78f, opt->clear_rgb[1] * 0.80f,
-              opt->clear_rgb[2] * 0.82f);
-  glUniform3f(fl->u[FL_GRID], 0.42f, 0.50f, 0.58f);
-  glUniform3f(fl->u[FL_TARGET], 0.94f, 0.70f, 0.35f);
-  glUniform3f(fl->u[FL_FOOT], 0.55f, 0.70f, 0.82f);
-  glUniform1f(fl->u[FL_HANDED], opt->handed < 0 ? -1.0f : 1.0f);
-  draw_mesh(&scene->floor_mesh);
+  glEnable(GL_DEPTH_TEST);
 
   /* Ball and markers. */
   Program *so = &scene->solid;
@@ -622,16 +928,16 @@ arcwise_scene_draw(ArcwiseScene *scene, const ArcwiseCamera *cam, const ArcwiseS
   glEnable(GL_BLEND);
   glBlendFuncSeparate(GL_SRC_ALPHA, GL_ONE_MINUS_SRC_ALPHA, GL_ZERO, GL_ONE);
   glDepthMask(GL_FALSE);
-  glUniform1i(tu->u[TU_FLATTEN], 1);
+  glDisable(GL_CULL_FACE);
   glUniform1i(tu->u[TU_STYLE], 4);
   for (int i = 0; i < 2; i++) {
     const Slot *s = &scene->slot[i];
     if (!s->present || (i == 1 && !opt->show_compare))
       continue;
     glUniform1f(tu->u[TU_ALPHA], i == 0 ? 0.30f : 0.16f);
-    draw_mesh(&s->tube);
+    draw_mesh(&s->shadow);
   }
-  glUniform1i(tu->u[TU_FLATTEN], 0);
+  glEnable(GL_CULL_FACE);
   glDepthMask(GL_TRUE);
   glDisable(GL_BLEND);
   glUniform1f(tu->u[TU_ALPHA], 1.0f);
