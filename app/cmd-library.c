@@ -88,18 +88,36 @@ library_path(const char *given)
   return arcwise_store_chosen_path();
 }
 
+typedef enum { OPEN_WRITE, OPEN_CREATE, OPEN_READ } OpenMode;
+
+/* OPEN_READ: the actions that only look (list, show, check, backup, export-player) still work
+ * on a library from a newer program, read-only, with a note; the others are refused there and
+ * the message says what does work. */
 static ArcwiseStore *
-open_library(const char *path, gboolean create, int *rc)
+open_library(const char *path, OpenMode mode, int *rc)
 {
   g_autoptr(GError) error = NULL;
-  if (create) {
+  if (mode == OPEN_CREATE) {
     g_autofree char *dir = g_path_get_dirname(path);
     g_mkdir_with_parents(dir, 0700);
   }
-  ArcwiseStore *s = arcwise_store_open(path, create ? ARCWISE_STORE_OPEN_CREATE
-                                                    : ARCWISE_STORE_OPEN_DEFAULT, &error);
-  if (s == NULL)
-    *rc = arcwise_cli_fail(CMD, "%s", error->message);
+  ArcwiseStore *s = arcwise_store_open(path, mode == OPEN_CREATE ? ARCWISE_STORE_OPEN_CREATE
+                                             : mode == OPEN_READ ? ARCWISE_STORE_OPEN_FALLBACK_READONLY
+                                                                 : ARCWISE_STORE_OPEN_DEFAULT,
+                                       &error);
+  if (s == NULL) {
+    if (g_error_matches(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_TOO_NEW))
+      *rc = arcwise_cli_fail(CMD, "%s Here it can only be read: list, show, check, backup and "
+                             "export-player work on it.", error->message);
+    else
+      *rc = arcwise_cli_fail(CMD, "%s", error->message);
+    return NULL;
+  }
+  int version = arcwise_store_get_schema_version(s);
+  if (version > ARCWISE_STORE_SCHEMA_VERSION)
+    fprintf(stderr, "arcwise " CMD ": note: %s was made by a newer Arcwise (library format %d; "
+            "this program knows formats up to %d): opened read-only, and what the newer "
+            "program added is not shown.\n", path, version, ARCWISE_STORE_SCHEMA_VERSION);
   return s;
 }
 
@@ -199,7 +217,7 @@ do_create(const char *path)
   if (g_file_test(path, G_FILE_TEST_EXISTS))
     return arcwise_cli_fail(CMD, "%s: already exists", path);
   int rc = 0;
-  g_autoptr(ArcwiseStore) s = open_library(path, TRUE, &rc);
+  g_autoptr(ArcwiseStore) s = open_library(path, OPEN_CREATE, &rc);
   if (s == NULL)
     return rc;
   printf("created %s\n", path);
@@ -248,7 +266,7 @@ do_add_player(const char *path, Args *a)
    * left wrist (common practice of the trade). */
   if (wrist == AW_WRIST_UNKNOWN && hand != ARCWISE_HAND_UNKNOWN)
     wrist = hand == ARCWISE_HAND_RIGHT ? AW_WRIST_LEFT : AW_WRIST_RIGHT;
-  g_autoptr(ArcwiseStore) s = open_library(path, FALSE, &rc);
+  g_autoptr(ArcwiseStore) s = open_library(path, OPEN_WRITE, &rc);
   if (s == NULL)
     return rc;
   g_autoptr(GError) error = NULL;
@@ -343,7 +361,7 @@ do_import(const char *path, Args *a)
       g_ptr_array_add(pairs, p);
     }
   }
-  g_autoptr(ArcwiseStore) s = open_library(path, FALSE, &rc);
+  g_autoptr(ArcwiseStore) s = open_library(path, OPEN_WRITE, &rc);
   if (s == NULL)
     return rc;
   g_autoptr(GError) error = NULL;
@@ -455,7 +473,7 @@ do_list(const char *path, Args *a)
   }
   if ((!isnan(f.metric_min) || !isnan(f.metric_max)) && f.metric == NULL)
     return arcwise_cli_usage_error(CMD, "--min and --max need --metric NAME");
-  g_autoptr(ArcwiseStore) s = open_library(path, FALSE, &rc);
+  g_autoptr(ArcwiseStore) s = open_library(path, OPEN_READ, &rc);
   if (s == NULL)
     return rc;
   g_autoptr(GError) error = NULL;
@@ -630,7 +648,7 @@ do_show(const char *path, Args *a)
   }
   if (id == 0)
     return arcwise_cli_usage_error(CMD, "show needs a SWING number");
-  g_autoptr(ArcwiseStore) s = open_library(path, FALSE, &rc);
+  g_autoptr(ArcwiseStore) s = open_library(path, OPEN_READ, &rc);
   if (s == NULL)
     return rc;
   g_autoptr(GError) error = NULL;
@@ -751,7 +769,7 @@ do_annotate(const char *path, Args *a)
   }
   if (id == 0)
     return arcwise_cli_usage_error(CMD, "annotate needs a SWING number");
-  g_autoptr(ArcwiseStore) s = open_library(path, FALSE, &rc);
+  g_autoptr(ArcwiseStore) s = open_library(path, OPEN_WRITE, &rc);
   if (s == NULL)
     return rc;
   g_autoptr(GError) error = NULL;
@@ -789,7 +807,7 @@ do_reanalyse(const char *path, Args *a)
       return arcwise_cli_usage_error(CMD, "unknown option '%s'", a->argv[a->i]);
   }
   int rc = 0;
-  g_autoptr(ArcwiseStore) s = open_library(path, FALSE, &rc);
+  g_autoptr(ArcwiseStore) s = open_library(path, OPEN_WRITE, &rc);
   if (s == NULL)
     return rc;
   g_autoptr(GError) error = NULL;
@@ -814,14 +832,18 @@ do_simple(const char *action, const char *path, Args *a)
     return arcwise_cli_usage_error(CMD, "%s takes %u argument%s", action, want,
                                    want == 1 ? "" : "s");
   int rc = 0;
-  g_autoptr(ArcwiseStore) s = open_library(path, FALSE, &rc);
+  g_autoptr(ArcwiseStore) s = open_library(path, strcmp(action, "import-player") == 0 ? OPEN_WRITE : OPEN_READ, &rc);
   if (s == NULL)
     return rc;
   g_autoptr(GError) error = NULL;
   if (strcmp(action, "check") == 0) {
-    if (!arcwise_store_check(s, &error))
+    /* A newer library may hold blobs of a newer encoding: check what this program knows. */
+    int version = arcwise_store_get_schema_version(s);
+    gboolean newer = version > ARCWISE_STORE_SCHEMA_VERSION;
+    if (!(newer ? arcwise_store_check_database(s, &error) : arcwise_store_check(s, &error)))
       return fail_error(error);
-    printf("%s: ok (format %d)\n", path, ARCWISE_STORE_SCHEMA_VERSION);
+    printf("%s: ok (format %d%s)\n", path, version,
+           newer ? "; database checked, its stored paths were not decoded" : "");
   } else if (strcmp(action, "backup") == 0) {
     if (!arcwise_store_backup(s, g_ptr_array_index(pos, 0), &error))
       return fail_error(error);

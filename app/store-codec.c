@@ -121,13 +121,47 @@ arcwise_codec_safe_name(const char *path)
 
 #if ARCWISE_HAVE_FUSION
 /* ---- Fused path record --------------------------------------------------------------------
- * Layout (all little-endian):
- *   "AWFP" u32 version(1) u64 n, u32 length + the report as "key=value" lines
- *   arrays, each byte-plane shuffled: t[n] pos[3n] vel[3n] q[4n] sigma[3n] share[n]
- *           accel[3n] gyro[3n] (doubles), flags[n] (u32) */
+ * Layout (all little-endian), compressed with zlib behind its u64 uncompressed size:
+ *   "AWFP" u32 version, u64 n, u32 length + the report as "key=value" lines, then the arrays
+ *   t[n] pos[3n] vel[3n] q[4n] sigma[3n] share[n] accel[3n] gyro[3n] (doubles), flags[n] (u32).
+ * Version 1: every array as raw values, byte-plane shuffled (lossless).
+ * Version 2 (written now): each double array starts with a mode byte. Mode 1: rounded to the
+ *   array's step (path_steps below) and stored per component as zigzag LEB128 differences
+ *   from the previous row; mode 0: raw and shuffled as in version 1, for an array holding a
+ *   value that is not finite or too large for its step. Flags are stored XORed with the
+ *   previous row, as LEB128. The fused path is a cache that re-analysis recomputes from the
+ *   raw streams (which stay bit-exact): rounding it to steps far below what the sensors
+ *   resolve cuts the stored size by about four without changing any coaching number. */
 
 #define PATH_MAGIC "AWFP"
-#define PATH_VERSION 1u
+#define PATH_VERSION 2u
+
+/* Steps of version 2, in the arrays' SI units. Each is at least ~50 times finer than what the
+ * capture resolves: a consumer depth camera's keypoint noise is millimetres, a 16-bit IMU at
+ * +-16 g resolves 4.8e-3 m/s^2 and at +-2000 deg/s 1.1e-3 rad/s (datasheet resolutions of
+ * the class, from memory); the IMU clock counts microseconds. */
+typedef struct {
+  double step;
+  guint dim;
+} PathArray;
+enum { PA_T, PA_POS, PA_VEL, PA_Q, PA_SIGMA, PA_SHARE, PA_ACCEL, PA_GYRO, PA_N };
+static const PathArray path_steps[PA_N] = {
+  [PA_T] = { 1e-6, 1 },      /* s */
+  [PA_POS] = { 1e-5, 3 },    /* m: 10 micrometres */
+  [PA_VEL] = { 1e-4, 3 },    /* m/s */
+  [PA_Q] = { 1e-8, 4 },      /* unit quaternion components: 2e-8 rad */
+  [PA_SIGMA] = { 1e-6, 3 },  /* m */
+  [PA_SHARE] = { 1e-6, 1 },  /* 0..1 */
+  [PA_ACCEL] = { 1e-4, 3 },  /* m/s^2 */
+  [PA_GYRO] = { 1e-6, 3 },   /* rad/s */
+};
+
+/* The half-step error bound of the arrays of version 2, for the tests. */
+double
+arcwise_codec_path_step(int array)
+{
+  return array >= 0 && array < PA_N ? path_steps[array].step : (double)NAN;
+}
 
 /* Report fields by name. Doubles are written with 17 significant digits, which round-trips an
  * IEEE 754 double exactly. */
@@ -300,9 +334,132 @@ get_shuffled(Reader *r, void *values, gsize k, guint width)
   }
 }
 
-GBytes *
-arcwise_codec_encode_path(const AwFusedPath *path, double t_from_s, double t_to_s, GError **error)
+static void
+put_varint(GByteArray *a, guint64 v)
 {
+  guint8 buf[10];
+  guint k = 0;
+  do {
+    buf[k] = (guint8)(v & 0x7f);
+    v >>= 7;
+    if (v != 0)
+      buf[k] |= 0x80;
+    k++;
+  } while (v != 0);
+  g_byte_array_append(a, buf, k);
+}
+
+static guint64
+get_varint(Reader *r)
+{
+  guint64 v = 0;
+  for (guint shift = 0; shift < 64; shift += 7) {
+    const guint8 *p = take(r, 1);
+    if (p == NULL)
+      return 0;
+    v |= (guint64)(*p & 0x7f) << shift;
+    if (!(*p & 0x80))
+      return v;
+  }
+  r->bad = TRUE; /* more than ten bytes: not ours */
+  return 0;
+}
+
+/* Largest |value / step| stored as an integer: far inside int64 and exact in a double. */
+#define PATH_QMAX 4.0e15
+
+/* One array of n rows of `dim` doubles: version 1 raw; version 2 with a mode byte. */
+static void
+put_array(GByteArray *a, guint version, const double *v, gsize n, const PathArray *pa)
+{
+  gsize k = n * pa->dim;
+  gboolean quantise = version >= 2;
+  for (gsize i = 0; quantise && i < k; i++)
+    quantise = isfinite(v[i]) && fabs(v[i] / pa->step) < PATH_QMAX;
+  if (version >= 2) {
+    guint8 mode = quantise ? 1 : 0;
+    g_byte_array_append(a, &mode, 1);
+  }
+  if (!quantise) {
+    put_shuffled(a, v, k, 8);
+    return;
+  }
+  for (guint c = 0; c < pa->dim; c++) {
+    gint64 prev = 0;
+    for (gsize i = 0; i < n; i++) {
+      gint64 q = (gint64)llround(v[i * pa->dim + c] / pa->step);
+      /* difference in unsigned arithmetic (no overflow), then zigzag */
+      guint64 d = (guint64)q - (guint64)prev;
+      put_varint(a, (d << 1) ^ (guint64)-(gint64)(d >> 63));
+      prev = q;
+    }
+  }
+}
+
+static void
+get_array(Reader *r, guint version, double *v, gsize n, const PathArray *pa)
+{
+  gsize k = n * pa->dim;
+  guint8 mode = 0;
+  if (version >= 2) {
+    const guint8 *m = take(r, 1);
+    if (m == NULL || *m > 1) {
+      r->bad = TRUE;
+      return;
+    }
+    mode = *m;
+  }
+  if (mode == 0) {
+    get_shuffled(r, v, k, 8);
+    return;
+  }
+  for (guint c = 0; c < pa->dim && !r->bad; c++) {
+    guint64 prev = 0;
+    for (gsize i = 0; i < n && !r->bad; i++) {
+      guint64 z = get_varint(r);
+      guint64 d = (z >> 1) ^ (guint64)-(gint64)(z & 1);
+      prev += d;
+      v[i * pa->dim + c] = (double)(gint64)prev * pa->step;
+    }
+  }
+}
+
+static void
+put_flags(GByteArray *a, guint version, const guint32 *f, gsize n)
+{
+  if (version < 2) {
+    put_shuffled(a, f, n, 4);
+    return;
+  }
+  guint32 prev = 0;
+  for (gsize i = 0; i < n; i++) {
+    put_varint(a, f[i] ^ prev);
+    prev = f[i];
+  }
+}
+
+static void
+get_flags(Reader *r, guint version, guint32 *f, gsize n)
+{
+  if (version < 2) {
+    get_shuffled(r, f, n, 4);
+    return;
+  }
+  guint32 prev = 0;
+  for (gsize i = 0; i < n && !r->bad; i++) {
+    guint64 x = get_varint(r);
+    if (x > G_MAXUINT32)
+      r->bad = TRUE;
+    prev ^= (guint32)x;
+    f[i] = prev;
+  }
+}
+
+GBytes *
+arcwise_codec_encode_path_version(const AwFusedPath *path, double t_from_s, double t_to_s,
+                                  guint version, GError **error)
+{
+  g_return_val_if_fail(version == 1 || version == 2, NULL);
   /* The rows inside the span; NaN bounds mean "open". */
   gsize i0 = 0, i1 = path->n;
   if (!isnan(t_from_s))
@@ -313,9 +470,9 @@ arcwise_codec_encode_path(const AwFusedPath *path, double t_from_s, double t_to_
       i1--;
   gsize n = i1 - i0;
 
-  GByteArray *a = g_byte_array_sized_new((guint)(64 + n * 190));
+  GByteArray *a = g_byte_array_sized_new((guint)(64 + n * (version >= 2 ? 64 : 190)));
   g_byte_array_append(a, (const guint8 *)PATH_MAGIC, 4);
-  put_u32(a, PATH_VERSION);
+  put_u32(a, version);
   put_u64(a, n);
   /* The report as "key=value" text: its fields grow with the engine, and a cached path from an
    * older engine must still load (unknown keys are ignored, missing ones keep their defaults). */
@@ -323,15 +480,15 @@ arcwise_codec_encode_path(const AwFusedPath *path, double t_from_s, double t_to_
   put_u32(a, (guint32)strlen(report));
   g_byte_array_append(a, (const guint8 *)report, (guint)strlen(report));
 
-  put_shuffled(a, path->t_s + i0, n, 8);
-  put_shuffled(a, path->pos_cam_m + i0, 3 * n, 8);
-  put_shuffled(a, path->vel_cam_m_s + i0, 3 * n, 8);
-  put_shuffled(a, path->q_cam_body + i0, 4 * n, 8);
-  put_shuffled(a, path->pos_sigma_cam_m + i0, 3 * n, 8);
-  put_shuffled(a, path->cam_info_share + i0, n, 8);
-  put_shuffled(a, path->accel_body_m_s2 + i0, 3 * n, 8);
-  put_shuffled(a, path->gyro_body_rad_s + i0, 3 * n, 8);
-  put_shuffled(a, path->flags + i0, n, 4);
+  put_array(a, version, path->t_s + i0, n, &path_steps[PA_T]);
+  put_array(a, version, &path->pos_cam_m[i0][0], n, &path_steps[PA_POS]);
+  put_array(a, version, &path->vel_cam_m_s[i0][0], n, &path_steps[PA_VEL]);
+  put_array(a, version, &path->q_cam_body[i0][0], n, &path_steps[PA_Q]);
+  put_array(a, version, &path->pos_sigma_cam_m[i0][0], n, &path_steps[PA_SIGMA]);
+  put_array(a, version, path->cam_info_share + i0, n, &path_steps[PA_SHARE]);
+  put_array(a, version, &path->accel_body_m_s2[i0][0], n, &path_steps[PA_ACCEL]);
+  put_array(a, version, &path->gyro_body_rad_s[i0][0], n, &path_steps[PA_GYRO]);
+  put_flags(a, version, path->flags + i0, n);
 
   /* The uncompressed size goes first so decoding can check it. */
   GBytes *z = arcwise_codec_compress(a->data, a->len, error);
@@ -345,6 +502,12 @@ arcwise_codec_encode_path(const AwFusedPath *path, double t_from_s, double t_to_
   g_byte_array_unref(a);
   g_bytes_unref(z);
   return g_byte_array_free_to_bytes(blob);
+}
+
+GBytes *
+arcwise_codec_encode_path(const AwFusedPath *path, double t_from_s, double t_to_s, GError **error)
+{
+  return arcwise_codec_encode_path_version(path, t_from_s, t_to_s, PATH_VERSION, error);
 }
 
 AwFusedPath *
@@ -367,7 +530,8 @@ arcwise_codec_decode_path(GBytes *blob, GError **error)
 
   Reader r = { g_bytes_get_data(raw, NULL), g_bytes_get_size(raw), FALSE };
   const guint8 *magic = take(&r, 4);
-  if (magic == NULL || memcmp(magic, PATH_MAGIC, 4) != 0 || get_u32(&r) != PATH_VERSION) {
+  guint32 version = get_u32(&r);
+  if (magic == NULL || memcmp(magic, PATH_MAGIC, 4) != 0 || version < 1 || version > PATH_VERSION) {
     g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_CORRUPT,
                 "stored fused path has an unknown format");
     return NULL;
@@ -375,8 +539,9 @@ arcwise_codec_decode_path(GBytes *blob, GError **error)
   guint64 n = get_u64(&r);
   guint32 report_len = get_u32(&r);
   const guint8 *report = take(&r, report_len);
-  /* Every row takes 21 doubles and one u32 (172 bytes): reject a count the data cannot hold. */
-  if (r.bad || n > r.left / 172) {
+  /* Reject a count the data cannot hold before allocating: a row takes 21 doubles and one u32
+   * (172 bytes) in version 1, at least one byte per value (22) in version 2. */
+  if (r.bad || n > r.left / (version >= 2 ? 22 : 172)) {
     g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_CORRUPT,
                 "stored fused path is truncated");
     return NULL;
@@ -388,21 +553,30 @@ arcwise_codec_decode_path(GBytes *blob, GError **error)
   }
   g_autofree char *report_text = g_strndup((const char *)report, report_len);
   report_from_text(report_text, &p->report);
-  get_shuffled(&r, p->t_s, n, 8);
-  get_shuffled(&r, p->pos_cam_m, 3 * n, 8);
-  get_shuffled(&r, p->vel_cam_m_s, 3 * n, 8);
-  get_shuffled(&r, p->q_cam_body, 4 * n, 8);
-  get_shuffled(&r, p->pos_sigma_cam_m, 3 * n, 8);
-  get_shuffled(&r, p->cam_info_share, n, 8);
-  get_shuffled(&r, p->accel_body_m_s2, 3 * n, 8);
-  get_shuffled(&r, p->gyro_body_rad_s, 3 * n, 8);
-  get_shuffled(&r, p->flags, n, 4);
+  get_array(&r, version, p->t_s, n, &path_steps[PA_T]);
+  get_array(&r, version, &p->pos_cam_m[0][0], n, &path_steps[PA_POS]);
+  get_array(&r, version, &p->vel_cam_m_s[0][0], n, &path_steps[PA_VEL]);
+  get_array(&r, version, &p->q_cam_body[0][0], n, &path_steps[PA_Q]);
+  get_array(&r, version, &p->pos_sigma_cam_m[0][0], n, &path_steps[PA_SIGMA]);
+  get_array(&r, version, p->cam_info_share, n, &path_steps[PA_SHARE]);
+  get_array(&r, version, &p->accel_body_m_s2[0][0], n, &path_steps[PA_ACCEL]);
+  get_array(&r, version, &p->gyro_body_rad_s[0][0], n, &path_steps[PA_GYRO]);
+  get_flags(&r, version, p->flags, n);
   if (r.bad || r.left != 0) {
     aw_fused_path_free(p);
     g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_CORRUPT,
                 "stored fused path has the wrong size");
     return NULL;
   }
+  /* Rounded components leave a quaternion off unit length by ~1e-8: make it a rotation again. */
+  if (version >= 2)
+    for (gsize i = 0; i < n; i++) {
+      double *q = p->q_cam_body[i];
+      double norm = sqrt(q[0] * q[0] + q[1] * q[1] + q[2] * q[2] + q[3] * q[3]);
+      if (norm > 0.5 && norm < 2.0)
+        for (int k = 0; k < 4; k++)
+          q[k] /= norm;
+    }
   return p;
 }
 

@@ -39,6 +39,16 @@ kv(GString *s, const char *key, double v)
   g_string_append_printf(s, "%s=%s\n", key, g_ascii_formatd(num, sizeof num, "%.17g", v));
 }
 
+/* The settings named in the text, in the order of earlier versions (the text's hash is the
+ * identity of stored results, so the names and order must not change). */
+#define FUSION_SCALARS(X)                                                                   \
+  X(accel_noise_density_m_s2_rthz) X(gyro_noise_density_rad_s_rthz)                         \
+  X(accel_bias_walk_m_s3_rthz) X(gyro_bias_walk_rad_s2_rthz) X(cam_sigma_xy_m)              \
+  X(cam_sigma_z_coeff_per_m) X(gate_chi2) X(latitude_rad)
+#define ANALYSIS_SCALARS(X)                                                                 \
+  X(still_speed_m_s) X(still_min_s) X(full_top_rise_m) X(min_top_rise_m)                    \
+  X(min_peak_speed_m_s) X(impact_snr)
+
 char *
 arcwise_store_current_settings(void)
 {
@@ -51,14 +61,9 @@ arcwise_store_current_settings(void)
 #if ARCWISE_HAVE_FUSION
   AwFusionSettings f;
   aw_fusion_settings_default(&f);
-  kv(s, "fusion.accel_noise_density_m_s2_rthz", f.accel_noise_density_m_s2_rthz);
-  kv(s, "fusion.gyro_noise_density_rad_s_rthz", f.gyro_noise_density_rad_s_rthz);
-  kv(s, "fusion.accel_bias_walk_m_s3_rthz", f.accel_bias_walk_m_s3_rthz);
-  kv(s, "fusion.gyro_bias_walk_rad_s2_rthz", f.gyro_bias_walk_rad_s2_rthz);
-  kv(s, "fusion.cam_sigma_xy_m", f.cam_sigma_xy_m);
-  kv(s, "fusion.cam_sigma_z_coeff_per_m", f.cam_sigma_z_coeff_per_m);
-  kv(s, "fusion.gate_chi2", f.gate_chi2);
-  kv(s, "fusion.latitude_rad", f.latitude_rad);
+#define FUSION_KV(field) kv(s, "fusion." #field, f.field);
+  FUSION_SCALARS(FUSION_KV)
+#undef FUSION_KV
   for (int k = 0; k < 3; k++) {
     char key[64];
     g_snprintf(key, sizeof key, "fusion.lever_arm_body_m.%d", k);
@@ -80,12 +85,9 @@ arcwise_store_current_settings(void)
 #if ARCWISE_HAVE_ANALYSIS
   AwAnalysisSettings a;
   aw_analysis_settings_default(&a);
-  kv(s, "analysis.still_speed_m_s", a.still_speed_m_s);
-  kv(s, "analysis.still_min_s", a.still_min_s);
-  kv(s, "analysis.full_top_rise_m", a.full_top_rise_m);
-  kv(s, "analysis.min_top_rise_m", a.min_top_rise_m);
-  kv(s, "analysis.min_peak_speed_m_s", a.min_peak_speed_m_s);
-  kv(s, "analysis.impact_snr", a.impact_snr);
+#define ANALYSIS_KV(field) kv(s, "analysis." #field, a.field);
+  ANALYSIS_SCALARS(ANALYSIS_KV)
+#undef ANALYSIS_KV
   AwAnalysisSettings az;
   memset(&az, 0, sizeof az);
   aw_analysis_settings_default(&az);
@@ -625,11 +627,13 @@ arcwise_store_import(ArcwiseStore *store, const ArcwiseImportTarget *target, GPt
 
 /* ---- Async import ----------------------------------------------------------------------- */
 
+/* The data of a background import or re-analysis (reanalyse_all: which swings). */
 typedef struct {
   char *library_path;
   ArcwiseImportTarget target;
   char *player_name, *session_date, *session_place, *club_kind;
   GPtrArray *pairs;
+  gboolean reanalyse_all;
   ArcwiseProgressFunc progress;
   gpointer progress_data;
   GDestroyNotify progress_data_free;
@@ -645,7 +649,8 @@ import_task_data_clear(gpointer data)
   g_free(d->session_date);
   g_free(d->session_place);
   g_free(d->club_kind);
-  g_ptr_array_unref(d->pairs);
+  if (d->pairs != NULL)
+    g_ptr_array_unref(d->pairs);
   if (d->progress_data_free != NULL)
     d->progress_data_free(d->progress_data);
   g_main_context_unref(d->context);
@@ -869,4 +874,59 @@ arcwise_store_reanalyse(ArcwiseStore *store, gboolean all, GCancellable *cancell
   if (g_cancellable_set_error_if_cancelled(cancellable, error))
     return -1;
   return updated;
+}
+
+/* ---- Background re-analysis ------------------------------------------------------------ */
+
+static void
+reanalyse_thread(GTask *task, gpointer source, gpointer task_data, GCancellable *cancellable)
+{
+  ImportTaskData *d = task_data;
+  GError *error = NULL;
+  g_autoptr(ArcwiseStore) store = arcwise_store_open(d->library_path, ARCWISE_STORE_OPEN_DEFAULT,
+                                                     &error);
+  if (store == NULL) {
+    g_task_return_error(task, error);
+    return;
+  }
+  gint n = arcwise_store_reanalyse(store, d->reanalyse_all, cancellable, progress_forward, d,
+                                   &error);
+  if (n < 0)
+    g_task_return_error(task, error);
+  else
+    g_task_return_int(task, n);
+}
+
+void
+arcwise_store_reanalyse_async(const char *library_path, gboolean all, GCancellable *cancellable,
+                              ArcwiseProgressFunc progress, gpointer progress_data,
+                              GDestroyNotify progress_data_free, GAsyncReadyCallback callback,
+                              gpointer user_data)
+{
+  ImportTaskData *d = g_rc_box_new0(ImportTaskData);
+  d->library_path = g_strdup(library_path);
+  d->reanalyse_all = all;
+  d->progress = progress;
+  d->progress_data = progress_data;
+  d->progress_data_free = progress_data_free;
+  d->context = g_main_context_ref_thread_default();
+  GTask *task = g_task_new(NULL, cancellable, callback, user_data);
+  static const int reanalyse_tag;
+  g_task_set_source_tag(task, (gpointer)&reanalyse_tag);
+  g_task_set_task_data(task, d, import_task_data_release);
+  g_task_run_in_thread(task, reanalyse_thread);
+  g_object_unref(task);
+}
+
+gint
+arcwise_store_reanalyse_finish(GAsyncResult *result, GError **error)
+{
+  g_return_val_if_fail(g_task_is_valid(result, NULL), -1);
+  GError *e = NULL;
+  gssize n = g_task_propagate_int(G_TASK(result), &e);
+  if (e != NULL) {
+    g_propagate_error(error, e);
+    return -1;
+  }
+  return (gint)n;
 }

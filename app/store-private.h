@@ -19,10 +19,18 @@ GBytes *arcwise_codec_decompress(GBytes *z, gsize expected_len, GError **error);
 void arcwise_codec_sha256_hex(const void *data, gsize len, char out[65]);
 
 /* A fused path (or the part of it in [t_from_s, t_to_s]) as a self-describing little-endian
- * record, byte-plane shuffled per array so that zlib finds the slowly varying high bytes, then
- * compressed. Lossless: decode(encode(p)) is bit-identical to p. */
+ * record, compressed (layout in store-codec.c). It is a cache that re-analysis recomputes from
+ * the raw streams, so each double array is kept to a fixed step far below what the sensors
+ * resolve: decode(encode(p)) is within half a step of p per value
+ * (arcwise_codec_path_step(array), arrays in record order t, pos, vel, q, sigma, share, accel,
+ * gyro; a quaternion is renormalised), flags exact; an array with a non-finite or huge value is
+ * kept bit-exact. Older records (version 1, all bit-exact) still decode. */
 GBytes *arcwise_codec_encode_path(const AwFusedPath *path, double t_from_s, double t_to_s,
                                   GError **error);
+/* The same in a given record version (1 or 2): for the tests of older records. */
+GBytes *arcwise_codec_encode_path_version(const AwFusedPath *path, double t_from_s,
+                                          double t_to_s, guint version, GError **error);
+double arcwise_codec_path_step(int array);
 AwFusedPath *arcwise_codec_decode_path(GBytes *blob, GError **error);
 
 /* The engine's AwSwing as "key=value" lines (17 significant digits: exact for doubles), and
@@ -102,12 +110,8 @@ gboolean arcwise_store_replace_results(ArcwiseStore *store, const ArcwisePrepare
 gboolean arcwise_store_add_journal(ArcwiseStore *store, const char *kind, const char *detail,
                                    GError **error);
 
-/* integrity_check and foreign_key_check only (arcwise_store_check also decodes every blob). */
-gboolean arcwise_store_check_database(ArcwiseStore *store, GError **error);
-
 /* Migration hooks for the tests: open without migrating, migrate up to `version`. */
 ArcwiseStore *arcwise_store_open_at_version(const char *path, int version, GError **error);
-int arcwise_store_get_schema_version(ArcwiseStore *store);
 /* Migrates an open library up to `version` (one transaction per step). */
 gboolean arcwise_store_migrate_to(ArcwiseStore *store, int version, GError **error);
 /* Runs one constant SQL script (tests and the benchmark only; never built from strings). */

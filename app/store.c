@@ -9,6 +9,8 @@
 #include <math.h>
 #include <sqlite3.h>
 #include <string.h>
+#include <sys/resource.h>
+#include <sys/statvfs.h>
 
 /* "ArcW" in PRAGMA application_id marks a file as an Arcwise library. */
 #define ARCWISE_APPLICATION_ID 0x41726357
@@ -163,6 +165,38 @@ static const char *const migrations[ARCWISE_STORE_SCHEMA_VERSION] = {
 
 /* ---- Errors and statements --------------------------------------------------------------- */
 
+/* Whether a failed write ran out of space. The errno SQLite keeps is not reliable after a
+ * short write (it is often 0 by the time the error comes back), so ask the file system too:
+ * less than 1 MiB left for this user, or the library or its WAL at the file-size limit
+ * (RLIMIT_FSIZE, `ulimit -f`) within one 64 KiB write. */
+static gboolean
+out_of_space(const char *path, int sys)
+{
+  if (sys == ENOSPC || sys == EFBIG
+#ifdef EDQUOT
+      || sys == EDQUOT
+#endif
+  )
+    return TRUE;
+  if (g_strcmp0(path, ":memory:") == 0)
+    return FALSE;
+  g_autofree char *dir = g_path_get_dirname(path);
+  struct statvfs vfs;
+  if (statvfs(dir, &vfs) == 0 && (guint64)vfs.f_bavail * vfs.f_frsize < 1024 * 1024)
+    return TRUE;
+  struct rlimit lim;
+  if (getrlimit(RLIMIT_FSIZE, &lim) == 0 && lim.rlim_cur != RLIM_INFINITY) {
+    g_autofree char *wal = g_strconcat(path, "-wal", NULL);
+    const char *files[] = { path, wal };
+    for (gsize i = 0; i < G_N_ELEMENTS(files); i++) {
+      GStatBuf st;
+      if (g_stat(files[i], &st) == 0 && (guint64)st.st_size + 65536 >= (guint64)lim.rlim_cur)
+        return TRUE;
+    }
+  }
+  return FALSE;
+}
+
 static gboolean
 sql_fail(ArcwiseStore *s, GError **error, const char *what)
 {
@@ -180,9 +214,19 @@ sql_fail(ArcwiseStore *s, GError **error, const char *what)
   else if (primary == SQLITE_CONSTRAINT)
     e = ARCWISE_STORE_ERROR_INVALID;
   /* "disk I/O error" alone does not tell a full disk from a failing one: add what the system
-   * said (No space left on device, File too large, ...). */
+   * said (No space left on device, File too large, ...). A full disk gets words of its own:
+   * SQLite says SQLITE_FULL for ENOSPC, but a write stopped by a quota (EDQUOT) or the file-size
+   * limit (EFBIG, `ulimit -f`) comes back as a plain write error. */
   int sys = sqlite3_system_errno(s->db);
-  if ((primary == SQLITE_IOERR || primary == SQLITE_FULL || primary == SQLITE_CANTOPEN) && sys != 0)
+  if (primary == SQLITE_FULL || (primary == SQLITE_IOERR && out_of_space(s->path, sys))) {
+    g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_FULL,
+                "%s: %s: the disk is full%s%s%s; nothing was written and the library is as it "
+                "was. Free some space (or move the library) and try again.",
+                s->path, what, sys != 0 ? " (" : "", sys != 0 ? g_strerror(sys) : "",
+                sys != 0 ? ")" : "");
+    return FALSE;
+  }
+  if ((primary == SQLITE_IOERR || primary == SQLITE_CANTOPEN) && sys != 0)
     g_set_error(error, ARCWISE_STORE_ERROR, e, "%s: %s: %s (%s)", s->path, what,
                 sqlite3_errmsg(s->db), g_strerror(sys));
   else
@@ -280,6 +324,47 @@ col_bytes(sqlite3_stmt *st, int i)
   return g_bytes_new(d, (gsize)n);
 }
 
+/* Every list and every fetch by id goes through these two: a row function makes the record. */
+typedef gpointer (*RowFunc)(sqlite3_stmt *st);
+
+/* All rows of a bound statement, or NULL with an error naming `what`. */
+static GPtrArray *
+collect_rows(ArcwiseStore *s, sqlite3_stmt *st, RowFunc row, GDestroyNotify free_func,
+             const char *what, GError **error)
+{
+  GPtrArray *out = g_ptr_array_new_with_free_func(free_func);
+  int rc;
+  while ((rc = sqlite3_step(st)) == SQLITE_ROW)
+    g_ptr_array_add(out, row(st));
+  sqlite3_reset(st);
+  if (rc != SQLITE_DONE) {
+    g_ptr_array_unref(out);
+    sql_fail(s, error, what);
+    return NULL;
+  }
+  return out;
+}
+
+/* The one row of a bound statement; NOT_FOUND ("no KIND ID") when there is none. */
+static gpointer
+fetch_row(ArcwiseStore *s, sqlite3_stmt *st, RowFunc row, const char *kind, gint64 id,
+          GError **error)
+{
+  gpointer r = NULL;
+  int rc = sqlite3_step(st);
+  if (rc == SQLITE_ROW)
+    r = row(st);
+  else if (rc == SQLITE_DONE)
+    g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_NOT_FOUND,
+                "no %s %" G_GINT64_FORMAT, kind, id);
+  else {
+    g_autofree char *what = g_strdup_printf("reading a %s", kind);
+    sql_fail(s, error, what);
+  }
+  sqlite3_reset(st);
+  return r;
+}
+
 static gboolean
 exec_const(ArcwiseStore *s, const char *sql, GError **error, const char *what)
 {
@@ -363,6 +448,12 @@ arcwise_store_chosen_path(void)
   if (env != NULL && env[0] != '\0')
     return g_strdup(env);
   return arcwise_store_default_path();
+}
+
+gboolean
+arcwise_store_is_readonly(ArcwiseStore *store)
+{
+  return store->readonly;
 }
 
 const char *
@@ -455,6 +546,19 @@ open_connection(const char *path, ArcwiseStoreOpenFlags flags, int target_versio
 {
   gboolean readonly = (flags & ARCWISE_STORE_OPEN_READONLY) != 0;
   gboolean memory = g_strcmp0(path, ":memory:") == 0;
+  if (!readonly && (flags & ARCWISE_STORE_OPEN_FALLBACK_READONLY)) {
+    /* Read-write if we may; a library from a newer program only read-only (and said so). */
+    GError *e = NULL;
+    ArcwiseStore *s = open_connection(path, flags & ~ARCWISE_STORE_OPEN_FALLBACK_READONLY,
+                                      target_version, &e);
+    if (s != NULL || !g_error_matches(e, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_TOO_NEW)) {
+      if (e != NULL)
+        g_propagate_error(error, e);
+      return s;
+    }
+    g_error_free(e);
+    return open_connection(path, ARCWISE_STORE_OPEN_READONLY, target_version, error);
+  }
   if (!memory && !(flags & ARCWISE_STORE_OPEN_CREATE) && !g_file_test(path, G_FILE_TEST_EXISTS)) {
     g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_NOT_FOUND,
                 "%s: no such library (create it with 'arcwise library create')", path);
@@ -465,12 +569,16 @@ open_connection(const char *path, ArcwiseStoreOpenFlags flags, int target_versio
   s->readonly = readonly;
   s->stmts = g_hash_table_new_full(g_direct_hash, g_direct_equal, NULL,
                                    finalize_stmt);
-  int oflags = SQLITE_OPEN_NOMUTEX | SQLITE_OPEN_EXRESCODE;
+  /* URI file names are on so that a player export can attach its source read-only
+   * ("file:...?mode=ro"); a plain path that happens to begin with "file:" stays a path. */
+  g_autofree char *open_path = g_str_has_prefix(path, "file:")
+                                 ? g_build_filename(".", path, NULL) : g_strdup(path);
+  int oflags = SQLITE_OPEN_NOMUTEX | SQLITE_OPEN_EXRESCODE | SQLITE_OPEN_URI;
   if (readonly)
     oflags |= SQLITE_OPEN_READONLY;
   else
     oflags |= SQLITE_OPEN_READWRITE | ((flags & ARCWISE_STORE_OPEN_CREATE) ? SQLITE_OPEN_CREATE : 0);
-  if (sqlite3_open_v2(path, &s->db, oflags, NULL) != SQLITE_OK) {
+  if (sqlite3_open_v2(open_path, &s->db, oflags, NULL) != SQLITE_OK) {
     g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_FAILED, "%s: cannot open: %s",
                 path, s->db != NULL ? sqlite3_errmsg(s->db) : "out of memory");
     arcwise_store_close(s);
@@ -993,7 +1101,7 @@ arcwise_store_update_player(ArcwiseStore *store, const ArcwisePlayer *p, GError 
   "(SELECT count(*) FROM swing sw JOIN session se ON se.id = sw.session_id "               \
   " WHERE se.player_id = p.id) FROM player p "
 
-static ArcwisePlayer *
+static gpointer
 player_from_row(sqlite3_stmt *st)
 {
   ArcwisePlayer *p = g_new0(ArcwisePlayer, 1);
@@ -1012,19 +1120,9 @@ GPtrArray *
 arcwise_store_list_players(ArcwiseStore *store, GError **error)
 {
   sqlite3_stmt *st = stmt(store, PLAYER_COLUMNS "ORDER BY p.name", error);
-  if (st == NULL)
-    return NULL;
-  GPtrArray *out = g_ptr_array_new_with_free_func((GDestroyNotify)arcwise_player_free);
-  int rc;
-  while ((rc = sqlite3_step(st)) == SQLITE_ROW)
-    g_ptr_array_add(out, player_from_row(st));
-  sqlite3_reset(st);
-  if (rc != SQLITE_DONE) {
-    g_ptr_array_unref(out);
-    sql_fail(store, error, "listing players");
-    return NULL;
-  }
-  return out;
+  return st == NULL ? NULL : collect_rows(store, st, player_from_row,
+                                          (GDestroyNotify)arcwise_player_free,
+                                          "listing players", error);
 }
 
 ArcwisePlayer *
@@ -1034,17 +1132,7 @@ arcwise_store_get_player(ArcwiseStore *store, gint64 id, GError **error)
   if (st == NULL)
     return NULL;
   sqlite3_bind_int64(st, 1, id);
-  ArcwisePlayer *p = NULL;
-  int rc = sqlite3_step(st);
-  if (rc == SQLITE_ROW)
-    p = player_from_row(st);
-  else if (rc == SQLITE_DONE)
-    g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_NOT_FOUND,
-                "no player %" G_GINT64_FORMAT, id);
-  else
-    sql_fail(store, error, "reading a player");
-  sqlite3_reset(st);
-  return p;
+  return fetch_row(store, st, player_from_row, "player", id, error);
 }
 
 gint64
@@ -1109,29 +1197,24 @@ arcwise_store_ensure_club(ArcwiseStore *store, const char *kind, double length_m
   return finish_write(store, id != 0, error) ? id : 0;
 }
 
+static gpointer
+club_from_row(sqlite3_stmt *st)
+{
+  ArcwiseClub *c = g_new0(ArcwiseClub, 1);
+  c->id = sqlite3_column_int64(st, 0);
+  c->kind = col_text0(st, 1);
+  c->length_m = col_real(st, 2);
+  return c;
+}
+
 GPtrArray *
 arcwise_store_list_clubs(ArcwiseStore *store, GError **error)
 {
   sqlite3_stmt *st = stmt(store, "SELECT id, kind, length_m FROM club ORDER BY kind, length_m",
                           error);
-  if (st == NULL)
-    return NULL;
-  GPtrArray *out = g_ptr_array_new_with_free_func((GDestroyNotify)arcwise_club_free);
-  int rc;
-  while ((rc = sqlite3_step(st)) == SQLITE_ROW) {
-    ArcwiseClub *c = g_new0(ArcwiseClub, 1);
-    c->id = sqlite3_column_int64(st, 0);
-    c->kind = col_text0(st, 1);
-    c->length_m = col_real(st, 2);
-    g_ptr_array_add(out, c);
-  }
-  sqlite3_reset(st);
-  if (rc != SQLITE_DONE) {
-    g_ptr_array_unref(out);
-    sql_fail(store, error, "listing clubs");
-    return NULL;
-  }
-  return out;
+  return st == NULL ? NULL : collect_rows(store, st, club_from_row,
+                                          (GDestroyNotify)arcwise_club_free, "listing clubs",
+                                          error);
 }
 
 static gint64
@@ -1189,7 +1272,7 @@ arcwise_store_add_session(ArcwiseStore *store, gint64 player_id, const char *dat
   "SELECT se.id, se.player_id, se.date, se.place, se.notes, "                              \
   "(SELECT count(*) FROM swing sw WHERE sw.session_id = se.id) FROM session se "
 
-static ArcwiseSession *
+static gpointer
 session_from_row(sqlite3_stmt *st)
 {
   ArcwiseSession *s = g_new0(ArcwiseSession, 1);
@@ -1210,17 +1293,8 @@ arcwise_store_list_sessions(ArcwiseStore *store, gint64 player_id, GError **erro
   if (st == NULL)
     return NULL;
   sqlite3_bind_int64(st, 1, player_id);
-  GPtrArray *out = g_ptr_array_new_with_free_func((GDestroyNotify)arcwise_session_free);
-  int rc;
-  while ((rc = sqlite3_step(st)) == SQLITE_ROW)
-    g_ptr_array_add(out, session_from_row(st));
-  sqlite3_reset(st);
-  if (rc != SQLITE_DONE) {
-    g_ptr_array_unref(out);
-    sql_fail(store, error, "listing sessions");
-    return NULL;
-  }
-  return out;
+  return collect_rows(store, st, session_from_row, (GDestroyNotify)arcwise_session_free,
+                      "listing sessions", error);
 }
 
 ArcwiseSession *
@@ -1230,17 +1304,7 @@ arcwise_store_get_session(ArcwiseStore *store, gint64 id, GError **error)
   if (st == NULL)
     return NULL;
   sqlite3_bind_int64(st, 1, id);
-  ArcwiseSession *s = NULL;
-  int rc = sqlite3_step(st);
-  if (rc == SQLITE_ROW)
-    s = session_from_row(st);
-  else if (rc == SQLITE_DONE)
-    g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_NOT_FOUND,
-                "no session %" G_GINT64_FORMAT, id);
-  else
-    sql_fail(store, error, "reading a session");
-  sqlite3_reset(st);
-  return s;
+  return fetch_row(store, st, session_from_row, "session", id, error);
 }
 
 /* ---- Swings --------------------------------------------------------------------------------- */
@@ -1290,7 +1354,7 @@ cmp_str(gconstpointer a, gconstpointer b)
   return strcmp(*(char *const *)a, *(char *const *)b);
 }
 
-static ArcwiseSwingSummary *
+static gpointer
 swing_from_row(sqlite3_stmt *st)
 {
   ArcwiseSwingSummary *s = g_new0(ArcwiseSwingSummary, 1);
@@ -1361,17 +1425,8 @@ arcwise_store_list_swings(ArcwiseStore *store, const ArcwiseSwingFilter *f, GErr
   sqlite3_bind_int(st, 11, f->reference_only ? 1 : 0);
   sqlite3_bind_int64(st, 12, f->limit > 0 ? (gint64)f->limit : -1);
   bind_current_engine(st);
-  GPtrArray *out = g_ptr_array_new_with_free_func((GDestroyNotify)arcwise_swing_summary_free);
-  int rc;
-  while ((rc = sqlite3_step(st)) == SQLITE_ROW)
-    g_ptr_array_add(out, swing_from_row(st));
-  sqlite3_reset(st);
-  if (rc != SQLITE_DONE) {
-    g_ptr_array_unref(out);
-    sql_fail(store, error, "listing swings");
-    return NULL;
-  }
-  return out;
+  return collect_rows(store, st, swing_from_row, (GDestroyNotify)arcwise_swing_summary_free,
+                      "listing swings", error);
 }
 
 ArcwiseSwingSummary *
@@ -1382,17 +1437,7 @@ arcwise_store_get_swing(ArcwiseStore *store, gint64 swing_id, GError **error)
     return NULL;
   sqlite3_bind_int64(st, 1, swing_id);
   bind_current_engine(st);
-  ArcwiseSwingSummary *s = NULL;
-  int rc = sqlite3_step(st);
-  if (rc == SQLITE_ROW)
-    s = swing_from_row(st);
-  else if (rc == SQLITE_DONE)
-    g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_NOT_FOUND,
-                "no swing %" G_GINT64_FORMAT, swing_id);
-  else
-    sql_fail(store, error, "reading a swing");
-  sqlite3_reset(st);
-  return s;
+  return fetch_row(store, st, swing_from_row, "swing", swing_id, error);
 }
 
 ArcwiseSwingDetail *
@@ -1684,30 +1729,25 @@ arcwise_store_add_journal(ArcwiseStore *store, const char *kind, const char *det
   return finish_write(store, insert_journal(store, kind, detail, error), error);
 }
 
+static gpointer
+journal_from_row(sqlite3_stmt *st)
+{
+  ArcwiseJournalEntry *e = g_new0(ArcwiseJournalEntry, 1);
+  e->id = sqlite3_column_int64(st, 0);
+  e->when_utc = col_text0(st, 1);
+  e->kind = col_text0(st, 2);
+  e->detail = col_text0(st, 3);
+  return e;
+}
+
 GPtrArray *
 arcwise_store_list_journal(ArcwiseStore *store, GError **error)
 {
   sqlite3_stmt *st = stmt(store, "SELECT id, when_utc, kind, detail FROM journal ORDER BY id",
                           error);
-  if (st == NULL)
-    return NULL;
-  GPtrArray *out = g_ptr_array_new_with_free_func((GDestroyNotify)arcwise_journal_entry_free);
-  int rc;
-  while ((rc = sqlite3_step(st)) == SQLITE_ROW) {
-    ArcwiseJournalEntry *e = g_new0(ArcwiseJournalEntry, 1);
-    e->id = sqlite3_column_int64(st, 0);
-    e->when_utc = col_text0(st, 1);
-    e->kind = col_text0(st, 2);
-    e->detail = col_text0(st, 3);
-    g_ptr_array_add(out, e);
-  }
-  sqlite3_reset(st);
-  if (rc != SQLITE_DONE) {
-    g_ptr_array_unref(out);
-    sql_fail(store, error, "reading the journal");
-    return NULL;
-  }
-  return out;
+  return st == NULL ? NULL : collect_rows(store, st, journal_from_row,
+                                          (GDestroyNotify)arcwise_journal_entry_free,
+                                          "reading the journal", error);
 }
 
 /* ---- Import: the writer ------------------------------------------------------------------ */
@@ -2044,30 +2084,62 @@ detach(ArcwiseStore *s)
   sqlite3_exec(s->db, "DETACH DATABASE xfer", NULL, NULL, NULL);
 }
 
+/* The export runs on the new file's own connection ("main") with the library attached
+ * read-only as "src": it never writes to the library, so it works on one opened read-only (a
+ * library from a newer program) too. Columns are named, not "*": a newer library may have
+ * more, and the export file has this program's format. Later steps select through the rows
+ * already copied, so every row belongs to the player. */
+#define PLAYER_COLS "id, name, handedness, lead_wrist, height_m, notes"
+#define SESSION_COLS "id, player_id, date, place, notes"
+#define CLUB_COLS "id, kind, length_m"
+#define RECORDING_COLS                                                                     \
+  "id, content_sha256, imu_name, imu_size, imu_sha256, depth_name, depth_size, depth_sha256, " \
+  "imported_utc"
+#define RECORDING_DATA_COLS "recording_id, encoding, imu, depth"
+#define SWING_COLS                                                                         \
+  "id, session_id, recording_id, club_id, index_in_recording, span_start_s, span_end_s, "    \
+  "notes, rating, is_reference"
+#define RESULT_COLS                                                                        \
+  "swing_id, engine_version, settings_sha256, made_utc, analysed, tempo_ratio, backswing_s, " \
+  "downswing_s, peak_hand_speed_m_s, club_speed_impact_m_s"
+
 static const char *const export_sql[] = {
-  "INSERT INTO xfer.player SELECT * FROM main.player WHERE id = ?1",
-  "INSERT INTO xfer.session SELECT * FROM main.session WHERE player_id = ?1",
-  "INSERT INTO xfer.club SELECT * FROM main.club WHERE id IN (SELECT s.club_id FROM main.swing s "
-  "JOIN main.session se ON se.id = s.session_id WHERE se.player_id = ?1)",
-  "INSERT INTO xfer.recording SELECT * FROM main.recording WHERE id IN (SELECT s.recording_id "
-  "FROM main.swing s JOIN main.session se ON se.id = s.session_id WHERE se.player_id = ?1)",
-  "INSERT INTO xfer.recording_data SELECT * FROM main.recording_data WHERE recording_id IN "
-  "(SELECT id FROM xfer.recording)",
-  "INSERT INTO xfer.swing SELECT s.* FROM main.swing s JOIN main.session se "
-  "ON se.id = s.session_id WHERE se.player_id = ?1",
-  "INSERT INTO xfer.swing_tag SELECT * FROM main.swing_tag WHERE swing_id IN "
-  "(SELECT id FROM xfer.swing)",
-  "INSERT INTO xfer.swing_result SELECT * FROM main.swing_result WHERE swing_id IN "
-  "(SELECT id FROM xfer.swing)",
-  "INSERT INTO xfer.result_settings SELECT * FROM main.result_settings WHERE settings_sha256 IN "
-  "(SELECT settings_sha256 FROM xfer.swing_result)",
-  "INSERT INTO xfer.swing_result_data SELECT * FROM main.swing_result_data WHERE swing_id IN "
-  "(SELECT id FROM xfer.swing)",
-  "INSERT INTO xfer.swing_event SELECT * FROM main.swing_event WHERE swing_id IN "
-  "(SELECT id FROM xfer.swing)",
-  "INSERT INTO xfer.swing_metric SELECT * FROM main.swing_metric WHERE swing_id IN "
-  "(SELECT id FROM xfer.swing)",
+  "INSERT INTO main.player (" PLAYER_COLS ") SELECT " PLAYER_COLS " FROM src.player "
+  "WHERE id = ?1",
+  "INSERT INTO main.session (" SESSION_COLS ") SELECT " SESSION_COLS " FROM src.session "
+  "WHERE player_id = ?1",
+  "INSERT INTO main.club (" CLUB_COLS ") SELECT " CLUB_COLS " FROM src.club WHERE id IN "
+  "(SELECT club_id FROM src.swing WHERE session_id IN (SELECT id FROM main.session))",
+  "INSERT INTO main.recording (" RECORDING_COLS ") SELECT " RECORDING_COLS " FROM src.recording "
+  "WHERE id IN (SELECT recording_id FROM src.swing WHERE session_id IN "
+  "(SELECT id FROM main.session))",
+  "INSERT INTO main.recording_data (" RECORDING_DATA_COLS ") SELECT " RECORDING_DATA_COLS
+  " FROM src.recording_data WHERE recording_id IN (SELECT id FROM main.recording)",
+  "INSERT INTO main.swing (" SWING_COLS ") SELECT " SWING_COLS " FROM src.swing "
+  "WHERE session_id IN (SELECT id FROM main.session)",
+  "INSERT INTO main.swing_tag (swing_id, tag) SELECT swing_id, tag FROM src.swing_tag "
+  "WHERE swing_id IN (SELECT id FROM main.swing)",
+  "INSERT INTO main.swing_result (" RESULT_COLS ") SELECT " RESULT_COLS " FROM src.swing_result "
+  "WHERE swing_id IN (SELECT id FROM main.swing)",
+  "INSERT INTO main.result_settings (settings_sha256, settings) SELECT settings_sha256, settings "
+  "FROM src.result_settings WHERE settings_sha256 IN (SELECT settings_sha256 FROM "
+  "main.swing_result)",
+  "INSERT INTO main.swing_result_data (swing_id, path, swing) SELECT swing_id, path, swing "
+  "FROM src.swing_result_data WHERE swing_id IN (SELECT swing_id FROM main.swing_result)",
+  "INSERT INTO main.swing_event (swing_id, name, t_s) SELECT swing_id, name, t_s "
+  "FROM src.swing_event WHERE swing_id IN (SELECT swing_id FROM main.swing_result)",
+  "INSERT INTO main.swing_metric (swing_id, name, unit, value) SELECT swing_id, name, unit, value "
+  "FROM src.swing_metric WHERE swing_id IN (SELECT swing_id FROM main.swing_result)",
 };
+
+/* "file:/abs/path?mode=ro": SQLite's URI for opening the library read-only from an ATTACH. */
+static char *
+readonly_uri(const char *path)
+{
+  g_autofree char *abs = g_canonicalize_filename(path, NULL);
+  g_autofree char *esc = g_uri_escape_string(abs, "/", FALSE);
+  return g_strconcat("file:", esc, "?mode=ro", NULL);
+}
 
 gboolean
 arcwise_store_export_player(ArcwiseStore *store, gint64 player_id, const char *dest_path,
@@ -2090,28 +2162,30 @@ arcwise_store_export_player(ArcwiseStore *store, gint64 player_id, const char *d
                                             player->name, player->n_sessions,
                                             player->n_sessions == 1 ? "" : "s", player->n_swings,
                                             player->n_swings == 1 ? "" : "s", dest_path);
+  sqlite3_stmt *st = NULL;
   if (ok)
-    ok = arcwise_store_add_journal(dst, "export-player", detail, error);
-  arcwise_store_close(dst);
+    ok = (st = stmt(dst, "ATTACH DATABASE ?1 AS src", error)) != NULL;
+  if (ok) {
+    g_autofree char *uri = readonly_uri(store->path);
+    bind_text(st, 1, uri);
+    ok = step_done(dst, st, error, "opening the library to read the player");
+  }
+  /* One transaction on the new file: every read of the library comes from one snapshot. */
   if (ok)
-    ok = attach(store, tmp, error);
-  gboolean attached = ok;
-  if (ok)
-    ok = begin_write(store, error);
+    ok = begin_write(dst, error);
   for (gsize i = 0; ok && i < G_N_ELEMENTS(export_sql); i++) {
-    sqlite3_stmt *st = stmt(store, export_sql[i], error);
-    ok = st != NULL;
+    ok = (st = stmt(dst, export_sql[i], error)) != NULL;
     if (ok) {
       if (sqlite3_bind_parameter_count(st) > 0)
         sqlite3_bind_int64(st, 1, player_id);
-      ok = step_done(store, st, error, "copying the player's history");
+      ok = step_done(dst, st, error, "copying the player's history");
     }
   }
   if (ok)
-    ok = insert_journal(store, "export-player", detail, error);
-  ok = finish_write(store, ok, error);
-  if (attached)
-    detach(store);
+    ok = insert_journal(dst, "export-player", detail, error);
+  if (dst != NULL)
+    ok = finish_write(dst, ok, error);
+  arcwise_store_close(dst); /* finalizes its statements, then detaches with the close */
   if (ok && g_rename(tmp, dest_path) != 0) {
     g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_FAILED, "%s: %s", dest_path,
                 g_strerror(errno));
@@ -2121,8 +2195,11 @@ arcwise_store_export_player(ArcwiseStore *store, gint64 player_id, const char *d
     g_unlink(tmp);
     g_autofree char *j = g_strconcat(tmp, "-journal", NULL);
     g_unlink(j);
+    return FALSE;
   }
-  return ok;
+  /* The export is complete; the library's own journal notes it when the library is writable
+   * (a read-only one, like a backup from it, leaves no trace). */
+  return store->readonly || arcwise_store_add_journal(store, "export-player", detail, error);
 }
 
 /* Copies one result (row, data, events, metrics) of xfer swing `src` to main swing `dst`. */

@@ -38,6 +38,8 @@ typedef enum {
   ARCWISE_STORE_ERROR_INVALID,     /* bad argument or bad input file (message names it) */
   ARCWISE_STORE_ERROR_EXISTS,      /* the target file exists, or a unique name is taken */
   ARCWISE_STORE_ERROR_BUSY,        /* another program holds the write lock for too long */
+  ARCWISE_STORE_ERROR_FULL,        /* the disk (or the file-size limit) is full: refused, the
+                                      library is as it was before the write */
 } ArcwiseStoreError;
 
 /* The schema version this program writes (PRAGMA user_version). */
@@ -51,6 +53,9 @@ typedef enum {
   ARCWISE_STORE_OPEN_READONLY = 1 << 1, /* never writes; an older library is read as is only
                                            if no migration is needed, else refused; a newer
                                            one is read (TOO_NEW is for writing only) */
+  ARCWISE_STORE_OPEN_FALLBACK_READONLY = 1 << 2, /* read-write, but a library made by a newer
+                                           program opens read-only instead of being refused;
+                                           arcwise_store_is_readonly() tells which it got */
 } ArcwiseStoreOpenFlags;
 
 /* g_get_user_data_dir()/arcwise/library.sqlite (the folder is not created). Free with g_free. */
@@ -63,6 +68,9 @@ char *arcwise_store_chosen_path(void);
  * is migrated, one transaction per migration step; a newer one is refused (TOO_NEW). */
 ArcwiseStore *arcwise_store_open(const char *path, ArcwiseStoreOpenFlags flags, GError **error);
 void arcwise_store_close(ArcwiseStore *store);
+/* TRUE when every write will be refused: opened READONLY, or FALLBACK_READONLY met a library
+ * made by a newer program (arcwise_store_get_schema_version() > ARCWISE_STORE_SCHEMA_VERSION). */
+gboolean arcwise_store_is_readonly(ArcwiseStore *store);
 G_DEFINE_AUTOPTR_CLEANUP_FUNC(ArcwiseStore, arcwise_store_close)
 
 const char *arcwise_store_get_path(ArcwiseStore *store);
@@ -70,6 +78,11 @@ const char *arcwise_store_get_path(ArcwiseStore *store);
 /* Runs PRAGMA integrity_check and foreign_key_check and decodes every stored blob header.
  * TRUE when all is well; otherwise FALSE with CORRUPT and the first problems in the message. */
 gboolean arcwise_store_check(ArcwiseStore *store, GError **error);
+/* integrity_check and foreign_key_check only: what can be checked of a library from a newer
+ * program, whose blobs may have encodings this one does not know. */
+gboolean arcwise_store_check_database(ArcwiseStore *store, GError **error);
+/* The library's format (PRAGMA user_version); -1 if it cannot be read. */
+int arcwise_store_get_schema_version(ArcwiseStore *store);
 
 /* Copies the whole library to dest_path (must not exist) with the SQLite online backup API;
  * the copy is written beside dest_path and renamed into place when complete. */
@@ -353,6 +366,15 @@ guint arcwise_store_count_stale(ArcwiseStore *store, GError **error);
  * updated, -1 on error. */
 gint arcwise_store_reanalyse(ArcwiseStore *store, gboolean all, GCancellable *cancellable,
                              ArcwiseProgressFunc progress, gpointer user_data, GError **error);
+/* The same in the background (a GTask thread with its own connection to library_path; the
+ * workers as above): the workbench stays responsive and reads the library meanwhile, seeing
+ * each swing's previous result until its new one is committed. progress runs in the main
+ * context current at the call; the finish gives the count or -1. */
+void arcwise_store_reanalyse_async(const char *library_path, gboolean all,
+                                   GCancellable *cancellable, ArcwiseProgressFunc progress,
+                                   gpointer progress_data, GDestroyNotify progress_data_free,
+                                   GAsyncReadyCallback callback, gpointer user_data);
+gint arcwise_store_reanalyse_finish(GAsyncResult *result, GError **error);
 
 /* ---- One player's history as a file ------------------------------------------------------ */
 

@@ -323,11 +323,54 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
     }
   }
   set_cam_signal(&c, NULL);
-  /* Motion check: a still or nearly still recording has nothing to align on. */
-  double m1 = 0, m2 = 0;
-  for (size_t k = 0; k < cam->n; k++)
-    if (!isnan(c.sc[k])) { m1 += c.sc[k]; m2 += c.sc[k] * c.sc[k]; }
-  double sd = sqrt(fmax(0, m2 / (double)n_acc - (m1 / (double)n_acc) * (m1 / (double)n_acc)));
+  /* Motion check, wherever the motion is: the s.d. of the camera's acceleration over windows
+   * of +-1 s. A window above 0.5 m/s^2 (several times the acceleration noise of a still
+   * keypoint) is motion; only frames within 3 s of motion take part in the alignment, so a
+   * swing in a long, mostly still capture is found and the still stretches (noise only on the
+   * camera side) neither dilute the correlation nor cost time. */
+  double sd = 0;
+  {
+    double *c1 = malloc(sizeof *c1 * (cam->n + 1)), *c2 = malloc(sizeof *c2 * (cam->n + 1));
+    size_t *cn = malloc(sizeof *cn * (cam->n + 1));
+    unsigned char *mov = calloc(cam->n ? cam->n : 1, 1);
+    if (!c1 || !c2 || !cn || !mov) {
+      free(c1); free(c2); free(cn); free(mov);
+      free(c.sc); free(c.fb0); free(c.cumb); free(c.pb);
+      return AW_ERR_NO_MEMORY;
+    }
+    c1[0] = c2[0] = 0;
+    cn[0] = 0;
+    for (size_t k = 0; k < cam->n; k++) {
+      bool ok = !isnan(c.sc[k]);
+      c1[k + 1] = c1[k] + (ok ? c.sc[k] : 0);
+      c2[k + 1] = c2[k] + (ok ? c.sc[k] * c.sc[k] : 0);
+      cn[k + 1] = cn[k] + ok;
+    }
+    size_t lo = 0, hi = 0;
+    for (size_t k = 0; k < cam->n; k++) {
+      while (lo < k && cam->t_s[lo] < cam->t_s[k] - 1.0) lo++;
+      if (hi < k) hi = k;
+      while (hi + 1 < cam->n && cam->t_s[hi + 1] <= cam->t_s[k] + 1.0) hi++;
+      size_t m = cn[hi + 1] - cn[lo];
+      if (m < 10) continue;
+      double mu = (c1[hi + 1] - c1[lo]) / (double)m;
+      double s2 = sqrt(fmax(0, (c2[hi + 1] - c2[lo]) / (double)m - mu * mu));
+      if (s2 > sd) sd = s2;
+      mov[k] = s2 >= 0.5;
+    }
+    /* keep frames within 3 s of motion (two sweeps of the distance to the nearest) */
+    double last = -INFINITY;
+    for (size_t k = 0; k < cam->n; k++) {
+      if (mov[k]) last = cam->t_s[k];
+      cn[k] = cam->t_s[k] - last <= 3.0;
+    }
+    last = INFINITY;
+    for (size_t k = cam->n; k-- > 0;) {
+      if (mov[k]) last = cam->t_s[k];
+      if (!cn[k] && !(last - cam->t_s[k] <= 3.0)) c.sc[k] = NAN;
+    }
+    free(c1); free(c2); free(cn); free(mov);
+  }
   if (sd < 0.5) {
     free(c.sc); free(c.fb0); free(c.cumb); free(c.pb);
     return aw_error_set(err, AW_ERR_NO_CORRELATION, "depth", 0, 0,
@@ -354,7 +397,9 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
     double second = -2;
     /* The exact signal costs a dozen IMU look-ups per frame: the first 60 s of frames decide
      * between the candidates (drift over 60 s is below 6 ms); segments refine it below. */
-    double tb_exact = tc0 + 60.0;
+    double ta_motion = tc0;
+    for (size_t k = 0; k < cam->n; k++) if (!isnan(c.sc[k])) { ta_motion = cam->t_s[k]; break; }
+    double tb_exact = ta_motion + 60.0;
     for (int j = 0; j < nc; j++) {
       Peak p2 = search(&c, cand[j] - 0.06, cand[j] + 0.06, 0.02, 0, -INFINITY, tb_exact);
       if (p2.n < 10) continue;

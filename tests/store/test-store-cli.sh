@@ -113,12 +113,24 @@ run 1 "import-player of a capture file" "$exe" library import-player "$tmp/s1/im
 run 0 "journal" "$exe" library list --journal --json --library "$lib"
 json "journal" "[e['kind'] for e in d].count('import')==3 and 'backup' in [e['kind'] for e in d] and 'export-player' in [e['kind'] for e in d]"
 
-# A library from a newer Arcwise: refused with a clear message, not changed.
+# A library from a newer Arcwise: the looking actions work read-only with a note saying so,
+# every write is refused with a clear message, and the file is not changed.
 cp "$tmp/backup.sqlite" "$tmp/newer.sqlite"
 "$py" -c "import sqlite3,sys; c=sqlite3.connect(sys.argv[1]); c.execute('PRAGMA user_version = 42'); c.commit(); c.close()" "$tmp/newer.sqlite"
 before=$(sha256sum "$tmp/newer.sqlite")
-run 1 "newer library refused" "$exe" library list --library "$tmp/newer.sqlite"
-grep -q "newer Arcwise" "$tmp/err" || { echo "FAIL: no clear message for a newer library"; cat "$tmp/err"; fail=1; }
+run 0 "newer library: list" "$exe" library list --json --library "$tmp/newer.sqlite"
+json "newer library: list" "len(d)==4"
+grep -q "newer Arcwise.*read-only" "$tmp/err" || { echo "FAIL: no read-only note for a newer library"; cat "$tmp/err"; fail=1; }
+run 0 "newer library: show" "$exe" library show 1 --library "$tmp/newer.sqlite"
+run 0 "newer library: check" "$exe" library check --library "$tmp/newer.sqlite"
+run 0 "newer library: backup" "$exe" library backup "$tmp/newer-copy.sqlite" --library "$tmp/newer.sqlite"
+run 0 "newer library: export-player" "$exe" library export-player "Pim Arlott" "$tmp/newer-pim.arcwise" --library "$tmp/newer.sqlite"
+run 0 "export from a newer library is sound" "$exe" library check --library "$tmp/newer-pim.arcwise"
+run 1 "newer library: annotate refused" "$exe" library annotate 1 --rating 2 --library "$tmp/newer.sqlite"
+grep -q "newer Arcwise" "$tmp/err" || { echo "FAIL: no clear message for a write to a newer library"; cat "$tmp/err"; fail=1; }
+run 1 "newer library: import refused" "$exe" library import --library "$tmp/newer.sqlite" --player "Pim Arlott" "$tmp/s2/imu.csv" "$tmp/s2/depth.csv"
+run 1 "newer library: import-player refused" "$exe" library import-player "$tmp/newer-pim.arcwise" --library "$tmp/newer.sqlite"
+run 1 "newer library: reanalyse refused" "$exe" library reanalyse --all --library "$tmp/newer.sqlite"
 [ "$(sha256sum "$tmp/newer.sqlite")" = "$before" ] || { echo "FAIL: newer library changed"; fail=1; }
 
 # A malformed capture through the command: refused with file:line:column, library unchanged.

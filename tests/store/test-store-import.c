@@ -156,6 +156,56 @@ on_progress(guint done, guint total, const char *what, gpointer data)
     st->progress_off_thread = TRUE;
 }
 
+/* Background re-analysis: the count, and what a reader in this thread saw meanwhile. */
+typedef struct {
+  GMainLoop *loop;
+  GThread *main_thread;
+  guint progress_calls, last_done, last_total;
+  gboolean progress_off_thread, progress_backwards;
+  gint updated;
+  GError *error;
+  ArcwiseStore *reader;
+  guint reads, reads_missing_result;
+} ReanalyseState;
+
+static void
+on_re_progress(guint done, guint total, const char *what, gpointer data)
+{
+  ReanalyseState *st = data;
+  st->progress_calls++;
+  if (g_thread_self() != st->main_thread)
+    st->progress_off_thread = TRUE;
+  if (done < st->last_done || done > total)
+    st->progress_backwards = TRUE;
+  st->last_done = done;
+  st->last_total = total;
+}
+
+/* While the re-analysis runs, every swing must still show a result (old or new). */
+static gboolean
+on_re_read(gpointer data)
+{
+  ReanalyseState *st = data;
+  GPtrArray *ws = arcwise_store_list_swings(st->reader, NULL, NULL);
+  st->reads++;
+  for (guint i = 0; ws != NULL && i < ws->len; i++)
+    if (!((ArcwiseSwingSummary *)g_ptr_array_index(ws, i))->analysed)
+      st->reads_missing_result++;
+  if (ws == NULL)
+    st->reads_missing_result++;
+  else
+    g_ptr_array_unref(ws);
+  return G_SOURCE_CONTINUE;
+}
+
+static void
+on_re_done(GObject *src, GAsyncResult *res, gpointer data)
+{
+  ReanalyseState *st = data;
+  st->updated = arcwise_store_reanalyse_finish(res, &st->error);
+  g_main_loop_quit(st->loop);
+}
+
 static void
 on_done(GObject *src, GAsyncResult *res, gpointer data)
 {
@@ -325,6 +375,38 @@ main(void)
   g_ptr_array_unref(pp);
   g_object_unref(cancel);
   g_main_loop_unref(st.loop);
+
+  /* Re-analysis in the background after an engine change (simulated: every stored result
+   * marked as made by another version): progress in this thread, in order, up to the total; a
+   * reader here sees every swing with a result throughout; afterwards all are current. */
+  if (arcwise_pipeline_can_analyse()) {
+    s = arcwise_store_open(lib, ARCWISE_STORE_OPEN_DEFAULT, &e);
+    AW_CHECK(s != NULL && arcwise_store_exec_script(s, "UPDATE swing_result SET engine_version "
+                                                        "= 'older-engine'", &e));
+    guint stale = arcwise_store_count_stale(s, &e);
+    guint n_swings = count_swings(lib);
+    AW_CHECK(stale == n_swings && stale >= 2);
+    ReanalyseState rs = { g_main_loop_new(NULL, FALSE), g_thread_self(), 0, 0, 0, FALSE, FALSE,
+                          -1, NULL, s, 0, 0 };
+    guint reader_src = g_timeout_add(5, on_re_read, &rs);
+    arcwise_store_reanalyse_async(lib, FALSE, NULL, on_re_progress, &rs, NULL, on_re_done, &rs);
+    g_main_loop_run(rs.loop);
+    g_source_remove(reader_src);
+    on_re_read(&rs); /* and once after the end */
+    if (rs.error != NULL)
+      fprintf(stderr, "background re-analysis: %s\n", rs.error->message);
+    printf("background re-analysis: %d swings, %u progress calls, %u reads meanwhile\n",
+           rs.updated, rs.progress_calls, rs.reads);
+    AW_CHECK(rs.error == NULL && rs.updated == (gint)n_swings);
+    AW_CHECK(rs.progress_calls >= 1 && !rs.progress_off_thread && !rs.progress_backwards);
+    AW_CHECK(rs.last_done == rs.last_total && rs.last_total >= 2);
+    AW_CHECK(rs.reads >= 1 && rs.reads_missing_result == 0);
+    AW_CHECK(arcwise_store_count_stale(s, &e) == 0);
+    g_clear_error(&e);
+    g_clear_error(&rs.error);
+    arcwise_store_close(s);
+    g_main_loop_unref(rs.loop);
+  }
 
   /* One player's history to a file and into another library; twice gives no duplicates. */
   s = arcwise_store_open(lib, ARCWISE_STORE_OPEN_DEFAULT, &e);
