@@ -333,10 +333,10 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
       WCtx w = { tau, (const double (*)[3])fb0, (const double (*)[3])cum, (const double (*)[3])pb0,
                  (const double (*)[4])qb0, n_ok, cam, frames, m0, fmax(s->lever_arm_sigma_m, 1e-3) };
       if (m0 >= 10) {
-        /* +-150 ms on a 10 ms grid (the stage-1 peak can be that far off on noisy cameras),
+        /* +-150 ms on a 5 ms grid (the stage-1 peak can be that far off on noisy cameras),
          * then two finer levels and a parabola. */
-        double best = 0, br = INFINITY, step = 0.01;
-        for (int j = -15; j <= 15; j++) {
+        double best = 0, br = INFINITY, step = 0.005;
+        for (int j = -30; j <= 30; j++) {
           /* the coarse grid only locates the basin: three rounds (trimmed once) suffice */
           double r = w_resid_n(&w, j * step, 3, NULL, NULL, NULL);
           if (r < br) { br = r; best = j * step; }
