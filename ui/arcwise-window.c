@@ -218,10 +218,13 @@ update_numbers(ArcwiseWindow *self)
   }
   ArcwiseFigure f[ARCWISE_N_FIGURES];
   arcwise_figures_for_model(m, f);
-  for (int i = 0; i < ARCWISE_N_FIGURES; i++) {
+  for (int i = 0, row = 0; i < ARCWISE_N_FIGURES; i++) {
+    if (!isfinite(f[i].value) && i >= 7)
+      continue;   /* only the analysis knows these; the note below says it has not run */
     g_autofree char *v = arcwise_figure_format(&f[i], self->units, FALSE);
-    gtk_grid_attach(self->metrics_grid, cell(f[i].label, "figure-label", 0), 0, i, 1, 1);
-    gtk_grid_attach(self->metrics_grid, cell(v, "figure-value", 1), 1, i, 1, 1);
+    gtk_grid_attach(self->metrics_grid, cell(f[i].label, "figure-label", 0), 0, row, 1, 1);
+    gtk_grid_attach(self->metrics_grid, cell(v, "figure-value", 1), 1, row, 1, 1);
+    row++;
   }
   g_autofree char *q = arcwise_quality_text(m, self->units);
   gtk_label_set_markup(self->quality_label, q);
@@ -234,20 +237,23 @@ update_legend(ArcwiseWindow *self)
   ArcwiseSceneOptions *o = arcwise_stage_get_options(self->stage);
   GString *s = g_string_new(NULL);
   if (m != NULL && o->show_band) {
-    g_string_append(s, "<b>Who carried the path</b>  (band = 2σ)\n");
+    /* Which sensor carried each phase is the analysis's masking test (the fusion re-run
+     * without each sensor); without an analysis that knows it, the legend says so rather
+     * than guess from the fusion's raw information share. */
+    g_string_append(s, "<b>Who carried the path</b>  (band = ±2σ of the fused path)\n");
     for (int p = ARCWISE_SCENE_PHASE_BACKSWING; p <= ARCWISE_SCENE_PHASE_FOLLOW_THROUGH; p++) {
-      double share = m->phase_cam_share[p];
-      if (!isfinite(share))
-        continue;
+      int dom = m->analysed.present ? m->analysed.dominance[p] : AW_DOMINANCE_UNKNOWN;
+      float carried = dom == AW_DOMINANCE_CAMERA ? 1.0f : dom == AW_DOMINANCE_IMU ? 0.0f : 0.5f;
+      const char *who = dom == AW_DOMINANCE_CAMERA ? "camera" :
+                        dom == AW_DOMINANCE_IMU ? "wrist sensor" :
+                        dom == AW_DOMINANCE_SHARED ? "both sensors" : "not measured";
       float rgb[3];
-      arcwise_scene_sensor_rgb((float)share, rgb);
-      g_autofree char *band = NULL;
-      ArcwiseFigure f = { "", (double)m->phase_band_max_m[p] / 2.0, ARCWISE_FIGURE_LENGTH };
-      band = arcwise_figure_format(&f, self->units, FALSE);
-      g_string_append_printf(s, "<span foreground='#%02x%02x%02x'>■</span> %s: %s (camera %.0f %%), "
-                             "up to ±%s\n", (int)(rgb[0] * 255), (int)(rgb[1] * 255),
-                             (int)(rgb[2] * 255), arcwise_phase_label(p),
-                             share >= 0.5 ? "camera" : "wrist sensor", 100 * share, band);
+      arcwise_scene_sensor_rgb(carried, rgb);
+      ArcwiseFigure f = { "", (double)m->phase_band_max_m[p], ARCWISE_FIGURE_LENGTH };
+      g_autofree char *band = arcwise_figure_format(&f, self->units, FALSE);
+      g_string_append_printf(s, "<span foreground='#%02x%02x%02x'>■</span> %s: %s, "
+                             "widest ±%s\n", (int)(rgb[0] * 255), (int)(rgb[1] * 255),
+                             (int)(rgb[2] * 255), arcwise_phase_label(p), who, band);
     }
   } else if (m != NULL && o->colour == ARCWISE_SCENE_COLOUR_PHASE) {
     for (int p = 0; p < ARCWISE_SCENE_N_PHASES; p++) {
@@ -404,7 +410,9 @@ update_compare(ArcwiseWindow *self)
   gtk_grid_attach(self->compare_grid, cell("Laid over", "figure-head", 1), 2, row, 1, 1);
   gtk_grid_attach(self->compare_grid, cell("Difference", "figure-head", 1), 3, row, 1, 1);
   row++;
-  for (int i = 0; i < ARCWISE_N_FIGURES; i++, row++) {
+  for (int i = 0; i < ARCWISE_N_FIGURES; i++) {
+    if (!isfinite(fa[i].value) && !isfinite(fb[i].value))
+      continue;
     ArcwiseFigure d = fb[i];
     d.value = fb[i].value - fa[i].value;
     g_autofree char *va = arcwise_figure_format(&fa[i], self->units, FALSE);
@@ -414,6 +422,7 @@ update_compare(ArcwiseWindow *self)
     gtk_grid_attach(self->compare_grid, cell(va, "figure-value", 1), 1, row, 1, 1);
     gtk_grid_attach(self->compare_grid, cell(vb, "figure-value", 1), 2, row, 1, 1);
     gtk_grid_attach(self->compare_grid, cell(vd, "figure-diff", 1), 3, row, 1, 1);
+    row++;
   }
   double rms[ARCWISE_SCENE_N_PHASES], mx[ARCWISE_SCENE_N_PHASES];
   arcwise_phase_deviation(m, self->other_shifted, sync_mode(self), rms, mx);
