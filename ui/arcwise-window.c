@@ -25,6 +25,7 @@ struct _ArcwiseWindow {
   GtkWidget *library_box;
   GtkSearchEntry *search_entry;
   GtkDropDown *player_dropdown;
+  GtkDropDown *session_dropdown;
   GtkDropDown *filter_dropdown;
   GtkListView *swing_list;
   GtkLabel *library_label;
@@ -57,6 +58,8 @@ struct _ArcwiseWindow {
   GtkSingleSelection *selection;
   GtkCustomFilter *filter;
   GtkStringList *player_names;    /* "Every player", then names */
+  GtkStringList *session_names;   /* "Every session", then the chosen player's sessions */
+  GArray *session_ids;            /* gint64 per entry of session_names, 0 = every session */
   GtkStringList *compare_names;
   GPtrArray *compare_items;       /* ArcwiseSwingItem*, parallel to compare_names */
   GtkToggleButton *stars[5];
@@ -488,6 +491,14 @@ arcwise_window_select_index(ArcwiseWindow *self, guint index)
 }
 
 guint
+arcwise_window_drill(ArcwiseWindow *self, guint player, guint session)
+{
+  gtk_drop_down_set_selected(self->player_dropdown, player);
+  gtk_drop_down_set_selected(self->session_dropdown, session);
+  return g_list_model_get_n_items(G_LIST_MODEL(self->selection));
+}
+
+guint
 arcwise_window_get_n_visible(ArcwiseWindow *self)
 {
   return g_list_model_get_n_items(G_LIST_MODEL(self->selection));
@@ -559,12 +570,68 @@ filter_func(gpointer item, gpointer data)
     if (g_strcmp0(name, it->player) != 0)
       return FALSE;
   }
+  guint si = gtk_drop_down_get_selected(self->session_dropdown);
+  if (self->session_ids != NULL && si != GTK_INVALID_LIST_POSITION && si > 0 &&
+      si < self->session_ids->len &&
+      it->session_id != g_array_index(self->session_ids, gint64, si))
+    return FALSE;
   switch (gtk_drop_down_get_selected(self->filter_dropdown)) {
   case 1: return it->reference;
   case 2: return it->rating >= 4;
   case 3: return isfinite(it->camera_gap_share) && it->camera_gap_share > 0.25;
   default: return TRUE;
   }
+}
+
+/* The drill-down's middle step: the sessions of the chosen player (of everyone when no player
+ * is chosen), newest last as the library lists them, each with its number of swings. */
+static void
+rebuild_sessions(ArcwiseWindow *self)
+{
+  const char *player = NULL;
+  guint p = gtk_drop_down_get_selected(self->player_dropdown);
+  if (p != GTK_INVALID_LIST_POSITION && p > 0 && self->player_names != NULL)
+    player = gtk_string_list_get_string(self->player_names, p);
+  g_array_set_size(self->session_ids, 0);
+  gint64 every = 0;
+  g_array_append_val(self->session_ids, every);
+  GPtrArray *labels = g_ptr_array_new_with_free_func(g_free);
+  g_ptr_array_add(labels, g_strdup("Every session"));
+  GArray *counts = g_array_new(FALSE, TRUE, sizeof(guint));
+  guint zero = 0;
+  g_array_append_val(counts, zero);
+  guint n = g_list_model_get_n_items(G_LIST_MODEL(self->items));
+  for (guint i = 0; i < n; i++) {
+    g_autoptr(ArcwiseSwingItem) it = g_list_model_get_item(G_LIST_MODEL(self->items), i);
+    if (player != NULL && g_strcmp0(player, it->player) != 0)
+      continue;
+    guint k = 1;
+    while (k < self->session_ids->len && g_array_index(self->session_ids, gint64, k) != it->session_id)
+      k++;
+    if (k == self->session_ids->len) {
+      g_array_append_val(self->session_ids, it->session_id);
+      g_ptr_array_add(labels, player ? g_strdup(it->session)
+                                     : g_strdup_printf("%s · %s", it->player, it->session));
+      g_array_append_val(counts, zero);
+    }
+    g_array_index(counts, guint, k)++;
+  }
+  GPtrArray *names = g_ptr_array_new_with_free_func(g_free);
+  for (guint k = 0; k < labels->len; k++)
+    g_ptr_array_add(names, k == 0 ? g_strdup(g_ptr_array_index(labels, k))
+                                  : g_strdup_printf("%s (%u)", (char *)g_ptr_array_index(labels, k),
+                                                    g_array_index(counts, guint, k)));
+  g_ptr_array_add(names, NULL);
+  gboolean was = self->updating;
+  self->updating = TRUE;
+  g_clear_object(&self->session_names);
+  self->session_names = gtk_string_list_new((const char *const *)names->pdata);
+  gtk_drop_down_set_model(self->session_dropdown, G_LIST_MODEL(self->session_names));
+  gtk_drop_down_set_selected(self->session_dropdown, 0);
+  self->updating = was;
+  g_ptr_array_unref(names);
+  g_ptr_array_unref(labels);
+  g_array_unref(counts);
 }
 
 static void
@@ -588,6 +655,15 @@ on_dropdown_changed(GObject *o, GParamSpec *p, ArcwiseWindow *self)
 {
   if (!self->updating)
     refilter(self);
+}
+
+static void
+on_player_changed(GObject *o, GParamSpec *p, ArcwiseWindow *self)
+{
+  if (self->updating)
+    return;
+  rebuild_sessions(self);
+  refilter(self);
 }
 
 static void
@@ -1073,6 +1149,7 @@ arcwise_window_reload(ArcwiseWindow *self)
   g_clear_object(&self->player_names);
   self->player_names = gtk_string_list_new((const char *const *)names->pdata);
   gtk_drop_down_set_model(self->player_dropdown, G_LIST_MODEL(self->player_names));
+  rebuild_sessions(self);
   g_hash_table_unref(seen);
   g_ptr_array_unref(names);
   self->updating = FALSE;
@@ -1158,6 +1235,8 @@ arcwise_window_dispose(GObject *object)
   g_clear_pointer(&self->compare_items, g_ptr_array_unref);
   g_clear_object(&self->compare_names);
   g_clear_object(&self->player_names);
+  g_clear_object(&self->session_names);
+  g_clear_pointer(&self->session_ids, g_array_unref);
   g_clear_object(&self->selection);
   g_clear_object(&self->items);
   g_clear_object(&self->settings);
@@ -1178,7 +1257,8 @@ arcwise_window_class_init(ArcwiseWindowClass *klass)
 #define BIND(x) gtk_widget_class_bind_template_child(widget_class, ArcwiseWindow, x)
   BIND(subtitle_label); BIND(library_toggle); BIND(compare_toggle); BIND(import_revealer);
   BIND(import_label); BIND(import_progress); BIND(outer_paned); BIND(inner_paned);
-  BIND(library_box); BIND(search_entry); BIND(player_dropdown); BIND(filter_dropdown);
+  BIND(library_box); BIND(search_entry); BIND(player_dropdown); BIND(session_dropdown);
+  BIND(filter_dropdown);
   BIND(swing_list); BIND(library_label); BIND(stage); BIND(view_bar); BIND(legend_label);
   BIND(empty_label); BIND(transport); BIND(play_button); BIND(speed_dropdown); BIND(time_label); BIND(timeline);
   BIND(sheet_box); BIND(sheet_stack); BIND(metrics_grid); BIND(speed_chart);
@@ -1227,7 +1307,9 @@ arcwise_window_init(ArcwiseWindow *self)
   g_object_ref(self->selection);
 
   self->compare_items = g_ptr_array_new();
-  g_signal_connect(self->player_dropdown, "notify::selected", G_CALLBACK(on_dropdown_changed), self);
+  self->session_ids = g_array_new(FALSE, FALSE, sizeof(gint64));
+  g_signal_connect(self->player_dropdown, "notify::selected", G_CALLBACK(on_player_changed), self);
+  g_signal_connect(self->session_dropdown, "notify::selected", G_CALLBACK(on_dropdown_changed), self);
   g_signal_connect(self->filter_dropdown, "notify::selected", G_CALLBACK(on_dropdown_changed), self);
   g_signal_connect(self->compare_dropdown, "notify::selected", G_CALLBACK(on_compare_choice), self);
   g_signal_connect(self->sync_dropdown, "notify::selected", G_CALLBACK(on_compare_choice), self);
