@@ -424,6 +424,11 @@ aw_fusion_locate(const double *t, size_t n, double x, size_t *hint)
     while (t[i + 1] <= x) i++;
     goto done;
   }
+  /* and backwards (overlapping windows of successive queries start a little earlier) */
+  if (t[i] > x && i >= 8 && t[i - 8] <= x) {
+    while (t[i] > x) i--;
+    goto done;
+  }
   {
     size_t lo = 0, hi = n - 1;
     while (hi - lo > 1) {
