@@ -93,21 +93,6 @@ arcwise_json_swing_members(ArcwiseJson *j, const AwSwing *s)
   arcwise_json_end_object(j);
 }
 
-void
-arcwise_json_consistency(ArcwiseJson *j, const char *key, const AwConsistency *c)
-{
-  arcwise_json_begin_object(j, key);
-  for (int k = 0; k < AW_METRIC_COUNT_; k++) {
-    arcwise_json_begin_object(j, aw_metric_info((AwMetricId)k)->key);
-    arcwise_json_integer(j, "n", (long long)c->n[k]);
-    arcwise_json_number(j, "mean", c->mean[k]);
-    arcwise_json_number(j, "sd", c->sd[k]);
-    arcwise_json_number(j, "min", c->min[k]);
-    arcwise_json_number(j, "max", c->max[k]);
-    arcwise_json_end_object(j);
-  }
-  arcwise_json_end_object(j);
-}
 
 void
 arcwise_json_analysis(ArcwiseJson *j, const AwAnalysis *a)

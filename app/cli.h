@@ -37,6 +37,9 @@ int arcwise_cmd_analyze(int argc, char **argv);
 int arcwise_cmd_compare(int argc, char **argv);
 int arcwise_cmd_bench(int argc, char **argv);
 int arcwise_cmd_library(int argc, char **argv);
+/* Actions of `arcwise library` on reference swings from C3D (app/cmd-library-c3d.c). */
+int arcwise_library_import_c3d(const char *path, int argc, char **argv);
+int arcwise_library_references(const char *path, int argc, char **argv);
 int arcwise_cmd_c3d(int argc, char **argv);
 int arcwise_cmd_export(int argc, char **argv);
 int arcwise_cmd_simulate(int argc, char **argv);

@@ -1,6 +1,7 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
 /* `arcwise compare A B`: two swings laid over each other. */
 #include "cli.h"
+#include "reference-swing.h"
 #include "analysis-output.h"
 
 #include <stdio.h>
@@ -23,6 +24,9 @@ usage(FILE *out)
           "\n"
           "Options:\n"
           "  --swing-a N, --swing-b N  which swing of a recording holding several (default 1)\n"
+          "  --reference ID            B is reference swing ID of the library (optical motion\n"
+          "                            capture imported with 'arcwise library import-c3d');\n"
+          "                            --library FILE, else $ARCWISE_LIBRARY\n"
           "  --club NAME, --club-length M, --handed right|left   as for 'arcwise analyze'\n"
           "  --json                    one JSON document on stdout\n");
 }
@@ -51,6 +55,8 @@ arcwise_cmd_compare(int argc, char **argv)
   int npos = 0;
   bool json = false, handed_given = false;
   long pick[2] = { 1, 1 };
+  long long ref_id = 0;
+  const char *library = NULL;
   AwAnalysisSettings set;
   aw_analysis_settings_default(&set);
   for (int i = 1; i < argc; i++) {
@@ -72,6 +78,13 @@ arcwise_cmd_compare(int argc, char **argv)
         return arcwise_cli_usage_error("compare", "%s needs a swing number from 1", argv[i]);
       pick[argv[i][8] == 'a' ? 0 : 1] = v;
       i++;
+    } else if (strcmp(argv[i], "--reference") == 0 && i + 1 < argc) {
+      char *end;
+      ref_id = strtoll(argv[++i], &end, 10);
+      if (*end != 0 || ref_id < 1)
+        return arcwise_cli_usage_error("compare", "--reference needs a reference number");
+    } else if (strcmp(argv[i], "--library") == 0 && i + 1 < argc) {
+      library = argv[++i];
     } else if (argv[i][0] == '-' && argv[i][1] != 0) {
       return arcwise_cli_usage_error("compare", "unknown option '%s'", argv[i]);
     } else if (npos < 4) {
@@ -83,7 +96,8 @@ arcwise_cmd_compare(int argc, char **argv)
   /* Two sides, each a folder or two files. */
   char paths[2][2][4096];
   int k = 0;
-  for (int side = 0; side < 2; side++) {
+  int sides = ref_id > 0 ? 1 : 2;
+  for (int side = 0; side < sides; side++) {
     if (k >= npos)
       return arcwise_cli_usage_error("compare", "give two swings: folders or IMU.csv DEPTH.csv pairs");
     if (is_dir(pos[k])) {
@@ -105,7 +119,34 @@ arcwise_cmd_compare(int argc, char **argv)
   ArcwiseCapture cap[2];
   if (!arcwise_capture_analyse("compare", paths[0][0], paths[0][1], &set, handed_given, &cap[0]))
     return 1;
-  if (!arcwise_capture_analyse("compare", paths[1][0], paths[1][1], &set, handed_given, &cap[1])) {
+  bool ok_b;
+  if (ref_id > 0) {
+    /* B from the library: the reference's handedness is the player's swing as captured; give
+     * the analysis the one found for A so both swing frames are built the same way. */
+    char *lp = library ? g_strdup(library) : arcwise_store_chosen_path();
+    GError *ge = NULL;
+    ArcwiseStore *st = arcwise_store_open(lp, ARCWISE_STORE_OPEN_READONLY, &ge);
+    g_free(lp);
+    ArcwiseReference *ref = st ? arcwise_store_load_reference(st, ref_id, &ge) : NULL;
+    if (ref == NULL) {
+      arcwise_cli_fail("compare", "%s", ge ? ge->message : "cannot load the reference");
+      ok_b = false;
+    } else {
+      AwAnalysisSettings set_b = set;
+      if (!handed_given && cap[0].analysis->n_swings > 0)
+        set_b.handed = cap[0].analysis->swings[0].handed;
+      ok_b = arcwise_reference_analyse("compare", ref, &set_b, &cap[1]);
+      snprintf(paths[1][1], sizeof paths[1][1], "reference %lld (%s)", ref_id, ref->name);
+    }
+    g_clear_error(&ge);
+    arcwise_reference_free(ref);
+    if (st)
+      arcwise_store_close(st);
+  } else {
+    ok_b = arcwise_capture_analyse("compare", paths[1][0], paths[1][1], &set, handed_given,
+                                   &cap[1]);
+  }
+  if (!ok_b) {
     arcwise_capture_clear(&cap[0]);
     return 1;
   }

@@ -17,6 +17,7 @@
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
+#include <stddef.h>
 #include <string.h>
 
 #define CMD "export"
@@ -75,6 +76,47 @@ parse_int(const char *s, int lo, int hi, int *out)
   return true;
 }
 
+/* Options that take one word of a fixed list, each listed once: option, choices, where. */
+typedef struct {
+  const char *option;
+  const char *const *choices;  /* NULL-terminated */
+  size_t offset;               /* of the const char * field in Opts */
+} Choice;
+
+static const char *const choice_formats[] = { "csv", "json", NULL };
+static const char *const choice_frames[] = { "grav", "cam", NULL };
+static const char *const choice_views[] = { "face-on", "down-the-line", "above", NULL };
+static const char *const choice_sizes[] = { "720p", "1080p", NULL };
+static const Choice choices[] = {
+  { "--format", choice_formats, offsetof(Opts, format) },
+  { "--frame", choice_frames, offsetof(Opts, frame) },
+  { "--view", choice_views, offsetof(Opts, view) },
+  { "--size", choice_sizes, offsetof(Opts, size) },
+};
+
+/* 1: taken; 0: not a choice option; 2: bad value (usage error printed). */
+static int
+parse_choice(const char *a, const char *v, Opts *o)
+{
+  for (size_t c = 0; c < sizeof choices / sizeof choices[0]; c++) {
+    if (strcmp(a, choices[c].option) != 0)
+      continue;
+    for (const char *const *w = choices[c].choices; *w; w++)
+      if (v != NULL && strcmp(v, *w) == 0) {
+        memcpy((char *)o + choices[c].offset, w, sizeof *w);
+        return 1;
+      }
+    char list[128] = "";
+    for (const char *const *w = choices[c].choices; *w; w++)
+      snprintf(list + strlen(list), sizeof list - strlen(list), "%s%s", w == choices[c].choices
+               ? "" : w[1] ? ", " : " or ", *w);
+    if (v == NULL)
+      return arcwise_cli_usage_error(CMD, "%s needs a value", a);
+    return arcwise_cli_usage_error(CMD, "%s is %s, not '%s'", a, list, v);
+  }
+  return 0;
+}
+
 static int
 parse(int argc, char **argv, Opts *o)
 {
@@ -90,7 +132,12 @@ parse(int argc, char **argv, Opts *o)
       return arcwise_cli_usage_error(CMD, "%s needs a value", a);                          \
     i++;                                                                                   \
   } while (0)
-    if (strcmp(a, "-o") == 0 || strcmp(a, "--output") == 0) {
+    int ch = parse_choice(a, v, o);
+    if (ch == 2)
+      return 2;
+    if (ch == 1) {
+      i++;
+    } else if (strcmp(a, "-o") == 0 || strcmp(a, "--output") == 0) {
       NEED();
       o->out = v;
     } else if (strcmp(a, "--force") == 0) {
@@ -107,35 +154,15 @@ parse(int argc, char **argv, Opts *o)
     } else if (strcmp(a, "--player") == 0) {
       NEED();
       o->player = v;
-    } else if (strcmp(a, "--format") == 0) {
-      NEED();
-      if (strcmp(v, "csv") != 0 && strcmp(v, "json") != 0)
-        return arcwise_cli_usage_error(CMD, "--format is csv or json, not '%s'", v);
-      o->format = v;
     } else if (strcmp(a, "--no-path") == 0) {
       o->no_path = true;
     } else if (strcmp(a, "--int16") == 0) {
       o->int16 = true;
     } else if (strcmp(a, "--no-overlays") == 0) {
       o->no_overlays = true;
-    } else if (strcmp(a, "--frame") == 0) {
-      NEED();
-      if (strcmp(v, "grav") != 0 && strcmp(v, "cam") != 0)
-        return arcwise_cli_usage_error(CMD, "--frame is grav or cam, not '%s'", v);
-      o->frame = v;
     } else if (strcmp(a, "--units") == 0) {
       NEED();
       o->units = v;
-    } else if (strcmp(a, "--view") == 0) {
-      NEED();
-      if (strcmp(v, "face-on") != 0 && strcmp(v, "down-the-line") != 0 && strcmp(v, "above") != 0)
-        return arcwise_cli_usage_error(CMD, "--view is face-on, down-the-line or above, not '%s'", v);
-      o->view = v;
-    } else if (strcmp(a, "--size") == 0) {
-      NEED();
-      if (strcmp(v, "720p") != 0 && strcmp(v, "1080p") != 0)
-        return arcwise_cli_usage_error(CMD, "--size is 720p or 1080p, not '%s'", v);
-      o->size = v;
     } else if (strcmp(a, "--fps") == 0) {
       NEED();
       if (!parse_int(v, 1, 120, &o->fps))

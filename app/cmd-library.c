@@ -44,6 +44,12 @@ print_usage(FILE *out)
     "  check                       integrity check of the database and of every stored stream\n"
     "  export-player NAME FILE     one player's whole history as a single file\n"
     "  import-player FILE          merge such a file (nothing already here is duplicated)\n"
+    "  import-c3d FILE --player NAME [--marker LABEL] [--name TEXT] [--up +z|-y|...]\n"
+    "         [--units-if-missing mm|m] [--keep-flagged]\n"
+    "                              one marker of an optical motion-capture file (C3D) as a\n"
+    "                              reference swing of the player: metres, its frame rate,\n"
+    "                              invalid frames kept as gaps ('arcwise compare --reference')\n"
+    "  references [--player NAME]  the stored reference swings\n"
     "\n"
     "Exit status: 0 success, 1 failure, 2 usage error.\n"
     "Caution: swinging a club indoors can hurt people; keep clear space around the player,\n"
@@ -911,6 +917,10 @@ arcwise_cmd_library(int argc, char **argv)
     return do_annotate(path, &a);
   if (strcmp(action, "reanalyse") == 0)
     return do_reanalyse(path, &a);
+  if (strcmp(action, "import-c3d") == 0)
+    return arcwise_library_import_c3d(path, a.argc, a.argv);
+  if (strcmp(action, "references") == 0)
+    return arcwise_library_references(path, a.argc, a.argv);
   if (strcmp(action, "backup") == 0 || strcmp(action, "check") == 0 ||
       strcmp(action, "export-player") == 0 || strcmp(action, "import-player") == 0)
     return do_simple(action, path, &a);

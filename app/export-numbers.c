@@ -1,6 +1,9 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
 #include "export-numbers.h"
 
+#include "analysis-output.h" /* arcwise_json_consistency, defined here for the tests' sake */
+#include "json-writer.h"
+
 #include "arcwise-config.h"
 
 #include <math.h>
@@ -135,213 +138,175 @@ arcwise_numbers_write_csv(FILE *fp, const ArcwiseNumbersSwing *rows, size_t n)
 
 /* ---- JSON ---- */
 
+/* Through the program's one JSON writer (json-writer.h): escaping, shortest round-trip numbers
+ * and NaN as null are done once there. */
+
 static void
-js_str(FILE *fp, const char *s)
+js_vec3(ArcwiseJson *j, const char *key, const double v[3])
 {
-  if (s == NULL) {
-    fputs("null", fp);
-    return;
-  }
-  fputc('"', fp);
-  for (const unsigned char *p = (const unsigned char *)s; *p; p++) {
-    if (*p == '"' || *p == '\\')
-      fprintf(fp, "\\%c", *p);
-    else if (*p == '\n')
-      fputs("\\n", fp);
-    else if (*p == '\t')
-      fputs("\\t", fp);
-    else if (*p < 0x20)
-      fprintf(fp, "\\u%04x", *p);
-    else
-      fputc(*p, fp);
-  }
-  fputc('"', fp);
+  arcwise_json_begin_array(j, key);
+  for (int a = 0; a < 3; a++)
+    arcwise_json_number(j, NULL, v[a]);
+  arcwise_json_end_array(j);
 }
 
 static void
-js_num(FILE *fp, double v)
-{
-  if (isfinite(v))
-    fprintf(fp, "%.17g", v);
-  else
-    fputs("null", fp);
-}
-
-static void
-js_vec_array(FILE *fp, const char *key, const double (*v)[3], size_t i0, size_t i1, bool *first)
+js_vec_array(ArcwiseJson *j, const char *key, const double (*v)[3], size_t i0, size_t i1)
 {
   if (v == NULL)
     return;
-  fprintf(fp, "%s\n        ", *first ? "" : ",");
-  *first = false;
-  js_str(fp, key);
-  fputs(": [", fp);
-  for (size_t i = i0; i < i1; i++) {
-    fprintf(fp, "%s[", i > i0 ? ", " : "");
-    for (int a = 0; a < 3; a++) {
-      if (a)
-        fputs(", ", fp);
-      js_num(fp, v[i][a]);
-    }
-    fputc(']', fp);
-  }
-  fputc(']', fp);
+  arcwise_json_begin_array(j, key);
+  for (size_t i = i0; i < i1; i++)
+    js_vec3(j, NULL, v[i]);
+  arcwise_json_end_array(j);
 }
 
 static void
-js_path(FILE *fp, const AwFusedPath *p, size_t i0, size_t i1)
+js_path(ArcwiseJson *j, const AwFusedPath *p, size_t i0, size_t i1)
 {
   if (i1 > p->n)
     i1 = p->n;
   if (i0 >= i1) {
-    fputs("null", fp);
+    arcwise_json_null(j, "path");
     return;
   }
-  fputs("{\n        \"frame\": \"cam\",\n        \"clock\": \"depth camera\",\n        \"t_s\": [", fp);
-  for (size_t i = i0; i < i1; i++) {
-    if (i > i0)
-      fputs(", ", fp);
-    js_num(fp, p->t_s[i]);
-  }
-  fputc(']', fp);
-  bool first = false;
-  js_vec_array(fp, "pos_cam_m", (const double (*)[3])p->pos_cam_m, i0, i1, &first);
-  js_vec_array(fp, "vel_cam_m_s", (const double (*)[3])p->vel_cam_m_s, i0, i1, &first);
-  js_vec_array(fp, "pos_sigma_cam_m", (const double (*)[3])p->pos_sigma_cam_m, i0, i1, &first);
+  arcwise_json_begin_object(j, "path");
+  arcwise_json_string(j, "frame", "cam");
+  arcwise_json_string(j, "clock", "depth camera");
+  arcwise_json_begin_array(j, "t_s");
+  for (size_t i = i0; i < i1; i++)
+    arcwise_json_number(j, NULL, p->t_s[i]);
+  arcwise_json_end_array(j);
+  js_vec_array(j, "pos_cam_m", (const double (*)[3])p->pos_cam_m, i0, i1);
+  js_vec_array(j, "vel_cam_m_s", (const double (*)[3])p->vel_cam_m_s, i0, i1);
+  js_vec_array(j, "pos_sigma_cam_m", (const double (*)[3])p->pos_sigma_cam_m, i0, i1);
   if (p->cam_info_share != NULL) {
-    fputs(",\n        \"cam_info_share\": [", fp);
-    for (size_t i = i0; i < i1; i++) {
-      if (i > i0)
-        fputs(", ", fp);
-      js_num(fp, p->cam_info_share[i]);
-    }
-    fputc(']', fp);
+    arcwise_json_begin_array(j, "cam_info_share");
+    for (size_t i = i0; i < i1; i++)
+      arcwise_json_number(j, NULL, p->cam_info_share[i]);
+    arcwise_json_end_array(j);
   }
   if (p->flags != NULL) {
-    fputs(",\n        \"flags\": [", fp);
+    arcwise_json_begin_array(j, "flags");
     for (size_t i = i0; i < i1; i++)
-      fprintf(fp, "%s%u", i > i0 ? ", " : "", (unsigned)p->flags[i]);
-    fputc(']', fp);
+      arcwise_json_integer(j, NULL, (long long)p->flags[i]);
+    arcwise_json_end_array(j);
   }
-  fputs("\n      }", fp);
+  arcwise_json_end_object(j);
 }
 
 static void
-js_swing(FILE *fp, const ArcwiseNumbersSwing *r, bool include_path)
+js_analysis(ArcwiseJson *j, const AwSwing *s)
+{
+  arcwise_json_begin_object(j, "analysis");
+  arcwise_json_bool(j, "practice", s->practice);
+  arcwise_json_bool(j, "half", s->half);
+  arcwise_json_string(j, "handedness", s->handed == AW_HANDED_LEFT ? "left" : "right");
+  arcwise_json_number(j, "club_length_m", s->club_length_m);
+  arcwise_json_number(j, "t_start_s", s->t_start_s);
+  arcwise_json_number(j, "t_end_s", s->t_end_s);
+  arcwise_json_begin_object(j, "swing_frame");
+  js_vec3(j, "origin_cam_m", s->origin_f_m);
+  arcwise_json_begin_array(j, "R_sw_cam");
+  for (int i = 0; i < 3; i++)
+    js_vec3(j, NULL, s->R_sw_f[i]);
+  arcwise_json_end_array(j);
+  arcwise_json_end_object(j);
+  arcwise_json_begin_object(j, "events");
+  for (int e = 0; e < AW_EVENT_COUNT_; e++) {
+    arcwise_json_begin_object(j, event_keys[e]);
+    arcwise_json_number(j, "t_s", s->events[e].t_s);
+    arcwise_json_number(j, "sigma_s", s->events[e].sigma_s);
+    arcwise_json_bool(j, "estimated", s->events[e].estimated);
+    arcwise_json_end_object(j);
+  }
+  arcwise_json_end_object(j);
+  arcwise_json_begin_object(j, "phases");
+  for (int p = 0; p < AW_PHASE_COUNT_; p++) {
+    const AwPhase *ph = &s->phases[p];
+    arcwise_json_begin_object(j, phase_keys[p]);
+    arcwise_json_number(j, "start_s", ph->start_s);
+    arcwise_json_number(j, "end_s", ph->end_s);
+    arcwise_json_number(j, "cam_occluded_share", ph->cam_occluded_share);
+    arcwise_json_number(j, "cam_info_share_mean", ph->cam_info_share_mean);
+    arcwise_json_number(j, "pos_sigma_mean_m", ph->pos_sigma_mean_m);
+    arcwise_json_number(j, "dev_camera_masked_m", ph->dev_camera_masked_m);
+    arcwise_json_number(j, "dev_imu_masked_m", ph->dev_imu_masked_m);
+    unsigned d = (unsigned)ph->dominance < 4 ? (unsigned)ph->dominance : 0;
+    arcwise_json_string(j, "dominance", dominance_names[d]);
+    arcwise_json_end_object(j);
+  }
+  arcwise_json_end_object(j);
+  arcwise_json_begin_object(j, "metrics");
+  for (int m = 0; m < AW_METRIC_COUNT_; m++)
+    arcwise_json_number(j, aw_metric_info((AwMetricId)m)->key, s->metrics[m]);
+  arcwise_json_end_object(j);
+  const AwSwingQuality *q = &s->quality;
+  arcwise_json_begin_object(j, "quality");
+  arcwise_json_number(j, "cam_occluded_share", q->cam_occluded_share);
+  arcwise_json_number(j, "cam_rejected_share", q->cam_rejected_share);
+  arcwise_json_integer(j, "imu_saturated_samples", (long long)q->imu_saturated_samples);
+  arcwise_json_number(j, "sync_offset_s", q->sync_offset_s);
+  arcwise_json_number(j, "sync_confidence", q->sync_confidence);
+  arcwise_json_number(j, "pos_sigma_mean_m", q->pos_sigma_mean_m);
+  arcwise_json_begin_array(j, "notes");
+  for (unsigned i = 0; i < AW_NOTE_NOTE_COUNT_; i++)
+    if (q->notes & (1u << i))
+      arcwise_json_string(j, NULL, aw_quality_note_text(1u << i));
+  arcwise_json_end_array(j);
+  arcwise_json_end_object(j);
+  arcwise_json_end_object(j);
+}
+
+static void
+js_swing(ArcwiseJson *j, const ArcwiseNumbersSwing *r, bool include_path)
 {
   const AwSwing *s = r->swing;
-  fputs("    {\n      \"swing_id\": ", fp);
+  arcwise_json_begin_object(j, NULL);
   if (r->swing_id > 0)
-    fprintf(fp, "%lld", r->swing_id);
+    arcwise_json_integer(j, "swing_id", r->swing_id);
   else
-    fputs("null", fp);
-  fputs(",\n      \"player\": ", fp);
-  js_str(fp, r->player);
-  fputs(",\n      \"session_date\": ", fp);
-  js_str(fp, r->session_date);
-  fputs(",\n      \"session_place\": ", fp);
-  js_str(fp, r->session_place);
-  fputs(",\n      \"club\": ", fp);
-  js_str(fp, r->club);
-  fprintf(fp, ",\n      \"swing_in_recording\": %u,\n      \"rating\": %d,\n      \"reference\": %s",
-          r->index_in_recording, r->rating, r->is_reference ? "true" : "false");
-  fputs(",\n      \"tags\": ", fp);
-  js_str(fp, r->tags);
-  fputs(",\n      \"notes\": ", fp);
-  js_str(fp, r->notes);
-  fputs(",\n      \"analysis\": ", fp);
-  if (s == NULL) {
-    fputs("null", fp);
-  } else {
-    fprintf(fp, "{\n        \"practice\": %s, \"half\": %s, \"handedness\": \"%s\",\n",
-            s->practice ? "true" : "false", s->half ? "true" : "false",
-            s->handed == AW_HANDED_LEFT ? "left" : "right");
-    fputs("        \"club_length_m\": ", fp);
-    js_num(fp, s->club_length_m);
-    fputs(", \"t_start_s\": ", fp);
-    js_num(fp, s->t_start_s);
-    fputs(", \"t_end_s\": ", fp);
-    js_num(fp, s->t_end_s);
-    fputs(",\n        \"swing_frame\": {\"origin_cam_m\": [", fp);
-    for (int a = 0; a < 3; a++) {
-      if (a)
-        fputs(", ", fp);
-      js_num(fp, s->origin_f_m[a]);
-    }
-    fputs("], \"R_sw_cam\": [", fp);
-    for (int i = 0; i < 3; i++) {
-      fprintf(fp, "%s[", i ? ", " : "");
-      for (int j = 0; j < 3; j++) {
-        if (j)
-          fputs(", ", fp);
-        js_num(fp, s->R_sw_f[i][j]);
-      }
-      fputc(']', fp);
-    }
-    fputs("]},\n        \"events\": {", fp);
-    for (int e = 0; e < AW_EVENT_COUNT_; e++) {
-      fprintf(fp, "%s\n          \"%s\": {\"t_s\": ", e ? "," : "", event_keys[e]);
-      js_num(fp, s->events[e].t_s);
-      fputs(", \"sigma_s\": ", fp);
-      js_num(fp, s->events[e].sigma_s);
-      fprintf(fp, ", \"estimated\": %s}", s->events[e].estimated ? "true" : "false");
-    }
-    fputs("\n        },\n        \"phases\": {", fp);
-    for (int p = 0; p < AW_PHASE_COUNT_; p++) {
-      const AwPhase *ph = &s->phases[p];
-      fprintf(fp, "%s\n          \"%s\": {\"start_s\": ", p ? "," : "", phase_keys[p]);
-      js_num(fp, ph->start_s);
-      fputs(", \"end_s\": ", fp);
-      js_num(fp, ph->end_s);
-      fputs(", \"cam_occluded_share\": ", fp);
-      js_num(fp, ph->cam_occluded_share);
-      fputs(", \"cam_info_share_mean\": ", fp);
-      js_num(fp, ph->cam_info_share_mean);
-      fputs(", \"pos_sigma_mean_m\": ", fp);
-      js_num(fp, ph->pos_sigma_mean_m);
-      fputs(", \"dev_camera_masked_m\": ", fp);
-      js_num(fp, ph->dev_camera_masked_m);
-      fputs(", \"dev_imu_masked_m\": ", fp);
-      js_num(fp, ph->dev_imu_masked_m);
-      unsigned d = (unsigned)ph->dominance < 4 ? (unsigned)ph->dominance : 0;
-      fprintf(fp, ", \"dominance\": \"%s\"}", dominance_names[d]);
-    }
-    fputs("\n        },\n        \"metrics\": {", fp);
-    for (int m = 0; m < AW_METRIC_COUNT_; m++) {
-      fprintf(fp, "%s\n          \"%s\": ", m ? "," : "", aw_metric_info((AwMetricId)m)->key);
-      js_num(fp, s->metrics[m]);
-    }
-    const AwSwingQuality *q = &s->quality;
-    fputs("\n        },\n        \"quality\": {\"cam_occluded_share\": ", fp);
-    js_num(fp, q->cam_occluded_share);
-    fputs(", \"cam_rejected_share\": ", fp);
-    js_num(fp, q->cam_rejected_share);
-    fprintf(fp, ", \"imu_saturated_samples\": %zu, \"sync_offset_s\": ", q->imu_saturated_samples);
-    js_num(fp, q->sync_offset_s);
-    fputs(", \"sync_confidence\": ", fp);
-    js_num(fp, q->sync_confidence);
-    fputs(", \"pos_sigma_mean_m\": ", fp);
-    js_num(fp, q->pos_sigma_mean_m);
-    fputs(", \"notes\": [", fp);
-    bool first = true;
-    for (unsigned i = 0; i < AW_NOTE_NOTE_COUNT_; i++)
-      if (q->notes & (1u << i)) {
-        fputs(first ? "" : ", ", fp);
-        js_str(fp, aw_quality_note_text(1u << i));
-        first = false;
-      }
-    fputs("]}\n      }", fp);
-  }
+    arcwise_json_null(j, "swing_id");
+  arcwise_json_string(j, "player", r->player);
+  arcwise_json_string(j, "session_date", r->session_date);
+  arcwise_json_string(j, "session_place", r->session_place);
+  arcwise_json_string(j, "club", r->club);
+  arcwise_json_integer(j, "swing_in_recording", r->index_in_recording);
+  arcwise_json_integer(j, "rating", r->rating);
+  arcwise_json_bool(j, "reference", r->is_reference);
+  arcwise_json_string(j, "tags", r->tags);
+  arcwise_json_string(j, "notes", r->notes);
+  if (s == NULL)
+    arcwise_json_null(j, "analysis");
+  else
+    js_analysis(j, s);
   if (include_path) {
-    fputs(",\n      \"path\": ", fp);
     if (r->path == NULL)
-      fputs("null", fp);
+      arcwise_json_null(j, "path");
     else if (s != NULL)
-      js_path(fp, r->path, s->i_start, s->i_end);
+      js_path(j, r->path, s->i_start, s->i_end);
     else
-      js_path(fp, r->path, 0, r->path->n);
+      js_path(j, r->path, 0, r->path->n);
   }
-  fputs("\n    }", fp);
+  arcwise_json_end_object(j);
+}
+
+/* Declared in analysis-output.h; it lives here, in the export library, so that the exporters
+ * and their tests have it without the command-line glue of analysis-output.c. */
+void
+arcwise_json_consistency(ArcwiseJson *j, const char *key, const AwConsistency *c)
+{
+  arcwise_json_begin_object(j, key);
+  for (int k = 0; k < AW_METRIC_COUNT_; k++) {
+    arcwise_json_begin_object(j, aw_metric_info((AwMetricId)k)->key);
+    arcwise_json_integer(j, "n", (long long)c->n[k]);
+    arcwise_json_number(j, "mean", c->mean[k]);
+    arcwise_json_number(j, "sd", c->sd[k]);
+    arcwise_json_number(j, "min", c->min[k]);
+    arcwise_json_number(j, "max", c->max[k]);
+    arcwise_json_end_object(j);
+  }
+  arcwise_json_end_object(j);
 }
 
 bool
@@ -349,51 +314,45 @@ arcwise_numbers_write_json(FILE *fp, ArcwiseNumbersScope scope, const char *titl
                            const ArcwiseNumbersSwing *rows, size_t n, bool include_path)
 {
   static const char *const scopes[] = { "swing", "session", "player" };
-  fputs("{\n  \"format\": \"arcwise-numbers\",\n  \"version\": 1,\n  \"program\": ", fp);
-  js_str(fp, "arcwise " ARCWISE_VERSION);
-  fprintf(fp, ",\n  \"scope\": \"%s\",\n  \"title\": ", scopes[(unsigned)scope < 3 ? scope : 0]);
-  js_str(fp, title);
-  fputs(",\n  \"units\": \"SI (s, m, m/s, rad/s; angles in deg as named)\",\n", fp);
-  fputs("  \"caution\": \"Estimates from consumer sensors, not a medical or equipment "
-        "assessment.\",\n  \"metric_units\": {", fp);
+  ArcwiseJson j;
+  /* Indented for reading; compact with paths, whose thousands of numbers would otherwise take
+   * a line each. */
+  arcwise_json_init(&j, fp, !include_path);
+  arcwise_json_begin_object(&j, NULL);
+  arcwise_json_string(&j, "format", "arcwise-numbers");
+  arcwise_json_integer(&j, "version", 1);
+  arcwise_json_string(&j, "program", "arcwise " ARCWISE_VERSION);
+  arcwise_json_string(&j, "scope", scopes[(unsigned)scope < 3 ? scope : 0]);
+  arcwise_json_string(&j, "title", title);
+  arcwise_json_string(&j, "units", "SI (s, m, m/s, rad/s; angles in deg as named)");
+  arcwise_json_string(&j, "caution", "Estimates from consumer sensors, not a medical or "
+                                     "equipment assessment.");
+  arcwise_json_begin_object(&j, "metric_units");
   for (int m = 0; m < AW_METRIC_COUNT_; m++) {
     const AwMetricInfo *mi = aw_metric_info((AwMetricId)m);
-    fprintf(fp, "%s\n    \"%s\": {\"unit\": ", m ? "," : "", mi->key);
-    js_str(fp, mi->unit);
-    fputs(", \"label\": ", fp);
-    js_str(fp, mi->label);
-    fputc('}', fp);
+    arcwise_json_begin_object(&j, mi->key);
+    arcwise_json_string(&j, "unit", mi->unit);
+    arcwise_json_string(&j, "label", mi->label);
+    arcwise_json_end_object(&j);
   }
-  fputs("\n  },\n  \"swings\": [\n", fp);
+  arcwise_json_end_object(&j);
+  arcwise_json_begin_array(&j, "swings");
   const AwSwing **sw = calloc(n ? n : 1, sizeof *sw);
   size_t n_an = 0;
   for (size_t i = 0; i < n; i++) {
-    js_swing(fp, &rows[i], include_path);
-    fputs(i + 1 < n ? ",\n" : "\n", fp);
+    js_swing(&j, &rows[i], include_path);
     if (rows[i].swing != NULL && sw != NULL)
       sw[n_an++] = rows[i].swing;
   }
-  fputs("  ],\n  \"consistency\": ", fp);
+  arcwise_json_end_array(&j);
   if (n_an >= 1 && sw != NULL) {
     AwConsistency c;
     aw_session_consistency(sw, n_an, &c);
-    fputs("{", fp);
-    for (int m = 0; m < AW_METRIC_COUNT_; m++) {
-      fprintf(fp, "%s\n    \"%s\": {\"n\": %zu, \"mean\": ", m ? "," : "",
-              aw_metric_info((AwMetricId)m)->key, c.n[m]);
-      js_num(fp, c.mean[m]);
-      fputs(", \"sd\": ", fp);
-      js_num(fp, c.sd[m]);
-      fputs(", \"min\": ", fp);
-      js_num(fp, c.min[m]);
-      fputs(", \"max\": ", fp);
-      js_num(fp, c.max[m]);
-      fputc('}', fp);
-    }
-    fputs("\n  }\n}\n", fp);
+    arcwise_json_consistency(&j, "consistency", &c);
   } else {
-    fputs("null\n}\n", fp);
+    arcwise_json_null(&j, "consistency");
   }
   free(sw);
-  return !ferror(fp);
+  arcwise_json_end_object(&j);
+  return arcwise_json_finish(&j) && sw != NULL;
 }

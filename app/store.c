@@ -161,6 +161,28 @@ static const char *const migrations[ARCWISE_STORE_SCHEMA_VERSION] = {
   "  club_speed_impact_m_s = (SELECT value FROM swing_metric m\n"
   "                 WHERE m.swing_id = swing_result.swing_id AND m.name = 'club_speed_impact_mps');\n"
   "PRAGMA user_version = 4;\n",
+
+  /* 5: reference swings imported from optical motion capture (C3D): one marker's trajectory of
+   * a player, in metres in the file's lab frame, gaps kept. Apart from recordings, which hold
+   * capture streams that re-analysis re-fuses. */
+  "CREATE TABLE reference_path (\n"
+  "  id INTEGER PRIMARY KEY,\n"
+  "  player_id INTEGER NOT NULL REFERENCES player(id) ON DELETE CASCADE,\n"
+  "  name TEXT NOT NULL CHECK (length(name) BETWEEN 1 AND 200),\n"
+  "  source_name TEXT NOT NULL,\n"
+  "  source_sha256 TEXT NOT NULL,\n"
+  "  marker TEXT NOT NULL,\n"
+  "  units TEXT NOT NULL,\n"
+  "  up_axis TEXT NOT NULL CHECK (up_axis IN ('+x', '-x', '+y', '-y', '+z', '-z')),\n"
+  "  rate_hz REAL NOT NULL CHECK (rate_hz > 0),\n"
+  "  n_frames INTEGER NOT NULL CHECK (n_frames >= 2),\n"
+  "  n_invalid INTEGER NOT NULL CHECK (n_invalid >= 0 AND n_invalid <= n_frames),\n"
+  "  imported_utc TEXT NOT NULL,\n"
+  "  samples BLOB NOT NULL CHECK (length(samples) = 32 * n_frames),\n"
+  "  UNIQUE (player_id, source_sha256, marker)\n"
+  ");\n"
+  "CREATE INDEX reference_by_player ON reference_path(player_id);\n"
+  "PRAGMA user_version = 5;\n",
 };
 
 /* ---- Errors and statements --------------------------------------------------------------- */
@@ -2538,4 +2560,198 @@ arcwise_store_import_player(ArcwiseStore *store, const char *src_path, GError **
   }
   g_rmdir(tmpdir);
   return added;
+}
+
+/* ---- Reference swings from optical motion capture ----------------------------------------- */
+
+void
+arcwise_reference_free(ArcwiseReference *r)
+{
+  if (r == NULL)
+    return;
+  g_free(r->player_name);
+  g_free(r->name);
+  g_free(r->source_name);
+  g_free(r->source_sha256);
+  g_free(r->marker);
+  g_free(r->units);
+  g_free(r->up_axis);
+  g_free(r->imported_utc);
+  g_free(r->t_s);
+  g_free(r->pos_m);
+  g_free(r);
+}
+
+/* Samples as little-endian IEEE 754 doubles t, x, y, z per frame (NaN coordinates = gap), so
+ * a library moves between machines of either byte order. */
+static GBytes *
+reference_samples_encode(const ArcwiseReference *r)
+{
+  gsize n = r->n_frames;
+  guint64 *w = g_new(guint64, 4 * n);
+  for (gsize i = 0; i < n; i++) {
+    double v[4] = { r->t_s[i], r->pos_m[i][0], r->pos_m[i][1], r->pos_m[i][2] };
+    for (int k = 0; k < 4; k++) {
+      guint64 u;
+      memcpy(&u, &v[k], 8);
+      w[4 * i + (gsize)k] = GUINT64_TO_LE(u);
+    }
+  }
+  return g_bytes_new_take(w, 32 * n);
+}
+
+static gboolean
+reference_samples_decode(ArcwiseReference *r, GBytes *b, GError **error)
+{
+  gsize len = 0;
+  const guint8 *d = g_bytes_get_data(b, &len);
+  if (len != 32 * (gsize)r->n_frames) {
+    g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_CORRUPT,
+                "reference %" G_GINT64_FORMAT ": %" G_GSIZE_FORMAT " bytes of samples for %u "
+                "frames", r->id, len, r->n_frames);
+    return FALSE;
+  }
+  r->t_s = g_new(double, r->n_frames);
+  r->pos_m = g_malloc_n(r->n_frames, sizeof *r->pos_m);
+  for (guint i = 0; i < r->n_frames; i++)
+    for (int k = 0; k < 4; k++) {
+      guint64 u;
+      memcpy(&u, d + 32 * (gsize)i + 8 * (gsize)k, 8);
+      u = GUINT64_FROM_LE(u);
+      double v;
+      memcpy(&v, &u, 8);
+      if (k == 0)
+        r->t_s[i] = v;
+      else
+        r->pos_m[i][k - 1] = v;
+    }
+  return TRUE;
+}
+
+gint64
+arcwise_store_add_reference(ArcwiseStore *store, const ArcwiseReference *r, GError **error)
+{
+  if (!check_text("a reference's name", r->name, 200, FALSE, error))
+    return 0;
+  if (r->n_frames < 2 || r->t_s == NULL || r->pos_m == NULL || !(r->rate_hz > 0) ||
+      r->n_invalid > r->n_frames) {
+    g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_INVALID,
+                "a reference needs at least 2 frames and a positive rate");
+    return 0;
+  }
+  if (!begin_write(store, error))
+    return 0;
+  sqlite3_stmt *st = stmt(store,
+                          "INSERT INTO reference_path (player_id, name, source_name, "
+                          "source_sha256, marker, units, up_axis, rate_hz, n_frames, n_invalid, "
+                          "imported_utc, samples) "
+                          "VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12)", error);
+  gint64 id = 0;
+  if (st != NULL) {
+    g_autofree char *now = now_utc();
+    g_autoptr(GBytes) b = reference_samples_encode(r);
+    sqlite3_bind_int64(st, 1, r->player_id);
+    bind_text(st, 2, r->name);
+    bind_text(st, 3, r->source_name);
+    bind_text(st, 4, r->source_sha256);
+    bind_text(st, 5, r->marker);
+    bind_text(st, 6, r->units);
+    bind_text(st, 7, r->up_axis);
+    bind_real(st, 8, r->rate_hz);
+    sqlite3_bind_int64(st, 9, r->n_frames);
+    sqlite3_bind_int64(st, 10, r->n_invalid);
+    bind_text(st, 11, now);
+    bind_bytes(st, 12, b);
+    if (step_done(store, st, error, "storing a reference swing"))
+      id = sqlite3_last_insert_rowid(store->db);
+  }
+  if (id == 0 && error != NULL && *error != NULL && (*error)->code == ARCWISE_STORE_ERROR_EXISTS) {
+    g_clear_error(error);
+    g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_EXISTS,
+                "marker %s of %s is already a reference of this player", r->marker,
+                r->source_name);
+  }
+  if (id != 0) {
+    g_autofree char *detail = g_strdup_printf(
+      "reference %" G_GINT64_FORMAT " '%s': marker %s of %s, %u frames at %g Hz (%u invalid)",
+      id, r->name, r->marker, r->source_name, r->n_frames, r->rate_hz, r->n_invalid);
+    if (!insert_journal(store, "import-c3d", detail, error))
+      id = 0;
+  }
+  return finish_write(store, id != 0, error) ? id : 0;
+}
+
+#define REFERENCE_COLUMNS                                                                  \
+  "SELECT r.id, r.player_id, p.name, r.name, r.source_name, r.source_sha256, r.marker, "   \
+  "r.units, r.up_axis, r.rate_hz, r.n_frames, r.n_invalid, r.imported_utc, r.samples "     \
+  "FROM reference_path r JOIN player p ON p.id = r.player_id "
+
+static ArcwiseReference *
+reference_from_row(sqlite3_stmt *st)
+{
+  ArcwiseReference *r = g_new0(ArcwiseReference, 1);
+  r->id = sqlite3_column_int64(st, 0);
+  r->player_id = sqlite3_column_int64(st, 1);
+  r->player_name = col_text0(st, 2);
+  r->name = col_text0(st, 3);
+  r->source_name = col_text0(st, 4);
+  r->source_sha256 = col_text0(st, 5);
+  r->marker = col_text0(st, 6);
+  r->units = col_text0(st, 7);
+  r->up_axis = col_text0(st, 8);
+  r->rate_hz = col_real(st, 9);
+  r->n_frames = (guint)sqlite3_column_int64(st, 10);
+  r->n_invalid = (guint)sqlite3_column_int64(st, 11);
+  r->imported_utc = col_text0(st, 12);
+  return r;
+}
+
+GPtrArray *
+arcwise_store_list_references(ArcwiseStore *store, gint64 player_id, GError **error)
+{
+  sqlite3_stmt *st = stmt(store, REFERENCE_COLUMNS "WHERE ?1 = 0 OR r.player_id = ?1 "
+                                 "ORDER BY p.name, r.id", error);
+  if (st == NULL)
+    return NULL;
+  sqlite3_bind_int64(st, 1, player_id);
+  GPtrArray *out = g_ptr_array_new_with_free_func((GDestroyNotify)arcwise_reference_free);
+  int rc;
+  while ((rc = sqlite3_step(st)) == SQLITE_ROW)
+    g_ptr_array_add(out, reference_from_row(st));
+  sqlite3_reset(st);
+  if (rc != SQLITE_DONE) {
+    g_ptr_array_unref(out);
+    sql_fail(store, error, "listing reference swings");
+    return NULL;
+  }
+  return out;
+}
+
+ArcwiseReference *
+arcwise_store_load_reference(ArcwiseStore *store, gint64 id, GError **error)
+{
+  sqlite3_stmt *st = stmt(store, REFERENCE_COLUMNS "WHERE r.id = ?1", error);
+  if (st == NULL)
+    return NULL;
+  sqlite3_bind_int64(st, 1, id);
+  ArcwiseReference *r = NULL;
+  int rc = sqlite3_step(st);
+  if (rc == SQLITE_ROW) {
+    r = reference_from_row(st);
+    g_autoptr(GBytes) b = col_bytes(st, 13);
+    if (b == NULL || !reference_samples_decode(r, b, error)) {
+      if (b == NULL)
+        g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_CORRUPT,
+                    "reference %" G_GINT64_FORMAT " has no samples", id);
+      arcwise_reference_free(r);
+      r = NULL;
+    }
+  } else if (rc == SQLITE_DONE) {
+    g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_NOT_FOUND,
+                "no reference swing %" G_GINT64_FORMAT, id);
+  } else {
+    sql_fail(store, error, "loading a reference swing");
+  }
+  sqlite3_reset(st);
+  return r;
 }

@@ -43,7 +43,7 @@ typedef enum {
 } ArcwiseStoreError;
 
 /* The schema version this program writes (PRAGMA user_version). */
-#define ARCWISE_STORE_SCHEMA_VERSION 4
+#define ARCWISE_STORE_SCHEMA_VERSION 5
 
 typedef struct _ArcwiseStore ArcwiseStore;
 
@@ -386,5 +386,43 @@ gboolean arcwise_store_export_player(ArcwiseStore *store, gint64 player_id,
  * added), sessions by date and place, recordings by content hash (never duplicated). Returns
  * the number of swings added, -1 on error. */
 gint arcwise_store_import_player(ArcwiseStore *store, const char *src_path, GError **error);
+
+/* ---- Reference swings from optical motion capture (C3D) -------------------------------- */
+
+/* One marker of a C3D file (engine/c3d) kept as a reference swing of a player: in metres
+ * (converted from POINT:UNITS), in the file's own lab frame, at its frame rate, invalid frames
+ * kept as gaps (NaN). `up_axis` names the lab axis against gravity ("+z" for most optical
+ * systems). It is a path without sensor streams: it is compared with, never re-fused. */
+typedef struct {
+  gint64 id;
+  gint64 player_id;
+  char *player_name;        /* filled by list/load */
+  char *name;               /* shown to the coach, e.g. "Optical, 2026-03-02, 7-iron" */
+  char *source_name;        /* the C3D file's base name */
+  char *source_sha256;      /* of the file's bytes: the same marker is not imported twice */
+  char *marker;             /* the point label */
+  char *units;              /* the unit the file was read in ("mm", ...) */
+  char *up_axis;            /* "+x", "-x", "+y", "-y", "+z" or "-z" */
+  double rate_hz;
+  guint n_frames;
+  guint n_invalid;
+  char *imported_utc;
+  /* Samples: NULL in lists; filled by arcwise_store_load_reference. t_s from the file's first
+   * frame ((first_frame - 1 + i) / rate). */
+  double *t_s;
+  double (*pos_m)[3];
+} ArcwiseReference;
+
+void arcwise_reference_free(ArcwiseReference *r);
+G_DEFINE_AUTOPTR_CLEANUP_FUNC(ArcwiseReference, arcwise_reference_free)
+
+/* Stores r (player_id, name, source, marker, units, up_axis, rate, n_frames, n_invalid, t_s,
+ * pos_m are read) in one transaction with a journal entry. Returns the new id, 0 on error
+ * (EXISTS when that marker of that file is already a reference of the player). */
+gint64 arcwise_store_add_reference(ArcwiseStore *store, const ArcwiseReference *r,
+                                   GError **error);
+/* References of one player (0: all), by player name then import order; without samples. */
+GPtrArray *arcwise_store_list_references(ArcwiseStore *store, gint64 player_id, GError **error);
+ArcwiseReference *arcwise_store_load_reference(ArcwiseStore *store, gint64 id, GError **error);
 
 G_END_DECLS

@@ -44,15 +44,26 @@ arcwise_figures_for_model(const ArcwiseSwingModel *m, ArcwiseFigure out[ARCWISE_
       }
       length += sqrt(d2);
     }
+  const ArcwiseSwingAnalysed *an = &m->analysed;
+  /* The analysis's own numbers win: they are what the library stored, exported and compared. */
+#define STORED(id, measured) (an->present ? an->metric[id] : (double)(measured))
   ArcwiseFigure f[ARCWISE_N_FIGURES] = {
-    { "Backswing", back, ARCWISE_FIGURE_TIME },
-    { "Downswing", down, ARCWISE_FIGURE_TIME },
-    { "Tempo (back : down)", back / down, ARCWISE_FIGURE_RATIO },
-    { "Peak hand speed", peak, ARCWISE_FIGURE_SPEED },
-    { "Hand speed at impact", at_impact, ARCWISE_FIGURE_SPEED },
-    { "Hands rise to the top", rise, ARCWISE_FIGURE_LENGTH },
-    { "Hand path length", length, ARCWISE_FIGURE_LENGTH },
+    { "Backswing", STORED(AW_METRIC_BACKSWING_S, back), ARCWISE_FIGURE_TIME },
+    { "Downswing", STORED(AW_METRIC_DOWNSWING_S, down), ARCWISE_FIGURE_TIME },
+    { "Tempo (back : down)", STORED(AW_METRIC_TEMPO_RATIO, back / down), ARCWISE_FIGURE_RATIO },
+    { "Peak hand speed", STORED(AW_METRIC_PEAK_HAND_SPEED_M_S, peak), ARCWISE_FIGURE_SPEED },
+    { "Hand speed at impact", STORED(AW_METRIC_HAND_SPEED_IMPACT_M_S, at_impact),
+      ARCWISE_FIGURE_SPEED },
+    { "Hands rise to the top", STORED(AW_METRIC_TOP_HEIGHT_M, rise), ARCWISE_FIGURE_LENGTH },
+    { "Hand path length", STORED(AW_METRIC_PATH_LENGTH_M, length), ARCWISE_FIGURE_LENGTH },
+    { "Club-head speed (estimate)", STORED(AW_METRIC_CLUB_SPEED_IMPACT_M_S, NAN),
+      ARCWISE_FIGURE_SPEED },
+    { "Backswing plane", STORED(AW_METRIC_PLANE_BACKSWING_DEG, NAN), ARCWISE_FIGURE_ANGLE },
+    { "Downswing plane", STORED(AW_METRIC_PLANE_DOWNSWING_DEG, NAN), ARCWISE_FIGURE_ANGLE },
+    { "Hand path at impact (+ in-to-out)", STORED(AW_METRIC_PATH_DIRECTION_DEG, NAN),
+      ARCWISE_FIGURE_ANGLE },
   };
+#undef STORED
   memcpy(out, f, sizeof f);
 }
 
@@ -73,6 +84,8 @@ arcwise_figure_format(const ArcwiseFigure *f, ArcwiseUnits units, gboolean diff)
     if (units == ARCWISE_UNITS_IMPERIAL)
       return g_strdup_printf("%s%.1f in", sign, f->value / AW_M_PER_INCH);
     return g_strdup_printf("%s%.1f cm", sign, f->value * 100.0);
+  case ARCWISE_FIGURE_ANGLE:
+    return g_strdup_printf("%s%.1f°", sign, f->value);
   case ARCWISE_FIGURE_RATIO:
   default:
     return diff ? g_strdup_printf("%s%.2f", sign, f->value) : g_strdup_printf("%.1f : 1", f->value);
@@ -116,7 +129,29 @@ arcwise_quality_text(const ArcwiseSwingModel *m, ArcwiseUnits units)
     }
   if (!any)
     g_string_append(s, "• The camera saw the hands through the whole swing.\n");
-  if (share_n > 0)
+  const ArcwiseSwingAnalysed *an = &m->analysed;
+  /* Who carried each phase, by the analysis's masking test (the fusion re-run without the
+   * camera, and without the wrist sensor). */
+  for (int p = ARCWISE_SCENE_PHASE_BACKSWING; an->present && p <= ARCWISE_SCENE_PHASE_FOLLOW_THROUGH; p++) {
+    const char *who = an->dominance[p] == AW_DOMINANCE_CAMERA ? "mostly from the camera" :
+                      an->dominance[p] == AW_DOMINANCE_IMU ? "mostly from the wrist sensor" :
+                      an->dominance[p] == AW_DOMINANCE_SHARED ? "from both sensors together" : NULL;
+    if (who != NULL)
+      g_string_append_printf(s, "• <b>%s</b>: the path comes %s.\n", phase_labels[p], who);
+  }
+  for (unsigned bit = 0; an->present && bit < AW_NOTE_NOTE_COUNT_; bit++) {
+    const char *text = (an->notes & (1u << bit)) ? aw_quality_note_text(1u << bit) : NULL;
+    if (text != NULL) {
+      g_autofree char *esc = g_markup_escape_text(text, -1);
+      g_string_append_printf(s, "• %s\n", esc);
+    }
+  }
+  if (an->present && an->practice)
+    g_string_append(s, "• No ball contact was found: treated as a practice swing.\n");
+  if (!an->present)
+    g_string_append(s, "• Not analysed yet: the times and speeds above are measured on the drawn "
+                       "path only.\n");
+  else if (share_n > 0)
     g_string_append_printf(s, "• Over the swing, about %.0f %% of the position information came "
                            "from the camera and the rest from the wrist sensor.\n",
                            100.0 * share_sum / share_n);

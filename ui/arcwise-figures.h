@@ -21,6 +21,7 @@ typedef enum {
   ARCWISE_FIGURE_SPEED,         /* m/s */
   ARCWISE_FIGURE_LENGTH,        /* m */
   ARCWISE_FIGURE_RATIO,         /* 1 */
+  ARCWISE_FIGURE_ANGLE,         /* degrees */
 } ArcwiseFigureKind;
 
 typedef struct {
@@ -29,17 +30,22 @@ typedef struct {
   ArcwiseFigureKind kind;
 } ArcwiseFigure;
 
-enum { ARCWISE_N_FIGURES = 7 };
+enum { ARCWISE_N_FIGURES = 11 };
 
 /* Backswing, downswing, tempo, peak hand speed, hand speed at impact, hands rise to the top,
- * hand path length (takeaway to finish), measured on the model. */
+ * hand path length (takeaway to finish), club-head speed at impact (estimate), backswing and
+ * downswing plane, hand path through impact. From the swing's analysis (m->analysed, the
+ * library's stored metrics) when there is one; otherwise the first seven are measured on the
+ * drawn path and the rest are NaN. */
 void arcwise_figures_for_model(const ArcwiseSwingModel *m, ArcwiseFigure out[ARCWISE_N_FIGURES]);
 
 /* "8.4 m/s" / "18.8 mph", "12.3 cm" / "4.8 in", "0.80 s", "3.0 : 1"; "—" for NaN. With
  * `signed_diff` a sign is always shown. */
 char *arcwise_figure_format(const ArcwiseFigure *f, ArcwiseUnits units, gboolean signed_diff);
 
-/* Plain-words notes on where the path can be trusted (Pango markup). */
+/* Plain-words notes on where the path can be trusted (Pango markup): camera gaps per phase,
+ * which sensor carried each phase (when the analysis measured it), the analysis's quality
+ * notes, and the caution that the numbers are estimates. */
 char *arcwise_quality_text(const ArcwiseSwingModel *m, ArcwiseUnits units);
 
 /* Per-phase RMS and maximum distance between swing a and swing b sampled at a's times mapped

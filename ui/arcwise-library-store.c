@@ -81,8 +81,14 @@ store_loader(ArcwiseSwingItem *item, gpointer data, GError **error)
   ArcwiseSwingPlacement pl;
   arcwise_swing_placement_default(&pl);
   pl.club_length_m = isfinite(ld->club_length_m) ? ld->club_length_m : 0.0;
-  return arcwise_swing_model_new_from_fused(d->path, d->path->t_s[0], d->path->t_s[d->path->n - 1],
-                                            &ev, &pl, error);
+  ArcwiseSwingModel *m = arcwise_swing_model_new_from_fused(d->path, d->path->t_s[0],
+                                                            d->path->t_s[d->path->n - 1], &ev,
+                                                            &pl, error);
+  /* The numbers, quality notes and sensor trust the sheet shows are the stored analysis's,
+   * never recomputed here. */
+  if (m != NULL && d->swing != NULL)
+    arcwise_swing_model_set_analysis(m, d->swing);
+  return m;
 }
 
 static char *

@@ -25,6 +25,7 @@ struct _ArcwiseWindow {
   GtkWidget *library_box;
   GtkSearchEntry *search_entry;
   GtkDropDown *player_dropdown;
+  GtkDropDown *session_dropdown;
   GtkDropDown *filter_dropdown;
   GtkListView *swing_list;
   GtkLabel *library_label;
@@ -57,6 +58,8 @@ struct _ArcwiseWindow {
   GtkSingleSelection *selection;
   GtkCustomFilter *filter;
   GtkStringList *player_names;    /* "Every player", then names */
+  GtkStringList *session_names;   /* "Every session", then the chosen player's sessions */
+  GArray *session_ids;            /* gint64 per entry of session_names, 0 = every session */
   GtkStringList *compare_names;
   GPtrArray *compare_items;       /* ArcwiseSwingItem*, parallel to compare_names */
   GtkToggleButton *stars[5];
@@ -218,10 +221,13 @@ update_numbers(ArcwiseWindow *self)
   }
   ArcwiseFigure f[ARCWISE_N_FIGURES];
   arcwise_figures_for_model(m, f);
-  for (int i = 0; i < ARCWISE_N_FIGURES; i++) {
+  for (int i = 0, row = 0; i < ARCWISE_N_FIGURES; i++) {
+    if (!isfinite(f[i].value) && i >= 7)
+      continue;   /* only the analysis knows these; the note below says it has not run */
     g_autofree char *v = arcwise_figure_format(&f[i], self->units, FALSE);
-    gtk_grid_attach(self->metrics_grid, cell(f[i].label, "figure-label", 0), 0, i, 1, 1);
-    gtk_grid_attach(self->metrics_grid, cell(v, "figure-value", 1), 1, i, 1, 1);
+    gtk_grid_attach(self->metrics_grid, cell(f[i].label, "figure-label", 0), 0, row, 1, 1);
+    gtk_grid_attach(self->metrics_grid, cell(v, "figure-value", 1), 1, row, 1, 1);
+    row++;
   }
   g_autofree char *q = arcwise_quality_text(m, self->units);
   gtk_label_set_markup(self->quality_label, q);
@@ -234,20 +240,23 @@ update_legend(ArcwiseWindow *self)
   ArcwiseSceneOptions *o = arcwise_stage_get_options(self->stage);
   GString *s = g_string_new(NULL);
   if (m != NULL && o->show_band) {
-    g_string_append(s, "<b>Who carried the path</b>  (band = 2σ)\n");
+    /* Which sensor carried each phase is the analysis's masking test (the fusion re-run
+     * without each sensor); without an analysis that knows it, the legend says so rather
+     * than guess from the fusion's raw information share. */
+    g_string_append(s, "<b>Who carried the path</b>  (band = ±2σ of the fused path)\n");
     for (int p = ARCWISE_SCENE_PHASE_BACKSWING; p <= ARCWISE_SCENE_PHASE_FOLLOW_THROUGH; p++) {
-      double share = m->phase_cam_share[p];
-      if (!isfinite(share))
-        continue;
+      int dom = m->analysed.present ? m->analysed.dominance[p] : AW_DOMINANCE_UNKNOWN;
+      float carried = dom == AW_DOMINANCE_CAMERA ? 1.0f : dom == AW_DOMINANCE_IMU ? 0.0f : 0.5f;
+      const char *who = dom == AW_DOMINANCE_CAMERA ? "camera" :
+                        dom == AW_DOMINANCE_IMU ? "wrist sensor" :
+                        dom == AW_DOMINANCE_SHARED ? "both sensors" : "not measured";
       float rgb[3];
-      arcwise_scene_sensor_rgb((float)share, rgb);
-      g_autofree char *band = NULL;
-      ArcwiseFigure f = { "", (double)m->phase_band_max_m[p] / 2.0, ARCWISE_FIGURE_LENGTH };
-      band = arcwise_figure_format(&f, self->units, FALSE);
-      g_string_append_printf(s, "<span foreground='#%02x%02x%02x'>■</span> %s: %s (camera %.0f %%), "
-                             "up to ±%s\n", (int)(rgb[0] * 255), (int)(rgb[1] * 255),
-                             (int)(rgb[2] * 255), arcwise_phase_label(p),
-                             share >= 0.5 ? "camera" : "wrist sensor", 100 * share, band);
+      arcwise_scene_sensor_rgb(carried, rgb);
+      ArcwiseFigure f = { "", (double)m->phase_band_max_m[p], ARCWISE_FIGURE_LENGTH };
+      g_autofree char *band = arcwise_figure_format(&f, self->units, FALSE);
+      g_string_append_printf(s, "<span foreground='#%02x%02x%02x'>■</span> %s: %s, "
+                             "widest ±%s\n", (int)(rgb[0] * 255), (int)(rgb[1] * 255),
+                             (int)(rgb[2] * 255), arcwise_phase_label(p), who, band);
     }
   } else if (m != NULL && o->colour == ARCWISE_SCENE_COLOUR_PHASE) {
     for (int p = 0; p < ARCWISE_SCENE_N_PHASES; p++) {
@@ -404,7 +413,9 @@ update_compare(ArcwiseWindow *self)
   gtk_grid_attach(self->compare_grid, cell("Laid over", "figure-head", 1), 2, row, 1, 1);
   gtk_grid_attach(self->compare_grid, cell("Difference", "figure-head", 1), 3, row, 1, 1);
   row++;
-  for (int i = 0; i < ARCWISE_N_FIGURES; i++, row++) {
+  for (int i = 0; i < ARCWISE_N_FIGURES; i++) {
+    if (!isfinite(fa[i].value) && !isfinite(fb[i].value))
+      continue;
     ArcwiseFigure d = fb[i];
     d.value = fb[i].value - fa[i].value;
     g_autofree char *va = arcwise_figure_format(&fa[i], self->units, FALSE);
@@ -414,6 +425,7 @@ update_compare(ArcwiseWindow *self)
     gtk_grid_attach(self->compare_grid, cell(va, "figure-value", 1), 1, row, 1, 1);
     gtk_grid_attach(self->compare_grid, cell(vb, "figure-value", 1), 2, row, 1, 1);
     gtk_grid_attach(self->compare_grid, cell(vd, "figure-diff", 1), 3, row, 1, 1);
+    row++;
   }
   double rms[ARCWISE_SCENE_N_PHASES], mx[ARCWISE_SCENE_N_PHASES];
   arcwise_phase_deviation(m, self->other_shifted, sync_mode(self), rms, mx);
@@ -476,6 +488,14 @@ arcwise_window_select_index(ArcwiseWindow *self, guint index)
 {
   if (index < g_list_model_get_n_items(G_LIST_MODEL(self->selection)))
     gtk_single_selection_set_selected(self->selection, index);
+}
+
+guint
+arcwise_window_drill(ArcwiseWindow *self, guint player, guint session)
+{
+  gtk_drop_down_set_selected(self->player_dropdown, player);
+  gtk_drop_down_set_selected(self->session_dropdown, session);
+  return g_list_model_get_n_items(G_LIST_MODEL(self->selection));
 }
 
 guint
@@ -550,12 +570,68 @@ filter_func(gpointer item, gpointer data)
     if (g_strcmp0(name, it->player) != 0)
       return FALSE;
   }
+  guint si = gtk_drop_down_get_selected(self->session_dropdown);
+  if (self->session_ids != NULL && si != GTK_INVALID_LIST_POSITION && si > 0 &&
+      si < self->session_ids->len &&
+      it->session_id != g_array_index(self->session_ids, gint64, si))
+    return FALSE;
   switch (gtk_drop_down_get_selected(self->filter_dropdown)) {
   case 1: return it->reference;
   case 2: return it->rating >= 4;
   case 3: return isfinite(it->camera_gap_share) && it->camera_gap_share > 0.25;
   default: return TRUE;
   }
+}
+
+/* The drill-down's middle step: the sessions of the chosen player (of everyone when no player
+ * is chosen), newest last as the library lists them, each with its number of swings. */
+static void
+rebuild_sessions(ArcwiseWindow *self)
+{
+  const char *player = NULL;
+  guint p = gtk_drop_down_get_selected(self->player_dropdown);
+  if (p != GTK_INVALID_LIST_POSITION && p > 0 && self->player_names != NULL)
+    player = gtk_string_list_get_string(self->player_names, p);
+  g_array_set_size(self->session_ids, 0);
+  gint64 every = 0;
+  g_array_append_val(self->session_ids, every);
+  GPtrArray *labels = g_ptr_array_new_with_free_func(g_free);
+  g_ptr_array_add(labels, g_strdup("Every session"));
+  GArray *counts = g_array_new(FALSE, TRUE, sizeof(guint));
+  guint zero = 0;
+  g_array_append_val(counts, zero);
+  guint n = g_list_model_get_n_items(G_LIST_MODEL(self->items));
+  for (guint i = 0; i < n; i++) {
+    g_autoptr(ArcwiseSwingItem) it = g_list_model_get_item(G_LIST_MODEL(self->items), i);
+    if (player != NULL && g_strcmp0(player, it->player) != 0)
+      continue;
+    guint k = 1;
+    while (k < self->session_ids->len && g_array_index(self->session_ids, gint64, k) != it->session_id)
+      k++;
+    if (k == self->session_ids->len) {
+      g_array_append_val(self->session_ids, it->session_id);
+      g_ptr_array_add(labels, player ? g_strdup(it->session)
+                                     : g_strdup_printf("%s · %s", it->player, it->session));
+      g_array_append_val(counts, zero);
+    }
+    g_array_index(counts, guint, k)++;
+  }
+  GPtrArray *names = g_ptr_array_new_with_free_func(g_free);
+  for (guint k = 0; k < labels->len; k++)
+    g_ptr_array_add(names, k == 0 ? g_strdup(g_ptr_array_index(labels, k))
+                                  : g_strdup_printf("%s (%u)", (char *)g_ptr_array_index(labels, k),
+                                                    g_array_index(counts, guint, k)));
+  g_ptr_array_add(names, NULL);
+  gboolean was = self->updating;
+  self->updating = TRUE;
+  g_clear_object(&self->session_names);
+  self->session_names = gtk_string_list_new((const char *const *)names->pdata);
+  gtk_drop_down_set_model(self->session_dropdown, G_LIST_MODEL(self->session_names));
+  gtk_drop_down_set_selected(self->session_dropdown, 0);
+  self->updating = was;
+  g_ptr_array_unref(names);
+  g_ptr_array_unref(labels);
+  g_array_unref(counts);
 }
 
 static void
@@ -579,6 +655,15 @@ on_dropdown_changed(GObject *o, GParamSpec *p, ArcwiseWindow *self)
 {
   if (!self->updating)
     refilter(self);
+}
+
+static void
+on_player_changed(GObject *o, GParamSpec *p, ArcwiseWindow *self)
+{
+  if (self->updating)
+    return;
+  rebuild_sessions(self);
+  refilter(self);
 }
 
 static void
@@ -1064,6 +1149,7 @@ arcwise_window_reload(ArcwiseWindow *self)
   g_clear_object(&self->player_names);
   self->player_names = gtk_string_list_new((const char *const *)names->pdata);
   gtk_drop_down_set_model(self->player_dropdown, G_LIST_MODEL(self->player_names));
+  rebuild_sessions(self);
   g_hash_table_unref(seen);
   g_ptr_array_unref(names);
   self->updating = FALSE;
@@ -1149,6 +1235,8 @@ arcwise_window_dispose(GObject *object)
   g_clear_pointer(&self->compare_items, g_ptr_array_unref);
   g_clear_object(&self->compare_names);
   g_clear_object(&self->player_names);
+  g_clear_object(&self->session_names);
+  g_clear_pointer(&self->session_ids, g_array_unref);
   g_clear_object(&self->selection);
   g_clear_object(&self->items);
   g_clear_object(&self->settings);
@@ -1169,7 +1257,8 @@ arcwise_window_class_init(ArcwiseWindowClass *klass)
 #define BIND(x) gtk_widget_class_bind_template_child(widget_class, ArcwiseWindow, x)
   BIND(subtitle_label); BIND(library_toggle); BIND(compare_toggle); BIND(import_revealer);
   BIND(import_label); BIND(import_progress); BIND(outer_paned); BIND(inner_paned);
-  BIND(library_box); BIND(search_entry); BIND(player_dropdown); BIND(filter_dropdown);
+  BIND(library_box); BIND(search_entry); BIND(player_dropdown); BIND(session_dropdown);
+  BIND(filter_dropdown);
   BIND(swing_list); BIND(library_label); BIND(stage); BIND(view_bar); BIND(legend_label);
   BIND(empty_label); BIND(transport); BIND(play_button); BIND(speed_dropdown); BIND(time_label); BIND(timeline);
   BIND(sheet_box); BIND(sheet_stack); BIND(metrics_grid); BIND(speed_chart);
@@ -1218,7 +1307,9 @@ arcwise_window_init(ArcwiseWindow *self)
   g_object_ref(self->selection);
 
   self->compare_items = g_ptr_array_new();
-  g_signal_connect(self->player_dropdown, "notify::selected", G_CALLBACK(on_dropdown_changed), self);
+  self->session_ids = g_array_new(FALSE, FALSE, sizeof(gint64));
+  g_signal_connect(self->player_dropdown, "notify::selected", G_CALLBACK(on_player_changed), self);
+  g_signal_connect(self->session_dropdown, "notify::selected", G_CALLBACK(on_dropdown_changed), self);
   g_signal_connect(self->filter_dropdown, "notify::selected", G_CALLBACK(on_dropdown_changed), self);
   g_signal_connect(self->compare_dropdown, "notify::selected", G_CALLBACK(on_compare_choice), self);
   g_signal_connect(self->sync_dropdown, "notify::selected", G_CALLBACK(on_compare_choice), self);

@@ -22,6 +22,9 @@ void arcwise_window_import_files(ArcwiseWindow *self, GFile **files, guint n);
 
 /* For the scripted smoke test (arcwise-smoke.c). */
 void arcwise_window_select_index(ArcwiseWindow *self, guint index);
+/* Chooses the player (0 = every player) and then the session (0 = every session) of the
+ * library's drill-down; returns the number of swings then listed. */
+guint arcwise_window_drill(ArcwiseWindow *self, guint player, guint session);
 guint arcwise_window_get_n_visible(ArcwiseWindow *self);
 ArcwiseStage *arcwise_window_get_stage(ArcwiseWindow *self);
 double arcwise_window_get_time(ArcwiseWindow *self);

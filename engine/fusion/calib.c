@@ -124,7 +124,7 @@ w_imu_acc(const WCtx *w, size_t k, double shift, size_t *hint, double out[3], do
 /* Wahba's problem at a clock shift, with the lever arm l (body frame) solved alternately:
  * a_cam_k = R (F_k + M_k l) + g. Returns the residual rms. */
 static double
-w_resid(const WCtx *w, double shift, double q_out[4], double g_out[3], double l_out[3])
+w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[3], double l_out[3])
 {
   double (*F)[3] = malloc(sizeof *F * (w->m ? w->m : 1));
   double (*M)[3][3] = malloc(sizeof *M * (w->m ? w->m : 1));
@@ -137,7 +137,7 @@ w_resid(const WCtx *w, double shift, double q_out[4], double g_out[3], double l_
   }
   if (cnt < 10) { free(F); free(M); free(ok); return INFINITY; }
   double l[3] = { 0, 0, 0 }, q[4] = { 1, 0, 0, 0 }, R[3][3], g[3] = { 0, 0, 0 }, rms = INFINITY;
-  for (int it = 0; it < 5; it++) {
+  for (int it = 0; it < iters; it++) {
     double ac[3] = { 0 }, fc[3] = { 0 };
     double (*Fl)[3] = F;   /* F + M l computed in place below into a temporary */
     double tmpc[3];
@@ -245,6 +245,12 @@ w_resid(const WCtx *w, double shift, double q_out[4], double g_out[3], double l_
   return rms;
 }
 
+static double
+w_resid(const WCtx *w, double shift, double q_out[4], double g_out[3], double l_out[3])
+{
+  return w_resid_n(w, shift, 5, q_out, g_out, l_out);
+}
+
 AwStatus
 aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam,
                     const AwFusionSettings *s, double g, const double g_cam0[3], AwCalib *out,
@@ -327,11 +333,15 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
       WCtx w = { tau, (const double (*)[3])fb0, (const double (*)[3])cum, (const double (*)[3])pb0,
                  (const double (*)[4])qb0, n_ok, cam, frames, m0, fmax(s->lever_arm_sigma_m, 1e-3) };
       if (m0 >= 10) {
+        /* +-150 ms on a 5 ms grid (the stage-1 peak can be that far off on noisy cameras),
+         * then two finer levels and a parabola. */
         double best = 0, br = INFINITY, step = 0.005;
         for (int j = -30; j <= 30; j++) {
-          double r = w_resid(&w, j * step, NULL, NULL, NULL);
+          /* the coarse grid only locates the basin: three rounds (trimmed once) suffice */
+          double r = w_resid_n(&w, j * step, 3, NULL, NULL, NULL);
           if (r < br) { br = r; best = j * step; }
         }
+        br = INFINITY;   /* the fine levels compare full fits only (j = 0 re-evaluates best) */
         for (int lev = 0; lev < 2; lev++) {
           double c0 = best;
           for (int j = -5; j <= 5; j++) {

@@ -103,10 +103,10 @@ rts(Ax *f, Ax *p, Ax *sn, double dt, Ax *s)
 }
 
 static void
-noise_var(const AwFusionSettings *s, double scale, const double p[3], double conf, double var[3])
+noise_var(const AwFusionSettings *s, const double scale[2], const double p[3], double conf, double var[3])
 {
   double z = fmax(p[2], 0.1);
-  double sxy = scale * s->cam_sigma_xy_m * z, sz = scale * s->cam_sigma_z_coeff_per_m * z * z;
+  double sxy = scale[0] * s->cam_sigma_xy_m * z, sz = scale[1] * s->cam_sigma_z_coeff_per_m * z * z;
   double w = 1.0 / fmax(conf, 0.05);
   var[0] = var[1] = sxy * sxy * w;
   var[2] = sz * sz * w;

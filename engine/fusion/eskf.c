@@ -413,10 +413,10 @@ typedef struct {
 
 /* Camera noise: the settings' model scaled by the level measured in the recording. */
 static void
-cam_noise(const AwFusionSettings *s, double scale, const double p[3], double conf, double R[3][3])
+cam_noise(const AwFusionSettings *s, const double scale[2], const double p[3], double conf, double R[3][3])
 {
   double z = fmax(p[2], 0.1);
-  double sxy = scale * s->cam_sigma_xy_m * z, sz = scale * s->cam_sigma_z_coeff_per_m * z * z;
+  double sxy = scale[0] * s->cam_sigma_xy_m * z, sz = scale[1] * s->cam_sigma_z_coeff_per_m * z * z;
   double w = 1.0 / fmax(conf, 0.05);   /* confidence scales the variance */
   memset(R, 0, sizeof(double) * 9);
   R[0][0] = sxy * sxy * w;
@@ -573,6 +573,11 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
   size_t *fstart = calloc(n + 1, sizeof *fstart);
   size_t *flist = malloc(sizeof *flist * (cam->n ? cam->n : 1));
   unsigned char *fstat = calloc(cam->n ? cam->n : 1, 1);
+  /* Frame decisions of the second pass, from the first pass's smoothed path: 0 = gate as
+   * usual, 1 = leave out, 2 = use without the gate. fres: the frame's normalised residual
+   * against the smoothed path (chi-square, 3 dof). */
+  unsigned char *fdec = calloc(cam->n ? cam->n : 1, 1);
+  float *fres = malloc(sizeof *fres * (cam->n ? cam->n : 1));
   Nom *xs = malloc(sizeof *xs * n);
   size_t B = n <= 20000 ? 1 : 16;     /* covariance checkpoint interval (memory bound) */
   size_t nck = (n + B - 1) / B;
@@ -581,7 +586,7 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
   size_t *ustart = calloc(n + 1, sizeof *ustart);
   UpdList ul = { 0 };
   AwStatus st = AW_OK;
-  if (!fstart || !flist || !fstat || !xs || !Pck || !Pblk || !ustart) { st = AW_ERR_NO_MEMORY; goto out; }
+  if (!fstart || !flist || !fstat || !fdec || !fres || !xs || !Pck || !Pblk || !ustart) { st = AW_ERR_NO_MEMORY; goto out; }
   {
     size_t hint = 0, cnt = 0;
     size_t *fstep = malloc(sizeof *fstep * (cam->n ? cam->n : 1));
@@ -606,6 +611,38 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
     (void)cnt;
   }
 
+  const double clock_offset_in = rep->clock_offset_s;
+  /* Two passes. A forward filter must judge each camera frame on the past alone: right after
+   * the IMU saturated or the hands came out of an occlusion it cannot tell a snapped detection
+   * from its own drift. The first pass's smoothed path sees both sides, so the second pass
+   * keeps exactly the frames that agree with it (chi-square gate on residual against the
+   * smoothed path, camera noise plus smoothed variance) and leaves the others out. */
+  const int n_pass = use_cam ? 2 : 1;
+  for (int pass = 0; pass < n_pass; pass++) {
+  if (pass > 0) {
+    /* Only if the smoothed path disagrees with a forward decision, or the first pass had to
+     * re-anchor (which cuts the smoother's view across the disagreement), does a second pass
+     * differ from the first. */
+    size_t changed = 0;
+    for (size_t k = 0; k < cam->n; k++) {
+      if (fstat[k] == FR_MISSING || fstat[k] == FR_NONE) continue;
+      bool keep = (double)fres[k] <= s->gate_chi2;
+      if (keep != (fstat[k] == FR_ACCEPTED)) changed++;
+    }
+    if (changed == 0 && rep->gate_recoveries == 0) break;
+    rep->clock_offset_s = clock_offset_in;
+    rep->cam_frames_used = rep->cam_frames_rejected = rep->cam_frames_missing = 0;
+    rep->imu_samples_saturated = rep->zupt_samples = rep->imu_gaps = rep->gate_recoveries = 0;
+    memset(path->flags, 0, sizeof *path->flags * n);
+    ul.n = 0;
+    for (size_t k = 0; k < cam->n; k++) {
+      if (fstat[k] == FR_MISSING) continue;
+      if (fstat[k] == FR_NONE) continue;   /* not on the IMU grid: not used either way */
+      fdec[k] = (double)fres[k] <= s->gate_chi2 ? 2 : 1;
+      fstat[k] = FR_NONE;
+    }
+  }
+  for (size_t k = 0; k < cam->n; k++) fres[k] = INFINITY;
   /* Initial state. */
   Nom x;
   memset(&x, 0, sizeof x);
@@ -694,6 +731,7 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
     if (use_cam)
       for (size_t j = fstart[i]; j < fstart[i + 1]; j++) {
         size_t k = flist[j];
+        if (fdec[k] == 1) { fstat[k] = FR_REJECTED; rep->cam_frames_rejected++; continue; }
         double delta = cam->t_s[k] - tau[i];
         double h[3], Hb[3][NH], R[3][3], y[3];
         cam_predict(&m, &x, i, delta, h, Hb);
@@ -703,7 +741,7 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
         if (!u) { st = AW_ERR_NO_MEMORY; goto out; }
         bool acc;
         double nis = kf_update(P, &x, Hb, R, y,
-                               s->gate_chi2, false, &acc, u);
+                               s->gate_chi2, fdec[k] == 2, &acc, u);
         if (!acc) {
           ul.n--;
           if (isnan(rej_since)) rej_since = cam->t_s[k];
@@ -800,6 +838,7 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
         path->vel_cam_m_s[ii][a] = xsm.v[a] + Rwl[a];
       }
       memcpy(path->q_cam_body[ii], xsm.q, sizeof xsm.q);
+      double ksig2[3];
       {
         /* keypoint = p + R l: J = [I, 0, -[Rl]x, R, 0 ...]; smoothed P_s = P - P L P, so
          * J P_s J^T = J P J^T - (J P) L (J P)^T. */
@@ -828,8 +867,21 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
           double var = jpj - red;
           if (!(var > 1e-12) || !isfinite(var)) var = jpj;
           path->pos_sigma_cam_m[ii][r] = sqrt(fmax(var, 1e-12));
+          ksig2[r] = fmax(var, 1e-12);
         }
       }
+      if (use_cam && pass + 1 < n_pass)
+        for (size_t j = fstart[ii]; j < fstart[ii + 1]; j++) {
+          size_t k = flist[j];
+          double h[3], Hb[3][NH], Rc[3][3], r2 = 0;
+          cam_predict(&m, &xsm, ii, cam->t_s[k] - tau[ii], h, Hb);
+          cam_noise(s, cam->noise_scale, cam->pos_m[k], cam->conf ? cam->conf[k] : 1, Rc);
+          for (int a = 0; a < 3; a++) {
+            double e = cam->pos_m[k][a] - h[a];
+            r2 += e * e / (Rc[a][a] + ksig2[a]);
+          }
+          fres[k] = (float)r2;
+        }
       if (ii == imid) {
         memcpy(rep->accel_bias_m_s2, xsm.ba, sizeof xsm.ba);
         memcpy(rep->gyro_bias_rad_s, xsm.bg, sizeof xsm.bg);
@@ -860,6 +912,7 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
     }
     free(L);
   }
+  }   /* passes */
 
   /* Per-sample camera status from the nearest frame. */
   {

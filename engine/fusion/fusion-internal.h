@@ -23,7 +23,8 @@ typedef struct {
   double fit_half_s;          /* half-width of the local fit */
   /* The fit is linear in the positions: acc[k] = sum over j of wval * pos[widx], j in
    * wstart[k] .. wstart[k+1]; the sync applies the same weights to the IMU. */
-  double noise_scale;         /* camera noise relative to the settings' model, from the data */
+  double noise_scale[2];      /* camera noise relative to the settings' model, from the data:
+                                 lateral (x, y) and depth (z) measured apart */
   size_t *wstart;
   uint32_t *widx;
   double *wval;

@@ -148,10 +148,12 @@ aw_fusion_prep_cam(const AwDepthStream *d, const AwFusionSettings *s, AwCamPrep 
    * in units of the model's sigma. For a quadratic over ~13 frames the centre residual has
    * variance sigma^2 (1 - h), h ~ 0.2; the median of a chi-square(1) is 0.455. The median
    * keeps the fast parts of a swing (where the quadratic lags) from inflating it. */
-  c->noise_scale = 1.0;
+  c->noise_scale[0] = c->noise_scale[1] = 1.0;
   {
+    /* lateral residuals fill r2 from the front, depth residuals rz */
     double *r2 = malloc(sizeof *r2 * 3 * (d->n ? d->n : 1));
-    size_t nr = 0;
+    double *rz = r2 ? r2 + 2 * (d->n ? d->n : 1) : NULL;
+    size_t nr = 0, nz = 0;
     if (r2) {
       for (size_t k = 0; k < d->n; k++) {
         if (!c->acc_ok[k]) continue;
@@ -167,13 +169,19 @@ aw_fusion_prep_cam(const AwDepthStream *d, const AwFusionSettings *s, AwCamPrep 
           /* x[k-1] - 2 x[k] + x[k+1] minus the fitted curvature: noise variance 6 sigma^2 */
           double dd = d->pos_cam_m[k - 1][a] - 2 * d->pos_cam_m[k][a] + d->pos_cam_m[k + 1][a] -
                       c->acc_m_s2[k][a] * h1 * h2;
-          r2[nr++] = dd * dd / (6.0 * sig[a] * sig[a]);
+          double q = dd * dd / (6.0 * sig[a] * sig[a]);
+          if (a < 2) r2[nr++] = q; else rz[nz++] = q;
         }
       }
       if (nr >= 30) {
         qsort(r2, nr, sizeof *r2, cmp_double);
         double sc2 = r2[nr / 2] / 0.455;
-        c->noise_scale = sqrt(fmin(fmax(sc2, 0.25), 25.0));
+        c->noise_scale[0] = sqrt(fmin(fmax(sc2, 0.25), 25.0));
+      }
+      if (nz >= 15) {
+        qsort(rz, nz, sizeof *rz, cmp_double);
+        double sc2 = rz[nz / 2] / 0.455;
+        c->noise_scale[1] = sqrt(fmin(fmax(sc2, 0.25), 25.0));
       }
       free(r2);
     }
@@ -414,6 +422,11 @@ aw_fusion_locate(const double *t, size_t n, double x, size_t *hint)
   if (t[i] <= x && (i + 1 >= n || t[i + 1] > x)) goto done;
   if (t[i] <= x && i + 8 < n && t[i + 8] > x) {
     while (t[i + 1] <= x) i++;
+    goto done;
+  }
+  /* and backwards (overlapping windows of successive queries start a little earlier) */
+  if (t[i] > x && i >= 8 && t[i - 8] <= x) {
+    while (t[i] > x) i--;
     goto done;
   }
   {

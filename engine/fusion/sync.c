@@ -30,6 +30,9 @@ typedef struct {
   double (*cumb)[3];   /* its running integral */
   double (*pb)[3];     /* its double integral */
   bool exact;          /* fine stage: the camera's own fit weights on the IMU double integral */
+  double (*dyn)[3];    /* imu_dyn at every IMU sample (NaN where undefined), or NULL */
+  double *grid_rc;     /* scores of the first full-range grid, kept for coarse_peaks */
+  size_t grid_n;
 } SyncCtx;
 
 /* Double integral of f_b0 at IMU time t, exact for f linear between samples. */
@@ -54,11 +57,22 @@ static bool
 imu_dyn(const SyncCtx *c, double ti, size_t *hint, double out[3])
 {
   const AwImuPrep *imu = c->imu;
+  if (c->dyn) {
+    /* Tabulated at the samples: the box mean over +-half (>= 0.1 s) is smooth on the scale of
+     * one IMU interval, so linear interpolation between samples is exact to far below the
+     * camera's acceleration noise, and every look-up is O(1) for monotone queries. */
+    if (ti - c->half < imu->t_s[0] || ti + c->half > imu->t_s[imu->n - 1]) return false;
+    size_t i = aw_fusion_locate(imu->t_s, imu->n, ti, hint);
+    if (i + 1 >= imu->n) return false;
+    double u = (ti - imu->t_s[i]) / (imu->t_s[i + 1] - imu->t_s[i]);
+    for (int a = 0; a < 3; a++) out[a] = c->dyn[i][a] + u * (c->dyn[i + 1][a] - c->dyn[i][a]);
+    return !isnan(out[0]);
+  }
   double fm[3], mm[3];
   if (!aw_fusion_box_mean(imu->t_s, c->cumb, c->fb0, imu->n, ti - c->half, ti + c->half, hint, fm))
     return false;
   double t0 = fmax(imu->t_s[0], ti - 5.0), t1 = fmin(imu->t_s[imu->n - 1], ti + 5.0);
-  size_t h2 = 0;
+  size_t h2 = *hint;
   if (!aw_fusion_box_mean(imu->t_s, c->cumb, c->fb0, imu->n, t0, t1, &h2, mm)) return false;
   for (int a = 0; a < 3; a++) out[a] = fm[a] - mm[a];
   return true;
@@ -122,7 +136,7 @@ typedef struct {
 
 /* Coarse-to-fine maximisation of score over offsets [lo, hi]. */
 static Peak
-search(const SyncCtx *c, double lo, double hi, double step0, double drift, double ta, double tb)
+search(SyncCtx *c, double lo, double hi, double step0, double drift, double ta, double tb)
 {
   Peak pk = { 0, -2, 0, -2, 0 };
   size_t nstep = (size_t)ceil((hi - lo) / step0) + 1;
@@ -132,6 +146,10 @@ search(const SyncCtx *c, double lo, double hi, double step0, double drift, doubl
   for (size_t i = 0; i < nstep; i++) {
     rc[i] = score(c, lo + step0 * (double)i, drift, ta, tb, NULL);
     if (rc[i] > rc[best]) best = i;
+  }
+  if (c->grid_rc == NULL && !c->exact && isinf(ta) && isinf(tb)) {
+    c->grid_rc = malloc(sizeof *rc * nstep);
+    if (c->grid_rc) { memcpy(c->grid_rc, rc, sizeof *rc * nstep); c->grid_n = nstep; }
   }
   double center = lo + step0 * (double)best;
   /* Second-best peak away from the best (periodic or ambiguous motion lowers the confidence). */
@@ -174,7 +192,9 @@ coarse_peaks(const SyncCtx *c, double lo, double hi, double step, double out[3],
   size_t nstep = (size_t)ceil((hi - lo) / step) + 1;
   double *rc = malloc(sizeof *rc * nstep);
   if (!rc) return 0;
-  for (size_t i = 0; i < nstep; i++) rc[i] = score(c, lo + step * (double)i, 0, -INFINITY, INFINITY, NULL);
+  if (c->grid_rc && c->grid_n == nstep) memcpy(rc, c->grid_rc, sizeof *rc * nstep);
+  else
+    for (size_t i = 0; i < nstep; i++) rc[i] = score(c, lo + step * (double)i, 0, -INFINITY, INFINITY, NULL);
   int k = 0;
   double val[3] = { -3, -3, -3 };
   for (size_t i = 0; i < nstep; i++) {
@@ -286,12 +306,13 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
                         "camera frames span %.3f..%.3f s but the IMU spans %.3f..%.3f s: they do "
                         "not overlap within the +-%.2f s clock-offset range", tc0, tc1, ti0, ti1,
                         max_off);
-  SyncCtx c = { imu, cam, 0.5 * (ti0 + ti1), 0.5 * cam->fit_half_s, NULL, g, NULL, NULL, NULL, false };
+  SyncCtx c = { imu, cam, 0.5 * (ti0 + ti1), 0.5 * cam->fit_half_s, NULL, g, NULL, NULL, NULL, false,
+                NULL, NULL, 0 };
   c.sc = malloc(sizeof *c.sc * cam->n);
   c.fb0 = malloc(sizeof *c.fb0 * imu->n);
   c.cumb = malloc(sizeof *c.cumb * imu->n);
   c.pb = malloc(sizeof *c.pb * imu->n);
-  if (!c.sc || !c.fb0 || !c.cumb || !c.pb) { free(c.sc); free(c.fb0); free(c.cumb); free(c.pb); return AW_ERR_NO_MEMORY; }
+  if (!c.sc || !c.fb0 || !c.cumb || !c.pb) { free(c.sc); free(c.fb0); free(c.cumb); free(c.pb); free(c.dyn); free(c.grid_rc); return AW_ERR_NO_MEMORY; }
   {
     /* Gyro bias from the still samples (if any), then the attitude chain. */
     double bg[3] = { 0 };
@@ -322,21 +343,73 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
         c.pb[i][a] = c.pb[i - 1][a] + dt * c.cumb[i - 1][a] + dt * dt * (2 * c.fb0[i - 1][a] + c.fb0[i][a]) / 6.0;
     }
   }
+  {
+    double (*dyn)[3] = malloc(sizeof *dyn * imu->n);
+    if (dyn) {
+      size_t h = 0;
+      for (size_t i = 0; i < imu->n; i++)
+        if (!imu_dyn(&c, imu->t_s[i], &h, dyn[i])) dyn[i][0] = dyn[i][1] = dyn[i][2] = NAN;
+      c.dyn = dyn;
+    }
+  }
   set_cam_signal(&c, NULL);
-  /* Motion check: a still or nearly still recording has nothing to align on. */
-  double m1 = 0, m2 = 0;
-  for (size_t k = 0; k < cam->n; k++)
-    if (!isnan(c.sc[k])) { m1 += c.sc[k]; m2 += c.sc[k] * c.sc[k]; }
-  double sd = sqrt(fmax(0, m2 / (double)n_acc - (m1 / (double)n_acc) * (m1 / (double)n_acc)));
+  /* Motion check, wherever the motion is: the s.d. of the camera's acceleration over windows
+   * of +-1 s. A window above 0.5 m/s^2 (several times the acceleration noise of a still
+   * keypoint) is motion; only frames within 3 s of motion take part in the alignment, so a
+   * swing in a long, mostly still capture is found and the still stretches (noise only on the
+   * camera side) neither dilute the correlation nor cost time. */
+  double sd = 0;
+  {
+    double *c1 = malloc(sizeof *c1 * (cam->n + 1)), *c2 = malloc(sizeof *c2 * (cam->n + 1));
+    size_t *cn = malloc(sizeof *cn * (cam->n + 1));
+    unsigned char *mov = calloc(cam->n ? cam->n : 1, 1);
+    if (!c1 || !c2 || !cn || !mov) {
+      free(c1); free(c2); free(cn); free(mov);
+      free(c.sc); free(c.fb0); free(c.cumb); free(c.pb); free(c.dyn); free(c.grid_rc);
+      return AW_ERR_NO_MEMORY;
+    }
+    c1[0] = c2[0] = 0;
+    cn[0] = 0;
+    for (size_t k = 0; k < cam->n; k++) {
+      bool ok = !isnan(c.sc[k]);
+      c1[k + 1] = c1[k] + (ok ? c.sc[k] : 0);
+      c2[k + 1] = c2[k] + (ok ? c.sc[k] * c.sc[k] : 0);
+      cn[k + 1] = cn[k] + ok;
+    }
+    size_t lo = 0, hi = 0;
+    for (size_t k = 0; k < cam->n; k++) {
+      while (lo < k && cam->t_s[lo] < cam->t_s[k] - 1.0) lo++;
+      if (hi < k) hi = k;
+      while (hi + 1 < cam->n && cam->t_s[hi + 1] <= cam->t_s[k] + 1.0) hi++;
+      size_t m = cn[hi + 1] - cn[lo];
+      if (m < 10) continue;
+      double mu = (c1[hi + 1] - c1[lo]) / (double)m;
+      double s2 = sqrt(fmax(0, (c2[hi + 1] - c2[lo]) / (double)m - mu * mu));
+      if (s2 > sd) sd = s2;
+      mov[k] = s2 >= 0.5;
+    }
+    /* keep frames within 3 s of motion (two sweeps of the distance to the nearest) */
+    double last = -INFINITY;
+    for (size_t k = 0; k < cam->n; k++) {
+      if (mov[k]) last = cam->t_s[k];
+      cn[k] = cam->t_s[k] - last <= 3.0;
+    }
+    last = INFINITY;
+    for (size_t k = cam->n; k-- > 0;) {
+      if (mov[k]) last = cam->t_s[k];
+      if (!cn[k] && !(last - cam->t_s[k] <= 3.0)) c.sc[k] = NAN;
+    }
+    free(c1); free(c2); free(cn); free(mov);
+  }
   if (sd < 0.5) {
-    free(c.sc); free(c.fb0); free(c.cumb); free(c.pb);
+    free(c.sc); free(c.fb0); free(c.cumb); free(c.pb); free(c.dyn); free(c.grid_rc);
     return aw_error_set(err, AW_ERR_NO_CORRELATION, "depth", 0, 0,
                         "the camera saw almost no acceleration (s.d. %.2f m/s^2): there is no "
                         "motion to align the clocks on", sd);
   }
   Peak pk = search(&c, -max_off, max_off, 0.02, 0, -INFINITY, INFINITY);
   if (pk.n < 10 || pk.rho < -1) {
-    free(c.sc); free(c.fb0); free(c.cumb); free(c.pb);
+    free(c.sc); free(c.fb0); free(c.cumb); free(c.pb); free(c.dyn); free(c.grid_rc);
     return aw_error_set(err, AW_ERR_NO_OVERLAP, "depth", 0, 0,
                         "fewer than 10 camera frames overlap the IMU at any clock offset within "
                         "+-%.2f s", max_off);
@@ -354,7 +427,9 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
     double second = -2;
     /* The exact signal costs a dozen IMU look-ups per frame: the first 60 s of frames decide
      * between the candidates (drift over 60 s is below 6 ms); segments refine it below. */
-    double tb_exact = tc0 + 60.0;
+    double ta_motion = tc0;
+    for (size_t k = 0; k < cam->n; k++) if (!isnan(c.sc[k])) { ta_motion = cam->t_s[k]; break; }
+    double tb_exact = ta_motion + 60.0;
     for (int j = 0; j < nc; j++) {
       Peak p2 = search(&c, cand[j] - 0.06, cand[j] + 0.06, 0.02, 0, -INFINITY, tb_exact);
       if (p2.n < 10) continue;
@@ -370,7 +445,7 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
     size_t nseg = (size_t)(span / 30.0);
     double *so = calloc(nseg, sizeof *so), *st = calloc(nseg, sizeof *st),
            *sw = calloc(nseg, sizeof *sw);
-    if (!so || !st || !sw) { free(so); free(st); free(sw); free(c.sc); free(c.fb0); free(c.cumb); free(c.pb); return AW_ERR_NO_MEMORY; }
+    if (!so || !st || !sw) { free(so); free(st); free(sw); free(c.sc); free(c.fb0); free(c.cumb); free(c.pb); free(c.dyn); free(c.grid_rc); return AW_ERR_NO_MEMORY; }
     size_t ns = 0;
     /* +-100 ppm over the recording moves the offset by at most 1e-4 * span / 2 from its mean */
     double rng = 0.02 + 6e-5 * span;
@@ -404,7 +479,7 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
   }
   size_t nu = 0;
   double rho = score(&c, off_mid, drift, -INFINITY, INFINITY, &nu);
-  free(c.sc); free(c.fb0); free(c.cumb); free(c.pb);
+  free(c.sc); free(c.fb0); free(c.cumb); free(c.pb); free(c.dyn); free(c.grid_rc);
   if (rho < 0.5)
     return aw_error_set(err, AW_ERR_NO_CORRELATION, "depth", 0, 0,
                         "the camera and IMU motion do not agree at any clock offset within "

@@ -31,10 +31,14 @@ static const char *const fixtures[ARCWISE_STORE_SCHEMA_VERSION + 1] = {
   "INSERT INTO swing_metric (swing_id, name, unit, value) VALUES (21, 'tempo_ratio', '1', 3.0);",
   /* v4: a result written by the program at v4 (key numbers beside it) */
   "INSERT INTO swing_event (swing_id, name, t_s) VALUES (21, 'top', 2.5);",
+  /* v5: a reference swing from optical motion capture (two frames of 32 bytes) */
+  "INSERT INTO reference_path (id, player_id, name, source_name, source_sha256, marker, units, "
+  "  up_axis, rate_hz, n_frames, n_invalid, imported_utc, samples) VALUES (4, 7, 'optical', "
+  "  'a.c3d', 'dd', 'RWRA', 'mm', '+z', 200, 2, 0, '2026-02-14T10:00:02Z', zeroblob(64));",
 };
 
-/* The v3 rows as the current program writes them (for a library created at the current
- * version, where the v3 fixture's column layout no longer exists). */
+/* The v3 and v4 rows as the current program writes them (for a library created at version 4
+ * or later, where the v3 fixture's column layout no longer exists). */
 static const char current_results[] =
   "INSERT INTO result_settings (settings_sha256, settings) VALUES ('ab', 'k=1');"
   "INSERT INTO swing_result (swing_id, engine_version, settings_sha256, made_utc, analysed, "
@@ -73,6 +77,15 @@ check_data(ArcwiseStore *s, int from_version)
   }
   arcwise_swing_summary_free(w);
   g_clear_error(&e);
+  GPtrArray *refs = arcwise_store_list_references(s, 7, &e);
+  AW_CHECK(refs != NULL && refs->len == (from_version >= 5 ? 1u : 0u));
+  if (refs != NULL && refs->len == 1) {
+    const ArcwiseReference *r = g_ptr_array_index(refs, 0);
+    AW_CHECK(strcmp(r->marker, "RWRA") == 0 && r->n_frames == 2 && r->rate_hz == 200);
+  }
+  if (refs != NULL)
+    g_ptr_array_unref(refs);
+  g_clear_error(&e);
   char *dump = arcwise_store_schema_dump(s, &e);
   AW_CHECK(dump != NULL && strcmp(dump, fresh_schema) == 0);
   if (dump != NULL && strcmp(dump, fresh_schema) != 0)
@@ -91,9 +104,10 @@ static void
 fill_to(ArcwiseStore *s, int version)
 {
   GError *e = NULL;
-  gboolean current = arcwise_store_get_schema_version(s) == ARCWISE_STORE_SCHEMA_VERSION;
+  /* From version 4 on the v3 rows have the layout of current_results (which holds v4's too). */
+  gboolean current = arcwise_store_get_schema_version(s) >= 4;
   for (int v = 1; v <= version; v++) {
-    if (current && v >= 3) {
+    if (current && (v == 3 || v == 4)) {
       if (v == 3 && !arcwise_store_exec_script(s, current_results, &e)) {
         fprintf(stderr, "current fixture: %s\n", e->message);
         g_clear_error(&e);
@@ -189,14 +203,14 @@ test_refusals(const char *dir)
   ArcwiseStore *s = arcwise_store_open(path, ARCWISE_STORE_OPEN_CREATE, &e);
   AW_CHECK(s != NULL);
   /* What a future Arcwise would leave: a higher format number. */
-  AW_CHECK(arcwise_store_exec_script(s, "PRAGMA user_version = 5;", &e));
+  AW_CHECK(arcwise_store_exec_script(s, "PRAGMA user_version = 99;", &e));
   arcwise_store_close(s);
   char *before = st_file_sha(path);
   s = arcwise_store_open(path, ARCWISE_STORE_OPEN_DEFAULT, &e);
   AW_CHECK(s == NULL);
   AW_CHECK(g_error_matches(e, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_TOO_NEW));
   AW_CHECK(e != NULL && strstr(e->message, "newer Arcwise") != NULL &&
-           strstr(e->message, "format 5") != NULL);
+           strstr(e->message, "format 99") != NULL);
   g_clear_error(&e);
   char *after = st_file_sha(path);
   AW_CHECK(strcmp(before, after) == 0);
@@ -244,7 +258,7 @@ main(void)
   AW_CHECK(fresh != NULL);
   fresh_schema = arcwise_store_schema_dump(fresh, &e);
   arcwise_store_close(fresh);
-  AW_CHECK(fresh_schema != NULL && strstr(fresh_schema, "user_version 4") != NULL);
+  AW_CHECK(fresh_schema != NULL && strstr(fresh_schema, "user_version 5") != NULL);
 
   char *dir = st_tmpdir();
   for (int from = 0; from < ARCWISE_STORE_SCHEMA_VERSION; from++) {

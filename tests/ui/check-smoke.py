@@ -78,6 +78,10 @@ for line in open(os.path.join(d, "report.txt")):
 
 check(report.get("caution_shown") == "1", "first-run safety caution was shown")
 check(int(report.get("swings", 0)) >= 2, "library lists swings (%s)" % report.get("swings"))
+n_all, n_pl, n_se = (int(report.get(k, 0)) for k in ("swings", "drill_player_swings", "drill_session_swings"))
+check(0 < n_se <= n_pl < n_all and int(report.get("drill_all_swings", 0)) == n_all,
+      "drill-down: every swing %d, one player %d, one session %d, back to %s"
+      % (n_all, n_pl, n_se, report.get("drill_all_swings")))
 check(report.get("gl_error") == "none", "3-D view has no GL error (%s)" % report.get("gl_error"))
 check(float(report.get("step_dt", 0)) > 0, "frame step moves the playhead")
 check(float(report.get("play_time_after", 0)) > float(report.get("play_time_before", 0)) + 0.1,

@@ -85,6 +85,19 @@ arcwise_demo_swing_new(uint64_t seed, bool left_handed, GError **error)
     while (first < n && tr->t_s[first] < t0)
       first++;
     arcwise_swing_model_set_club_cam(m, (const double (*)[3])(tr->club_cam_m + first));
+    /* The sheet's numbers come from the engine's analysis of this path, as for a stored
+     * swing. The demo has no masked fusions, so which sensor carried each phase stays
+     * unknown. */
+    AwTrajectory traj;
+    aw_trajectory_from_fused(&p, 0.0, 0.0, &traj);
+    AwAnalysisSettings as;
+    aw_analysis_settings_default(&as);
+    as.handed = left_handed ? AW_HANDED_LEFT : AW_HANDED_RIGHT;
+    AwAnalysis *an = NULL;
+    AwError aerr = { 0 };
+    if (aw_analyze(&traj, &as, &an, &aerr) == AW_OK && an->n_swings > 0)
+      arcwise_swing_model_set_analysis(m, &an->swings[0]);
+    aw_analysis_free(an);
   }
   g_free(sigma);
   g_free(share);

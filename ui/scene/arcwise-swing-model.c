@@ -51,7 +51,42 @@ arcwise_swing_model_free(ArcwiseSwingModel *m)
   g_free(m->cam_share);
   g_free(m->band_m);
   g_free(m->club_m);
+  g_free(m->carried);
   g_free(m);
+}
+
+void
+arcwise_swing_model_set_analysis(ArcwiseSwingModel *m, const AwSwing *sw)
+{
+  g_clear_pointer(&m->carried, g_free);
+  memset(&m->analysed, 0, sizeof m->analysed);
+  if (sw == NULL)
+    return;
+  ArcwiseSwingAnalysed *a = &m->analysed;
+  a->present = true;
+  memcpy(a->metric, sw->metrics, sizeof a->metric);
+  a->notes = sw->quality.notes;
+  a->practice = sw->practice;
+  a->half = sw->half;
+  bool known = false;
+  for (int p = 0; p < ARCWISE_SCENE_N_PHASES && p < AW_PHASE_COUNT_; p++) {
+    a->dominance[p] = (int)sw->phases[p].dominance;
+    a->dev_camera_masked_m[p] = sw->phases[p].dev_camera_masked_m;
+    a->dev_imu_masked_m[p] = sw->phases[p].dev_imu_masked_m;
+    known = known || sw->phases[p].dominance != AW_DOMINANCE_UNKNOWN;
+  }
+  if (!known)
+    return;
+  m->carried = g_new(float, m->n);
+  for (size_t i = 0; i < m->n; i++) {
+    int p = m->phase[i] < ARCWISE_SCENE_N_PHASES ? m->phase[i] : 0;
+    switch (a->dominance[p]) {
+    case AW_DOMINANCE_CAMERA: m->carried[i] = 1.0f; break;
+    case AW_DOMINANCE_IMU: m->carried[i] = 0.0f; break;
+    case AW_DOMINANCE_SHARED: m->carried[i] = 0.5f; break;
+    default: m->carried[i] = m->cam_share[i]; break;
+    }
+  }
 }
 
 size_t
@@ -121,7 +156,7 @@ arcwise_swing_model_as_path(const ArcwiseSwingModel *m, ArcwiseScenePath *out)
   out->speed_m_s = m->speed_m_s;
   out->phase = m->phase;
   out->occluded = m->occluded;
-  out->cam_share = m->cam_share;
+  out->cam_share = m->carried ? m->carried : m->cam_share;
   out->band_m = m->band_m;
   out->club_m = (const float (*)[3])m->club_m;
 }
@@ -405,6 +440,7 @@ arcwise_swing_model_copy_shifted(const ArcwiseSwingModel *m, const float offset_
   c->cam_share = g_memdup2(m->cam_share, m->n * sizeof m->cam_share[0]);
   c->band_m = g_memdup2(m->band_m, m->n * sizeof m->band_m[0]);
   c->club_m = m->club_m ? g_memdup2(m->club_m, m->n * sizeof m->club_m[0]) : NULL;
+  c->carried = m->carried ? g_memdup2(m->carried, m->n * sizeof m->carried[0]) : NULL;
   for (size_t i = 0; i < c->n; i++)
     for (int k = 0; k < 3; k++) {
       c->pos_m[i][k] += offset_m[k];

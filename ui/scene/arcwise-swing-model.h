@@ -9,6 +9,7 @@
 #include <glib.h>
 
 #include "arcwise-scene.h"
+#include "arcwise/analysis.h"
 #include "arcwise/fusion.h"
 
 G_BEGIN_DECLS
@@ -20,6 +21,19 @@ typedef struct {
   double impact_s;
   double finish_s;    /* hands come to rest after the follow-through */
 } ArcwiseSwingEvents;
+
+/* What the swing's analysis says (analysis.h AwSwing): the library's stored result, or for a
+ * demo swing the engine's analysis of its simulated path. `present` is false when the swing
+ * has not been analysed; the workbench then measures the few figures it can on the path. */
+typedef struct {
+  bool present;
+  double metric[AW_METRIC_COUNT_];                 /* by AwMetricId, SI (angles in degrees) */
+  unsigned notes;                                  /* AW_NOTE_* bits */
+  bool practice, half;
+  int dominance[ARCWISE_SCENE_N_PHASES];           /* AwDominance: who carried each phase */
+  double dev_camera_masked_m[ARCWISE_SCENE_N_PHASES];  /* IMU-only fusion vs full, RMS */
+  double dev_imu_masked_m[ARCWISE_SCENE_N_PHASES];     /* camera-only fusion vs full, RMS */
+} ArcwiseSwingAnalysed;
 
 typedef struct {
   size_t n;
@@ -43,6 +57,11 @@ typedef struct {
   float phase_cam_share[ARCWISE_SCENE_N_PHASES];
   float phase_occluded[ARCWISE_SCENE_N_PHASES];     /* fraction of samples occluded */
   float phase_band_max_m[ARCWISE_SCENE_N_PHASES];   /* widest 2-sigma band in the phase */
+  /* Per sample, the sensor that carried the sample's phase by the analysis's masking test
+   * (1 camera, 0 wrist sensor, 0.5 both), which the trust band is coloured by; NULL until
+   * arcwise_swing_model_set_analysis() knew the dominance (the band then shows cam_share). */
+  float *carried;
+  ArcwiseSwingAnalysed analysed;
 } ArcwiseSwingModel;
 
 /* How the swing sits in the studio when the analysis does not say: hands at impact are
@@ -77,6 +96,10 @@ ArcwiseSwingModel *arcwise_swing_model_new_demo(int variant, int handed);
 /* Replaces the club-head path by camera-frame positions sampled on the same times as the
  * model (n entries), mapped with the model's placement. */
 void arcwise_swing_model_set_club_cam(ArcwiseSwingModel *m, const double (*club_cam_m)[3]);
+
+/* Takes the metrics, quality notes and per-phase sensor dominance of `sw` (the analysis of this
+ * same swing). NULL clears them. */
+void arcwise_swing_model_set_analysis(ArcwiseSwingModel *m, const AwSwing *sw);
 
 /* Recomputes phase[], the per-phase summaries and centre_m after events changed. */
 void arcwise_swing_model_update_phases(ArcwiseSwingModel *m);

@@ -182,3 +182,51 @@ void aw_c3d_path_spec_release(AwC3dWriteSpec *spec);
 
 AwStatus aw_c3d_write_fused_path(const char *path, const AwFusedPath *fused,
                                  const AwC3dPathOptions *opt, bool overwrite, AwError *err);
+
+/* ---- Checking a capture against optical motion capture ---- */
+
+/* Least-squares rigid fit: the rotation R (proper, det +1) and translation t minimising
+ * sum |R a_i + t - b_i|^2 over n >= 3 point pairs (Kabsch 1976, Acta Cryst. A32:922; solved in
+ * the unit-quaternion form of Horn 1987, J. Opt. Soc. Am. A 4:629, which gives the same
+ * minimiser and is always a proper rotation). AW_ERR_TOO_FEW for fewer than 3 pairs or points
+ * on a line (the rotation about it is then undetermined). */
+AwStatus aw_rigid_fit(const double (*a)[3], const double (*b)[3], size_t n, double R[3][3],
+                      double t[3], AwError *err);
+
+typedef struct {
+  double grid_hz;            /* rate of the common grid for the time search, default 100 Hz */
+  double smooth_s;           /* running-median window on the speed profiles, default 0.15 s */
+  double min_overlap;        /* share of the shorter signal that must overlap, default 0.5 */
+  double max_gap_s;          /* a path sample farther than this from a reference instant is a
+                                gap: no pair there (default 0.1 s) */
+  bool rotation;             /* true (default): rotation + translation; false: translation only */
+} AwRefCheckSettings;
+
+void aw_ref_check_settings_default(AwRefCheckSettings *out);
+
+typedef struct {
+  /* Time: t_path = t_reference + lag_s, found by the peak of the normalised cross-correlation
+   * of the two speed profiles (frame-free), then refined to the least-squares minimum. */
+  double lag_s;
+  double peak_corr;          /* Pearson correlation of the speed profiles at the peak */
+  /* Space: p_reference = R_ref_path p_path + t_ref_m (aw_rigid_fit). */
+  double R_ref_path[3][3];
+  double t_ref_m[3];
+  double rotation_deg;       /* angle of R_ref_path */
+  /* Errors after alignment, e = aligned path - reference, in the reference (lab) frame. */
+  size_t n_pairs;            /* reference samples paired with the path */
+  size_t n_ref_gaps;         /* reference samples that were invalid (kept as gaps) */
+  double rmse_m;             /* sqrt(mean |e|^2) */
+  double rmse_axis_m[3];     /* per lab axis */
+  double bias_axis_m[3];     /* mean of e per lab axis */
+  double max_err_m;
+  double p95_err_m;          /* 95th percentile of |e| */
+} AwRefCheck;
+
+/* Aligns a path (times t_s on any clock, positions in metres in any frame) with a marker
+ * trajectory in time and space and reports the remaining error. Errors: AW_ERR_TOO_FEW (fewer
+ * than 10 usable samples on either side), AW_ERR_NO_OVERLAP (no lag gives the required overlap),
+ * AW_ERR_NO_CORRELATION (the speed profiles never correlate positively). */
+AwStatus aw_ref_check(const double *t_s, const double (*pos_m)[3], size_t n,
+                      const AwMarkerTrajectory *ref, const AwRefCheckSettings *settings,
+                      AwRefCheck *out, AwError *err);

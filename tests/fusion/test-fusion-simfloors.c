@@ -1,0 +1,101 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* The simulator acceptance floors of the fusion (issue 4, "Acceptance"), asserted on seeded
+ * swings the benchmark does not use (`arcwise bench fuse` takes seeds 5000 and up, this test
+ * 9000 and up). The reference is the simulator's own truth path and true clock offset.
+ *
+ * Usage: test-fusion-simfloors LEVELS N, LEVELS a comma list of easy, normal, hard; N swings
+ * cycling through the levels. Floors, from the issue, never fitted to these seeds:
+ *   position RMSE over the motion: median <= 1.5 cm, 90th percentile <= 3 cm;
+ *   occluded windows: median <= 2 cm and at most 0.15 of the depth-only baseline's median;
+ *   clock offset error: median <= 2 ms;
+ *   truth inside the reported +-2 sigma band: 90 to 99 % of samples per axis (a Gaussian puts
+ *   95.45 % inside +-2 sigma, standard normal table, e.g. Abramowitz & Stegun 26.2). */
+#include "testutil.h"
+
+#include "arcwise/fusion.h"
+#include "arcwise/sim.h"
+#include "simscore.h"
+
+#include <stdio.h>
+#include <string.h>
+
+static int
+cmp_d(const void *a, const void *b)
+{
+  double x = *(const double *)a, y = *(const double *)b;
+  return (x > y) - (x < y);
+}
+
+int
+main(int argc, char **argv)
+{
+  const char *levels = argc > 1 ? argv[1] : "easy,normal,hard";
+  int n = argc > 2 ? atoi(argv[2]) : 30;
+  AwSimLevel lv[3];
+  int nl = 0;
+  if (strstr(levels, "easy")) lv[nl++] = AW_SIM_EASY;
+  if (strstr(levels, "normal")) lv[nl++] = AW_SIM_NORMAL;
+  if (strstr(levels, "hard")) lv[nl++] = AW_SIM_HARD;
+  if (nl == 0 || n < 3) {
+    fprintf(stderr, "usage: %s LEVELS N\n", argv[0]);
+    return 2;
+  }
+  double *rm = calloc((size_t)n, sizeof *rm), *ro = calloc((size_t)n, sizeof *ro),
+         *rb = calloc((size_t)n, sizeof *rb), *oe = calloc((size_t)n, sizeof *oe);
+  if (!rm || !ro || !rb || !oe) return 1;
+  int m = 0, no = 0, fails = 0;
+  double cov = 0;
+  for (int i = 0; i < n; i++) {
+    AwSimLevel L = lv[i % nl];
+    AwSimConfig cfg;
+    aw_sim_config_default(&cfg, L);
+    cfg.seed = 9000 + (uint64_t)i;
+    AwSim *sim = NULL;
+    AwError err;
+    if (aw_sim_new(&cfg, &sim, &err) != AW_OK) {
+      fprintf(stderr, "simulator: %s\n", err.message);
+      fails++;
+      continue;
+    }
+    AwFusedPath *p = NULL;
+    if (aw_fuse(aw_sim_imu(sim), aw_sim_depth(sim), NULL, &p, &err) != AW_OK) {
+      fprintf(stderr, "swing %d (%s): %s\n", i, aw_sim_level_name(L), err.message);
+      fails++;
+      aw_sim_free(sim);
+      continue;
+    }
+    AwSimScore sc;
+    aw_simscore(sim, p, &sc);
+    fprintf(stderr, "swing %2d %-6s RMSE %.2f cm, occluded %.2f cm (baseline %.2f), clock %+.2f ms, "
+            "2-sigma %.1f %%\n", i, aw_sim_level_name(L), 100 * sc.rmse_motion_m,
+            100 * sc.rmse_occl_m, 100 * sc.base_occl_m, 1e3 * sc.offset_err_s, 100 * sc.coverage2);
+    rm[m] = sc.rmse_motion_m;
+    oe[m] = fabs(sc.offset_err_s);
+    cov += sc.coverage2;
+    m++;
+    if (sc.n_occl) { ro[no] = sc.rmse_occl_m; rb[no] = sc.base_occl_m; no++; }
+    aw_fused_path_free(p);
+    aw_sim_free(sim);
+  }
+  AW_CHECK(fails == 0);
+  AW_CHECK(m >= 3 && no >= 3);
+  if (m >= 3 && no >= 3) {
+    qsort(rm, (size_t)m, sizeof *rm, cmp_d);
+    qsort(oe, (size_t)m, sizeof *oe, cmp_d);
+    qsort(ro, (size_t)no, sizeof *ro, cmp_d);
+    qsort(rb, (size_t)no, sizeof *rb, cmp_d);
+    double med = rm[m / 2], p90 = rm[(int)floor(0.9 * (m - 1))];
+    double omed = ro[no / 2], bmed = rb[no / 2], cmed = oe[m / 2], c2 = cov / m;
+    fprintf(stderr, "%s, %d swings: RMSE median %.2f cm, p90 %.2f cm; occluded median %.2f cm, "
+            "ratio %.3f; clock median %.2f ms; 2-sigma %.1f %%\n", levels, m, 100 * med,
+            100 * p90, 100 * omed, omed / bmed, 1e3 * cmed, 100 * c2);
+    AW_CHECK(med <= 0.015);
+    AW_CHECK(p90 <= 0.03);
+    AW_CHECK(omed <= 0.02);
+    AW_CHECK(omed <= 0.15 * bmed);
+    AW_CHECK(cmed <= 0.002);
+    AW_CHECK(c2 >= 0.90 && c2 <= 0.99);
+  }
+  free(rm); free(ro); free(rb); free(oe);
+  return AW_TEST_END();
+}

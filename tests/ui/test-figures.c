@@ -1,0 +1,105 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* The sheet's numbers: they are the swing analysis's own (the library's stored metrics), not
+ * recomputed; units convert by the exact definitions; the trust band and the notes follow the
+ * analysis's per-phase sensor dominance. No display needed. */
+#include <string.h>
+
+#include "arcwise-figures.h"
+#include "arcwise-swing-model.h"
+#include "testutil.h"
+
+static gboolean
+contains(const char *hay, const char *needle)
+{
+  return hay != NULL && needle != NULL && strstr(hay, needle) != NULL;
+}
+
+int
+main(void)
+{
+  ArcwiseSwingModel *m = arcwise_swing_model_new_demo(0, 1);
+  AW_CHECK(m != NULL && m->n > 10);
+
+  /* Without an analysis the path gives the timings and speeds, and nothing is made up for
+   * what only the analysis knows. */
+  ArcwiseFigure f[ARCWISE_N_FIGURES];
+  arcwise_figures_for_model(m, f);
+  AW_CHECK(isfinite(f[0].value) && isfinite(f[3].value));
+  for (int i = 7; i < ARCWISE_N_FIGURES; i++)
+    AW_CHECK(!isfinite(f[i].value));
+  g_autofree char *q0 = arcwise_quality_text(m, ARCWISE_UNITS_METRIC);
+  AW_CHECK(contains(q0, "Not analysed yet"));
+  AW_CHECK(contains(q0, "estimate"));
+
+  /* With one, every figure is the stored metric itself. */
+  AwSwing sw;
+  memset(&sw, 0, sizeof sw);
+  for (int k = 0; k < AW_METRIC_COUNT_; k++)
+    sw.metrics[k] = 100.0 + k;   /* distinct values no path measurement would give */
+  sw.quality.notes = AW_NOTE_TOP_HIDDEN | AW_NOTE_IMPACT_ESTIMATED;
+  sw.phases[AW_PHASE_BACKSWING].dominance = AW_DOMINANCE_CAMERA;
+  sw.phases[AW_PHASE_DOWNSWING].dominance = AW_DOMINANCE_IMU;
+  sw.phases[AW_PHASE_FOLLOW_THROUGH].dominance = AW_DOMINANCE_SHARED;
+  arcwise_swing_model_set_analysis(m, &sw);
+  arcwise_figures_for_model(m, f);
+  static const AwMetricId ids[ARCWISE_N_FIGURES] = {
+    AW_METRIC_BACKSWING_S, AW_METRIC_DOWNSWING_S, AW_METRIC_TEMPO_RATIO,
+    AW_METRIC_PEAK_HAND_SPEED_M_S, AW_METRIC_HAND_SPEED_IMPACT_M_S, AW_METRIC_TOP_HEIGHT_M,
+    AW_METRIC_PATH_LENGTH_M, AW_METRIC_CLUB_SPEED_IMPACT_M_S, AW_METRIC_PLANE_BACKSWING_DEG,
+    AW_METRIC_PLANE_DOWNSWING_DEG, AW_METRIC_PATH_DIRECTION_DEG,
+  };
+  for (int i = 0; i < ARCWISE_N_FIGURES; i++)
+    AW_CHECK_NEAR(f[i].value, 100.0 + ids[i], 0.0);
+
+  /* Units by their exact definitions (international yard and pound, 1959; NIST SP 811,
+   * appendix B): 1 in = 0.0254 m, 1 mph = 0.44704 m/s. */
+  ArcwiseFigure speed = { "", 44.704, ARCWISE_FIGURE_SPEED };
+  ArcwiseFigure len = { "", 0.254, ARCWISE_FIGURE_LENGTH };
+  g_autofree char *mph = arcwise_figure_format(&speed, ARCWISE_UNITS_IMPERIAL, FALSE);
+  g_autofree char *mps = arcwise_figure_format(&speed, ARCWISE_UNITS_METRIC, FALSE);
+  g_autofree char *in = arcwise_figure_format(&len, ARCWISE_UNITS_IMPERIAL, FALSE);
+  g_autofree char *cm = arcwise_figure_format(&len, ARCWISE_UNITS_METRIC, FALSE);
+  AW_CHECK(g_str_equal(mph, "100.0 mph"));
+  AW_CHECK(g_str_equal(mps, "44.7 m/s"));
+  AW_CHECK(g_str_equal(in, "10.0 in"));
+  AW_CHECK(g_str_equal(cm, "25.4 cm"));
+
+  /* The band is coloured by who carried each phase, sample by sample. */
+  ArcwiseScenePath path;
+  arcwise_swing_model_as_path(m, &path);
+  AW_CHECK(m->carried != NULL && path.cam_share == m->carried);
+  size_t seen[ARCWISE_SCENE_N_PHASES] = { 0 };
+  for (size_t i = 0; i < m->n; i++) {
+    seen[m->phase[i]]++;
+    if (m->phase[i] == ARCWISE_SCENE_PHASE_BACKSWING)
+      AW_CHECK_NEAR(path.cam_share[i], 1.0, 0.0);
+    else if (m->phase[i] == ARCWISE_SCENE_PHASE_DOWNSWING)
+      AW_CHECK_NEAR(path.cam_share[i], 0.0, 0.0);
+    else if (m->phase[i] == ARCWISE_SCENE_PHASE_FOLLOW_THROUGH)
+      AW_CHECK_NEAR(path.cam_share[i], 0.5, 0.0);
+    else   /* unknown dominance: the fusion's own share stays */
+      AW_CHECK_NEAR(path.cam_share[i], m->cam_share[i], 0.0);
+  }
+  AW_CHECK(seen[ARCWISE_SCENE_PHASE_BACKSWING] > 0 && seen[ARCWISE_SCENE_PHASE_DOWNSWING] > 0);
+
+  /* The notes say it in words, including the analysis's own quality notes. */
+  g_autofree char *q = arcwise_quality_text(m, ARCWISE_UNITS_METRIC);
+  AW_CHECK(contains(q, "mostly from the camera"));
+  AW_CHECK(contains(q, "mostly from the wrist sensor"));
+  AW_CHECK(contains(q, "both sensors"));
+  g_autofree char *n1 = g_markup_escape_text(aw_quality_note_text(AW_NOTE_TOP_HIDDEN), -1);
+  g_autofree char *n2 = g_markup_escape_text(aw_quality_note_text(AW_NOTE_IMPACT_ESTIMATED), -1);
+  AW_CHECK(contains(q, n1) && contains(q, n2));
+  g_autofree char *n3 = g_markup_escape_text(aw_quality_note_text(AW_NOTE_SYNC_WEAK), -1);
+  AW_CHECK(!contains(q, n3));
+
+  /* A copy (the comparison swing) keeps all of it; clearing drops it. */
+  const float zero[3] = { 0, 0, 0 };
+  ArcwiseSwingModel *c = arcwise_swing_model_copy_shifted(m, zero);
+  AW_CHECK(c->analysed.present && c->carried != NULL && c->carried != m->carried);
+  arcwise_swing_model_set_analysis(m, NULL);
+  AW_CHECK(!m->analysed.present && m->carried == NULL);
+  arcwise_swing_model_free(c);
+  arcwise_swing_model_free(m);
+  return AW_TEST_END();
+}
