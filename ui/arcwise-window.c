@@ -517,7 +517,9 @@ row_setup(GtkSignalListItemFactory *f, GtkListItem *li, ArcwiseWindow *self)
   gtk_label_set_xalign(GTK_LABEL(nums), 0);
   gtk_label_set_ellipsize(GTK_LABEL(who), PANGO_ELLIPSIZE_END);
   gtk_label_set_ellipsize(GTK_LABEL(title), PANGO_ELLIPSIZE_END);
-  gtk_label_set_ellipsize(GTK_LABEL(nums), PANGO_ELLIPSIZE_END);
+  /* The key numbers wrap rather than lose the hand speed at the end of a narrow column. */
+  gtk_label_set_wrap(GTK_LABEL(nums), TRUE);
+  gtk_label_set_wrap_mode(GTK_LABEL(nums), PANGO_WRAP_WORD_CHAR);
   gtk_widget_add_css_class(who, "row-who");
   gtk_widget_add_css_class(title, "row-title");
   gtk_widget_add_css_class(nums, "row-numbers");

@@ -944,7 +944,7 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
     }
   }
 out:
-  free(fstart); free(flist); free(fstat); free(xs); free(Pck); free(Pblk); free(ustart);
+  free(fstart); free(flist); free(fstat); free(fdec); free(fres); free(xs); free(Pck); free(Pblk); free(ustart);
   free(ul.v);
   if (st == AW_ERR_NO_MEMORY) aw_error_set(err, st, "fusion", 0, 0, "out of memory");
   return st;

@@ -144,8 +144,10 @@ arcwise_camera_preset(ArcwiseCamera *cam, ArcwiseView view, int handed, const fl
   float side = handed < 0 ? -1.0f : 1.0f;
   cam->target_m[0] = centre_m ? centre_m[0] : 0.0f;
   cam->target_m[1] = centre_m ? centre_m[1] : 0.45f * side;
-  /* Lower than the swing's middle so that the feet and the ball stay in the picture. */
-  cam->target_m[2] = centre_m ? 0.75f * centre_m[2] : 1.05f;
+  /* Well below the swing's middle so that the feet and the ball stay in the picture on a
+   * wide studio screen too (with the 35 degree field the view then spans from below the ball
+   * to about 1.9 m at the hands, above a typical top of the swing). */
+  cam->target_m[2] = centre_m ? 0.6f * centre_m[2] : 0.85f;
   cam->fov_y_rad = glm_rad(35.0f);
   switch (view) {
   case ARCWISE_VIEW_FACE_ON:
