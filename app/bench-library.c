@@ -201,7 +201,8 @@ arcwise_bench_library(int argc, char **argv)
          per_rec, model->imu_size, g_bytes_get_size(model->imu_z), model->depth_size,
          g_bytes_get_size(model->depth_z), path_bytes / per_rec, t_prep);
 
-  /* 2. The big library, in transactions of 50 recordings. */
+  /* 2. The big library: sessions of 5 recordings (about 40 swings, a coaching hour), each
+   * session one transaction. */
   g_autofree char *lib = g_build_filename(dir, "bench-library.sqlite", NULL);
   g_unlink(lib);
   ArcwiseStore *s = arcwise_store_open(lib, ARCWISE_STORE_OPEN_CREATE, &e);
@@ -215,6 +216,9 @@ arcwise_bench_library(int argc, char **argv)
   static const char *const tags[] = { "grip", "posture", "tempo", "path", "plane", "speed" };
   GRand *rng = g_rand_new_with_seed(42);
   guint n_rec = (n_swings + per_rec - 1) / per_rec, serial = 0;
+  /* The first session's player, club and date: the combined filter asks for it. */
+  const char *first_player = NULL, *first_club = NULL;
+  char first_date[16] = "";
   t0 = now_ms();
   for (guint done = 0; done < n_rec;) {
     ArcwiseImportTarget t;
@@ -229,7 +233,12 @@ arcwise_bench_library(int argc, char **argv)
     t.club_kind = clubs[g_rand_int_range(rng, 0, G_N_ELEMENTS(clubs))];
     g_autoptr(GPtrArray) batch = g_ptr_array_new_with_free_func(
       (GDestroyNotify)arcwise_prepared_recording_free);
-    for (guint k = 0; k < 50 && done < n_rec; k++, done++)
+    if (first_player == NULL) {
+      first_player = t.player_name;
+      first_club = t.club_kind;
+      g_strlcpy(first_date, date, sizeof first_date);
+    }
+    for (guint k = 0; k < 5 && done < n_rec; k++, done++)
       g_ptr_array_add(batch, clone_prepared(model, serial++, rng));
     ArcwiseImportResult res = { 0, 0, 0, g_array_new(FALSE, FALSE, sizeof(gint64)) };
     if (!arcwise_store_commit_import(s, &t, batch, "bench", &res, &e)) {
@@ -299,9 +308,10 @@ arcwise_bench_library(int argc, char **argv)
   fl[4].f.metric_min = 2.9;
   fl[4].f.metric_max = 3.1;
   fl[5].what = "player + club + date";
-  fl[5].f.player_name = "Hugo Pell";
-  fl[5].f.club_kind = "driver";
-  fl[5].f.date_from = "2025-01-01";
+  fl[5].f.player_name = first_player;
+  fl[5].f.club_kind = first_club;
+  fl[5].f.date_from = first_date;
+  fl[5].f.date_to = first_date;
   double worst = 0, worst_cpu = 0;
   for (int k = 0; k < 6; k++) {
     guint n = 0;

@@ -568,12 +568,14 @@ arcwise_codec_decode_path(GBytes *blob, GError **error)
                 "stored fused path has the wrong size");
     return NULL;
   }
-  /* Rounded components leave a quaternion off unit length by ~1e-8: make it a rotation again. */
+  /* Rounded components leave a unit quaternion off unit length by ~1e-8: make it a rotation
+   * again. Only that: a record whose quaternion was not of unit length (found by fuzzing: it
+   * was scaled to a different rotation) is left as stored. */
   if (version >= 2)
     for (gsize i = 0; i < n; i++) {
       double *q = p->q_cam_body[i];
       double norm = sqrt(q[0] * q[0] + q[1] * q[1] + q[2] * q[2] + q[3] * q[3]);
-      if (norm > 0.5 && norm < 2.0)
+      if (fabs(norm - 1.0) < 1e-6)
         for (int k = 0; k < 4; k++)
           q[k] /= norm;
     }
