@@ -612,17 +612,27 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
   }
 
   const double clock_offset_in = rep->clock_offset_s;
-  /* Two passes. A forward filter must judge each camera frame on the past alone: right after
+  /* Passes after the first that reselect the camera frames from the smoothed path. */
+  enum { AW_FUSION_MAX_REPASS = 4 };
+  /* Several passes. A forward filter must judge each camera frame on the past alone: right after
    * the IMU saturated or the hands came out of an occlusion it cannot tell a snapped detection
    * from its own drift. The first pass's smoothed path sees both sides, so the second pass
    * keeps exactly the frames that agree with it (chi-square gate on residual against the
-   * smoothed path, camera noise plus smoothed variance) and leaves the others out. */
-  const int n_pass = use_cam ? 2 : 1;
+   * smoothed path, camera noise plus smoothed variance) and leaves the others out.
+   * A pass that leaves out a snapped frame moves the smoothed path towards the true one, which
+   * can reveal further frames in the same occlusion that disagree, so the selection is repeated
+   * to a fixed point: until the kept set stops changing, at most AW_FUSION_MAX_REPASS times.
+   * Near the fixed point each pass changes few frames; a pass that would change more than twice
+   * as many as the one before plus a second's worth of frames is running away (seen in a long
+   * still recording whose smoothed path, after a clock error, drifted from the frames and each
+   * pass left out more of them, tens of metres in the end), so the last pass's result stands. */
+  const int n_pass = use_cam ? 1 + AW_FUSION_MAX_REPASS : 1;
+  size_t prev_changed = SIZE_MAX;
   for (int pass = 0; pass < n_pass; pass++) {
   if (pass > 0) {
     /* Only if the smoothed path disagrees with a forward decision, or the first pass had to
-     * re-anchor (which cuts the smoother's view across the disagreement), does a second pass
-     * differ from the first. */
+     * re-anchor (which cuts the smoother's view across the disagreement), does another pass
+     * differ from the last. */
     size_t changed = 0;
     for (size_t k = 0; k < cam->n; k++) {
       if (fstat[k] == FR_MISSING || fstat[k] == FR_NONE) continue;
@@ -630,6 +640,8 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
       if (keep != (fstat[k] == FR_ACCEPTED)) changed++;
     }
     if (changed == 0 && rep->gate_recoveries == 0) break;
+    if (pass > 1 && (double)changed > 2.0 * (double)prev_changed + 1.0 / cam->dt_nom_s) break;
+    prev_changed = changed;
     rep->clock_offset_s = clock_offset_in;
     rep->cam_frames_used = rep->cam_frames_rejected = rep->cam_frames_missing = 0;
     rep->imu_samples_saturated = rep->zupt_samples = rep->imu_gaps = rep->gate_recoveries = 0;
