@@ -13,6 +13,7 @@ struct _ArcwiseLibrarySource {
   /* Store */
   char *path;
   gpointer store;          /* ArcwiseStore *, main-thread connection */
+  gboolean readonly;       /* made by a newer Arcwise: opened read-only, every write refused */
 };
 
 /* arcwise-library-store.c */

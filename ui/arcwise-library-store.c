@@ -26,8 +26,12 @@ arcwise_library_source_open_library(const char *path)
   if (!create && !g_file_test(p, G_FILE_TEST_EXISTS))
     return NULL;
   g_autoptr(GError) error = NULL;
-  ArcwiseStore *store = arcwise_store_open(p, create ? ARCWISE_STORE_OPEN_CREATE
-                                                     : ARCWISE_STORE_OPEN_DEFAULT, &error);
+  /* A library from a newer Arcwise is still shown (read-only) rather than refused: the coach
+   * can look at every swing, and nothing in the file can change (app/store.h). */
+  ArcwiseStoreOpenFlags flags = ARCWISE_STORE_OPEN_FALLBACK_READONLY;
+  if (create)
+    flags |= ARCWISE_STORE_OPEN_CREATE;
+  ArcwiseStore *store = arcwise_store_open(p, flags, &error);
   if (store == NULL) {
     g_warning("cannot open the library %s: %s", p, error->message);
     return NULL;
@@ -36,6 +40,7 @@ arcwise_library_source_open_library(const char *path)
   src->kind = ARCWISE_SOURCE_STORE;
   src->path = g_steal_pointer(&p);
   src->store = store;
+  src->readonly = arcwise_store_is_readonly(store);
   return src;
 }
 

@@ -232,3 +232,9 @@ arcwise_library_source_import_finish(ArcwiseLibrarySource *src, GAsyncResult *re
 {
   return g_task_propagate_pointer(G_TASK(res), error);
 }
+
+gboolean
+arcwise_library_source_is_readonly(ArcwiseLibrarySource *src)
+{
+  return src != NULL && src->kind == ARCWISE_SOURCE_STORE && src->readonly;
+}

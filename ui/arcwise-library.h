@@ -68,4 +68,6 @@ G_BEGIN_DECLS
  * caller then falls back to the demo). A library that exists but cannot be opened is reported
  * with g_warning and also gives NULL. */
 ArcwiseLibrarySource *arcwise_library_source_open_library(const char *path);
+/* TRUE when the source refuses every write (a library made by a newer Arcwise). */
+gboolean arcwise_library_source_is_readonly(ArcwiseLibrarySource *src);
 G_END_DECLS

@@ -19,6 +19,7 @@ struct _ArcwiseWindow {
   GtkToggleButton *compare_toggle;
   GtkRevealer *import_revealer;
   GtkLabel *import_label;
+  gboolean readonly;                  /* the source refuses writes (newer library) */
   GtkProgressBar *import_progress;
   GtkPaned *outer_paned;
   GtkPaned *inner_paned;
@@ -79,6 +80,8 @@ struct _ArcwiseWindow {
   gboolean updating;
   ArcwiseUnits units;
 };
+static void set_action_enabled(ArcwiseWindow *self, const char *name, gboolean on);
+
 
 G_DEFINE_FINAL_TYPE(ArcwiseWindow, arcwise_window, GTK_TYPE_APPLICATION_WINDOW)
 
@@ -329,7 +332,7 @@ update_all(ArcwiseWindow *self)
   gtk_widget_action_set_enabled(GTK_WIDGET(self), "win.play", m != NULL);
   gtk_widget_action_set_enabled(GTK_WIDGET(self), "win.step", m != NULL);
   gtk_widget_action_set_enabled(GTK_WIDGET(self), "win.compare", m != NULL);
-  gtk_widget_action_set_enabled(GTK_WIDGET(self), "win.edit-player", self->current != NULL);
+  set_action_enabled(self, "edit-player", self->current != NULL && !self->readonly);
 }
 
 /* ---- compare ---------------------------------------------------------------------------- */
@@ -1172,10 +1175,33 @@ arcwise_window_reload(ArcwiseWindow *self)
     g_ptr_array_unref(items);
 }
 
+static void
+set_action_enabled(ArcwiseWindow *self, const char *name, gboolean on)
+{
+  GAction *a = g_action_map_lookup_action(G_ACTION_MAP(self), name);
+  if (G_IS_SIMPLE_ACTION(a))
+    g_simple_action_set_enabled(G_SIMPLE_ACTION(a), on);
+}
+
 void
 arcwise_window_set_source(ArcwiseWindow *self, ArcwiseLibrarySource *source)
 {
   self->source = source;
+  self->readonly = source != NULL && arcwise_library_source_is_readonly(source);
+  if (self->readonly) {
+    /* Say it once, plainly, where import news appears; the coach can dismiss it. */
+    gtk_label_set_text(self->import_label,
+                       "This library was made by a newer version of Arcwise, so it is open "
+                       "read-only: every swing can be viewed, but notes, ratings, imports and "
+                       "player changes are not saved.");
+    gtk_widget_set_visible(GTK_WIDGET(self->import_progress), FALSE);
+    gtk_revealer_set_reveal_child(self->import_revealer, TRUE);
+  }
+  set_action_enabled(self, "import", !self->readonly);
+  gtk_widget_set_sensitive(GTK_WIDGET(self->notes_view), !self->readonly);
+  gtk_widget_set_sensitive(GTK_WIDGET(self->tags_entry), !self->readonly);
+  gtk_widget_set_sensitive(GTK_WIDGET(self->rating_box), !self->readonly);
+  gtk_widget_set_sensitive(GTK_WIDGET(self->reference_switch), !self->readonly);
   arcwise_window_reload(self);
 }
 
