@@ -16,6 +16,7 @@
 #include "arcwise-offscreen.h"
 #include "arcwise-scene.h"
 #include "arcwise-swing-model.h"
+#include "export-scene-models.h"
 
 static char renderer_name[128];
 
@@ -104,29 +105,11 @@ model_base(const AwFusedPath *p, const AwSwing *s)
   return s->t_start_s;
 }
 
+/* Opens the context and the scene for the models already in j (freed on failure). */
 static bool
-job_init(Job *j, const AwFusedPath *pa, const AwSwing *sa, const AwFusedPath *pb,
-         const AwSwing *sb, const char *view_name, int w, int h, int samples, char *err,
-         size_t n)
+job_start(Job *j, const ArcwiseCamera *cam, ArcwiseView view, const ArcwiseSceneOptions *opt,
+          int w, int h, int samples, char *err, size_t n)
 {
-  memset(j, 0, sizeof *j);
-  ArcwiseView view;
-  if (!view_of(view_name, &view)) {
-    snprintf(err, n, "unknown view '%s'", view_name);
-    return false;
-  }
-  j->a = model_of(pa, sa, err, n);
-  if (j->a == NULL)
-    return false;
-  j->base_a = model_base(pa, sa);
-  if (pb != NULL && sb != NULL) {
-    j->b = model_of(pb, sb, err, n);
-    if (j->b == NULL) {
-      job_free(j);
-      return false;
-    }
-    j->base_b = model_base(pb, sb);
-  }
   GError *e = NULL;
   j->off = arcwise_offscreen_new(w, h, samples, &e);
   if (j->off == NULL) {
@@ -150,18 +133,51 @@ job_init(Job *j, const AwFusedPath *pa, const AwSwing *sa, const AwFusedPath *pb
     arcwise_swing_model_as_path(j->b, &sp);
     arcwise_scene_set_path(j->scene, 1, &sp);
   }
-  arcwise_scene_options_default(&j->opt);
+  if (opt != NULL) {
+    j->opt = *opt;
+  } else {
+    arcwise_scene_options_default(&j->opt);
+    j->opt.show_band = true;
+    j->opt.show_club = j->a->club_m != NULL;
+    j->opt.dim_ahead = true;
+    if (j->a->peak_speed_m_s > 0)
+      j->opt.speed_max_m_s = j->a->peak_speed_m_s;
+  }
   j->opt.handed = j->a->handed;
-  j->opt.show_band = true;
-  j->opt.show_club = j->a->club_m != NULL;
   j->opt.show_compare = j->b != NULL;
-  j->opt.dim_ahead = true;
-  if (j->a->peak_speed_m_s > 0)
-    j->opt.speed_max_m_s = j->a->peak_speed_m_s;
-  arcwise_camera_preset(&j->cam, view, j->a->handed, j->a->centre_m);
+  if (cam != NULL)
+    j->cam = *cam;
+  else
+    arcwise_camera_preset(&j->cam, view, j->a->handed, j->a->centre_m);
   j->width = w;
   j->height = h;
   return true;
+}
+
+static bool
+job_init(Job *j, const AwFusedPath *pa, const AwSwing *sa, const AwFusedPath *pb,
+         const AwSwing *sb, const char *view_name, int w, int h, int samples, char *err,
+         size_t n)
+{
+  memset(j, 0, sizeof *j);
+  ArcwiseView view;
+  if (!view_of(view_name, &view)) {
+    snprintf(err, n, "unknown view '%s'", view_name);
+    return false;
+  }
+  j->a = model_of(pa, sa, err, n);
+  if (j->a == NULL)
+    return false;
+  j->base_a = model_base(pa, sa);
+  if (pb != NULL && sb != NULL) {
+    j->b = model_of(pb, sb, err, n);
+    if (j->b == NULL) {
+      job_free(j);
+      return false;
+    }
+    j->base_b = model_base(pb, sb);
+  }
+  return job_start(j, NULL, view, NULL, w, h, samples, err, n);
 }
 
 /* t in each model's own clock. */
@@ -173,6 +189,48 @@ job_draw(Job *j, const double t[2], uint8_t *rgba, size_t stride)
   arcwise_offscreen_begin(j->off);
   arcwise_scene_draw(j->scene, &j->cam, &j->opt, j->width, j->height);
   arcwise_offscreen_read_rgba(j->off, rgba, stride);
+}
+
+/* Draws one frame of j, frees j and writes the PNG through a temporary file. */
+static bool
+still_write(Job *jp, const double t[2], int width, int height, const char *out, bool force,
+            char *err, size_t err_size)
+{
+  Job j = *jp;
+  size_t stride = (size_t)width * 4;
+  uint8_t *px = malloc(stride * (size_t)height);
+  if (px == NULL) {
+    job_free(&j);
+    snprintf(err, err_size, "out of memory for a %dx%d image", width, height);
+    return false;
+  }
+  job_draw(&j, t, px, stride);
+  job_free(&j);
+  /* cairo's PNG writer (zlib-compressed) from an RGB24 surface. */
+  cairo_surface_t *surf = cairo_image_surface_create(CAIRO_FORMAT_RGB24, width, height);
+  uint8_t *d = cairo_image_surface_get_data(surf);
+  size_t ds = (size_t)cairo_image_surface_get_stride(surf);
+  cairo_surface_flush(surf);
+  for (int y = 0; y < height; y++)
+    for (int x = 0; x < width; x++) {
+      const uint8_t *p = px + (size_t)y * stride + 4 * (size_t)x;
+      uint32_t w = 0xff000000u | (uint32_t)p[0] << 16 | (uint32_t)p[1] << 8 | p[2];
+      memcpy(d + (size_t)y * ds + 4 * (size_t)x, &w, 4);
+    }
+  cairo_surface_mark_dirty(surf);
+  free(px);
+  char *tmp = arcwise_out_tmp_path(out);
+  bool ok = tmp != NULL && cairo_surface_write_to_png(surf, tmp) == CAIRO_STATUS_SUCCESS;
+  cairo_surface_destroy(surf);
+  if (!ok) {
+    snprintf(err, err_size, "%s: cannot write the PNG", out);
+    if (tmp)
+      remove(tmp);
+  } else {
+    ok = arcwise_out_rename(tmp, out, force, err, err_size);
+  }
+  free(tmp);
+  return ok;
 }
 
 bool
@@ -208,40 +266,7 @@ arcwise_export_still(const AwFusedPath *path, const AwSwing *s, const AwFusedPat
     /* The compared swing at the same time from impact. */
     t[1] = (t_s - s->events[AW_EVENT_IMPACT].t_s) + swing_b->events[AW_EVENT_IMPACT].t_s - j.base_b;
   }
-  size_t stride = (size_t)width * 4;
-  uint8_t *px = malloc(stride * (size_t)height);
-  if (px == NULL) {
-    job_free(&j);
-    snprintf(err, err_size, "out of memory for a %dx%d image", width, height);
-    return false;
-  }
-  job_draw(&j, t, px, stride);
-  job_free(&j);
-  /* cairo's PNG writer (zlib-compressed) from an RGB24 surface. */
-  cairo_surface_t *surf = cairo_image_surface_create(CAIRO_FORMAT_RGB24, width, height);
-  uint8_t *d = cairo_image_surface_get_data(surf);
-  size_t ds = (size_t)cairo_image_surface_get_stride(surf);
-  cairo_surface_flush(surf);
-  for (int y = 0; y < height; y++)
-    for (int x = 0; x < width; x++) {
-      const uint8_t *p = px + (size_t)y * stride + 4 * (size_t)x;
-      uint32_t w = 0xff000000u | (uint32_t)p[0] << 16 | (uint32_t)p[1] << 8 | p[2];
-      memcpy(d + (size_t)y * ds + 4 * (size_t)x, &w, 4);
-    }
-  cairo_surface_mark_dirty(surf);
-  free(px);
-  char *tmp = arcwise_out_tmp_path(out);
-  bool ok = tmp != NULL && cairo_surface_write_to_png(surf, tmp) == CAIRO_STATUS_SUCCESS;
-  cairo_surface_destroy(surf);
-  if (!ok) {
-    snprintf(err, err_size, "%s: cannot write the PNG", out);
-    if (tmp)
-      remove(tmp);
-  } else {
-    ok = arcwise_out_rename(tmp, out, force, err, err_size);
-  }
-  free(tmp);
-  return ok;
+  return still_write(&j, t, width, height, out, force, err, err_size);
 }
 
 /* Sets up the pixel buffers and, for a multisampled frame, the resolve framebuffer. */
@@ -346,18 +371,13 @@ clip_fetch(void *user, uint8_t *xrgb, size_t stride, char *err, size_t err_size)
   return true;
 }
 
-bool
-arcwise_export_clip_swing(const ArcwiseClipRequest *req, const char *out, bool force,
-                          ArcwiseClipProgressFunc progress, void *progress_user,
-                          const atomic_bool *cancel, ArcwiseClipStats *stats, char *err,
-                          size_t err_size)
+/* Encodes the clip of j (freed here); req gives everything but the swings. */
+static bool
+clip_run(Job *jp, const ArcwiseClipRequest *req, const char *out, bool force,
+         ArcwiseClipProgressFunc progress, void *progress_user, const atomic_bool *cancel,
+         ArcwiseClipStats *stats, char *err, size_t err_size)
 {
-  if (arcwise_out_refuse(out, force, err, err_size))
-    return false;
-  Job j;
-  if (!job_init(&j, req->path_a, req->swing_a, req->path_b, req->swing_b, req->view,
-                req->width, req->height, req->samples > 0 ? req->samples : ARCWISE_CLIP_SAMPLES_DEFAULT, err, err_size))
-    return false;
+  Job j = *jp;
   ArcwiseClipSwing a = {
     .n = j.a->n, .t_s = j.a->t_s, .speed_m_s = j.a->speed_m_s, .phase = j.a->phase,
     .cam_share = j.a->cam_share, .t0_s = 0, .t1_s = j.a->t_s[j.a->n - 1],
@@ -385,6 +405,82 @@ arcwise_export_clip_swing(const ArcwiseClipRequest *req, const char *out, bool f
             arcwise_clip_export(&spec, out, force, stats, err, err_size);
   job_free(&j);
   return ok;
+}
+
+bool
+arcwise_export_clip_swing(const ArcwiseClipRequest *req, const char *out, bool force,
+                          ArcwiseClipProgressFunc progress, void *progress_user,
+                          const atomic_bool *cancel, ArcwiseClipStats *stats, char *err,
+                          size_t err_size)
+{
+  if (arcwise_out_refuse(out, force, err, err_size))
+    return false;
+  Job j;
+  if (!job_init(&j, req->path_a, req->swing_a, req->path_b, req->swing_b, req->view,
+                req->width, req->height, req->samples > 0 ? req->samples : ARCWISE_CLIP_SAMPLES_DEFAULT, err, err_size))
+    return false;
+  return clip_run(&j, req, out, force, progress, progress_user, cancel, stats, err, err_size);
+}
+
+/* ---- the workbench's models ------------------------------------------------------------ */
+
+static bool
+job_init_models(Job *j, const ArcwiseModelExport *r, int samples, char *err, size_t n)
+{
+  memset(j, 0, sizeof *j);
+  if (r->a == NULL || r->a->n < 2) {
+    snprintf(err, n, "no swing to export");
+    return false;
+  }
+  ArcwiseView view = ARCWISE_VIEW_FACE_ON;
+  if (r->camera == NULL && !view_of(r->view_name, &view)) {
+    snprintf(err, n, "unknown view '%s'", r->view_name ? r->view_name : "");
+    return false;
+  }
+  static const float zero[3] = { 0, 0, 0 };
+  j->a = arcwise_swing_model_copy_shifted(r->a, zero);
+  if (r->b != NULL && r->b->n >= 2)
+    j->b = arcwise_swing_model_copy_shifted(r->b, zero);
+  return job_start(j, r->camera, view, r->options, r->width, r->height, samples, err, n);
+}
+
+bool
+arcwise_export_clip_models(const ArcwiseModelExport *r, const char *out, bool force,
+                           ArcwiseClipProgressFunc progress, void *progress_user,
+                           const atomic_bool *cancel, ArcwiseClipStats *stats, char *err,
+                           size_t err_size)
+{
+  if (arcwise_out_refuse(out, force, err, err_size))
+    return false;
+  Job j;
+  if (!job_init_models(&j, r, r->samples > 0 ? r->samples : ARCWISE_CLIP_SAMPLES_DEFAULT, err,
+                       err_size))
+    return false;
+  /* The clip runs the whole swing with the marker moving: the playback dimming is its look. */
+  j.opt.dim_ahead = true;
+  ArcwiseClipRequest req = {
+    .view = r->view_name ? r->view_name : "free", .width = r->width, .height = r->height,
+    .fps = r->fps, .slowmo = r->slowmo, .overlays = r->overlays, .player = r->player,
+    .date = r->date, .imperial = r->imperial,
+  };
+  return clip_run(&j, &req, out, force, progress, progress_user, cancel, stats, err, err_size);
+}
+
+bool
+arcwise_export_still_models(const ArcwiseModelExport *r, double t_a, double t_b,
+                            const char *out, bool force, char *err, size_t err_size)
+{
+  if (arcwise_out_refuse(out, force, err, err_size))
+    return false;
+  if (r->width < 16 || r->height < 16 || r->width > 8192 || r->height > 8192) {
+    snprintf(err, err_size, "still size %dx%d: 16 to 8192 pixels a side", r->width, r->height);
+    return false;
+  }
+  Job j;
+  if (!job_init_models(&j, r, r->samples > 0 ? r->samples : 4, err, err_size))
+    return false;
+  double t[2] = { t_a, t_b };
+  return still_write(&j, t, r->width, r->height, out, force, err, err_size);
 }
 
 #else /* no scene renderer in this build */

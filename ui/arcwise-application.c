@@ -6,6 +6,7 @@
 #include <time.h>
 
 #include "arcwise-library.h"
+#include "arcwise-export-test.h"
 #include "arcwise-smoke.h"
 #include "arcwise-window.h"
 #include "cli.h"
@@ -200,6 +201,9 @@ arcwise_application_activate(GApplication *gapp)
   const char *smoke = g_getenv("ARCWISE_SMOKE_DIR");
   if (smoke != NULL && *smoke != '\0')
     arcwise_smoke_start(win, smoke, caution);
+  const char *export_test = g_getenv("ARCWISE_EXPORT_TEST_DIR");
+  if (export_test != NULL && *export_test != '\0')
+    arcwise_export_test_start(win, export_test, caution);
   if (g_getenv("ARCWISE_BENCH_LAUNCH") != NULL)
     g_timeout_add(2, report_first_frame, app);
 }

@@ -238,3 +238,9 @@ arcwise_library_source_is_readonly(ArcwiseLibrarySource *src)
 {
   return src != NULL && src->kind == ARCWISE_SOURCE_STORE && src->readonly;
 }
+
+const char *
+arcwise_library_source_get_path(ArcwiseLibrarySource *src)
+{
+  return src != NULL && src->kind == ARCWISE_SOURCE_STORE ? src->path : NULL;
+}

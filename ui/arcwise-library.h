@@ -70,4 +70,6 @@ G_BEGIN_DECLS
 ArcwiseLibrarySource *arcwise_library_source_open_library(const char *path);
 /* TRUE when the source refuses every write (a library made by a newer Arcwise). */
 gboolean arcwise_library_source_is_readonly(ArcwiseLibrarySource *src);
+/* The library file of a stored library, NULL for the invented demo. */
+const char *arcwise_library_source_get_path(ArcwiseLibrarySource *src);
 G_END_DECLS

@@ -313,6 +313,12 @@ arcwise_stage_get_view(ArcwiseStage *self)
   return self->view;
 }
 
+void
+arcwise_stage_get_camera(ArcwiseStage *self, ArcwiseCamera *out)
+{
+  *out = self->cam;
+}
+
 ArcwiseSceneOptions *
 arcwise_stage_get_options(ArcwiseStage *self)
 {

@@ -23,6 +23,8 @@ void arcwise_stage_set_times(ArcwiseStage *self, double t0_s, double t1_s);
 void arcwise_stage_set_view(ArcwiseStage *self, ArcwiseView view);
 ArcwiseView arcwise_stage_get_view(ArcwiseStage *self);
 ArcwiseSceneOptions *arcwise_stage_get_options(ArcwiseStage *self);
+/* The camera as the user left it (orbit, pan and zoom included), for exports. */
+void arcwise_stage_get_camera(ArcwiseStage *self, ArcwiseCamera *out);
 /* Call after changing the options returned above. */
 void arcwise_stage_options_changed(ArcwiseStage *self);
 

@@ -3,7 +3,10 @@
 #include "arcwise-window.h"
 
 #include <math.h>
+#include <stdio.h>
+#include <string.h>
 
+#include "arcwise-export.h"
 #include "arcwise-figures.h"
 #include "arcwise-smoke.h"
 #include "arcwise-stage.h"
@@ -21,6 +24,10 @@ struct _ArcwiseWindow {
   GtkLabel *import_label;
   gboolean readonly;                  /* the source refuses writes (newer library) */
   GtkProgressBar *import_progress;
+  GtkRevealer *export_revealer;
+  GtkLabel *export_label;
+  GtkProgressBar *export_progress;
+  GtkButton *export_cancel;
   GtkPaned *outer_paned;
   GtkPaned *inner_paned;
   GtkWidget *library_box;
@@ -79,6 +86,7 @@ struct _ArcwiseWindow {
   gboolean comparing;
   gboolean updating;
   ArcwiseUnits units;
+  ArcwiseExporter *exporter;
 };
 static void set_action_enabled(ArcwiseWindow *self, const char *name, gboolean on);
 
@@ -913,6 +921,91 @@ act_import(GSimpleAction *a, GVariant *p, gpointer data);
 static void
 act_edit_player(GSimpleAction *a, GVariant *p, gpointer data);
 
+/* ---- exports ------------------------------------------------------------------------------ */
+
+static char *
+state_string(ArcwiseWindow *self, const char *action)
+{
+  GVariant *v = g_action_group_get_action_state(G_ACTION_GROUP(self), action);
+  char *s = g_variant_dup_string(v, NULL);
+  g_variant_unref(v);
+  return s;
+}
+
+/* What the studio view shows now, for the exporter (which copies it). */
+static gboolean
+export_scene(ArcwiseWindow *self, ArcwiseExportScene *sc, char **view)
+{
+  memset(sc, 0, sizeof *sc);
+  ArcwiseSwingItem *it = self->current;
+  sc->a = current_model(self);
+  sc->b = self->comparing && self->other_shifted ? self->other_shifted : NULL;
+  arcwise_stage_get_camera(self->stage, &sc->camera);
+  sc->options = *arcwise_stage_get_options(self->stage);
+  *view = state_string(self, "view");
+  sc->view_name = *view;
+  sc->imperial = self->units == ARCWISE_UNITS_IMPERIAL;
+  if (it != NULL) {
+    sc->player = it->player;
+    sc->date = it->session;
+    sc->title = it->title;
+    sc->swing_id = it->swing_id;
+    sc->session_id = it->session_id;
+  }
+  sc->library_path = arcwise_library_source_get_path(self->source);
+  sc->view_width = gtk_widget_get_width(GTK_WIDGET(self->stage));
+  sc->view_height = gtk_widget_get_height(GTK_WIDGET(self->stage));
+  return sc->a != NULL;
+}
+
+static void
+act_export(GSimpleAction *a, GVariant *p, gpointer data)
+{
+  ArcwiseWindow *self = data;
+  const char *name = g_action_get_name(G_ACTION(a));
+  ArcwiseExportScene sc;
+  g_autofree char *view = NULL;
+  export_scene(self, &sc, &view);
+  ArcwiseExportChoice ch = { 0 };
+  const char *path = NULL;
+  if (g_str_equal(name, "export-clip")) {
+    g_autofree char *size = state_string(self, "export-clip-size");
+    g_autofree char *slow = state_string(self, "export-slowmo");
+    ch.kind = ARCWISE_EXPORT_CLIP;
+    gboolean hd = g_str_equal(size, "1080p");
+    ch.width = hd ? 1920 : 1280;
+    ch.height = hd ? 1080 : 720;
+    ch.slowmo = g_ascii_strtod(slow, NULL);
+    path = g_variant_get_string(p, NULL);
+  } else if (g_str_equal(name, "export-still")) {
+    g_autofree char *size = state_string(self, "export-still-size");
+    ch.kind = ARCWISE_EXPORT_STILL;
+    if (sscanf(size, "%dx%d", &ch.width, &ch.height) != 2) {
+      /* As on screen, in device pixels. */
+      int scale = gtk_widget_get_scale_factor(GTK_WIDGET(self->stage));
+      ch.width = sc.view_width * scale;
+      ch.height = sc.view_height * scale;
+    }
+    path = g_variant_get_string(p, NULL);
+  } else if (g_str_equal(name, "export-numbers")) {
+    const char *fmt, *scope;
+    g_variant_get(p, "(&s&s&s)", &fmt, &scope, &path);
+    ch.kind = ARCWISE_EXPORT_NUMBERS;
+    ch.json = g_str_equal(fmt, "json");
+    ch.scope = scope;
+  } else {
+    ch.kind = ARCWISE_EXPORT_REPORT;
+    path = g_variant_get_string(p, NULL);
+  }
+  arcwise_exporter_start(self->exporter, &sc, &ch, path);
+}
+
+static void
+change_export_choice(GSimpleAction *a, GVariant *v, gpointer data)
+{
+  g_simple_action_set_state(a, v);
+}
+
 static const GActionEntry win_entries[] = {
   { "view", NULL, "s", "'face-on'", change_view, { 0 } },
   { "colour", NULL, "s", "'speed'", change_colour, { 0 } },
@@ -925,6 +1018,13 @@ static const GActionEntry win_entries[] = {
   { "leave-presentation", leave_presentation, NULL, NULL, NULL, { 0 } },
   { "import", act_import, NULL, NULL, NULL, { 0 } },
   { "edit-player", act_edit_player, NULL, NULL, NULL, { 0 } },
+  { "export-clip", act_export, "s", NULL, NULL, { 0 } },
+  { "export-still", act_export, "s", NULL, NULL, { 0 } },
+  { "export-numbers", act_export, "(sss)", NULL, NULL, { 0 } },
+  { "export-report", act_export, "s", NULL, NULL, { 0 } },
+  { "export-clip-size", NULL, "s", "'720p'", change_export_choice, { 0 } },
+  { "export-slowmo", NULL, "s", "'4'", change_export_choice, { 0 } },
+  { "export-still-size", NULL, "s", "'view'", change_export_choice, { 0 } },
 };
 
 /* ---- keys -------------------------------------------------------------------------------- */
@@ -1252,6 +1352,7 @@ arcwise_window_dispose(GObject *object)
   }
   if (self->import_cancellable)
     g_cancellable_cancel(self->import_cancellable);
+  g_clear_pointer(&self->exporter, arcwise_exporter_free);
   if (self->stage) {
     arcwise_stage_set_swing(self->stage, 0, NULL);
     arcwise_stage_set_swing(self->stage, 1, NULL);
@@ -1284,6 +1385,7 @@ arcwise_window_class_init(ArcwiseWindowClass *klass)
                                               "/org/arcwise/Workbench/arcwise-window.ui");
 #define BIND(x) gtk_widget_class_bind_template_child(widget_class, ArcwiseWindow, x)
   BIND(subtitle_label); BIND(library_toggle); BIND(compare_toggle); BIND(import_revealer);
+  BIND(export_revealer); BIND(export_label); BIND(export_progress); BIND(export_cancel);
   BIND(import_label); BIND(import_progress); BIND(outer_paned); BIND(inner_paned);
   BIND(library_box); BIND(search_entry); BIND(player_dropdown); BIND(session_dropdown);
   BIND(filter_dropdown);
@@ -1317,6 +1419,9 @@ arcwise_window_init(ArcwiseWindow *self)
   self->units = ARCWISE_UNITS_METRIC;
   g_action_map_add_action_entries(G_ACTION_MAP(self), win_entries, G_N_ELEMENTS(win_entries), self);
   install_keys(self);
+  self->exporter = arcwise_exporter_new(GTK_WINDOW(self), self->export_revealer,
+                                        self->export_label, self->export_progress,
+                                        self->export_cancel);
 
   self->items = g_list_store_new(ARCWISE_TYPE_SWING_ITEM);
   self->filter = gtk_custom_filter_new(filter_func, self, NULL);
@@ -1389,6 +1494,18 @@ arcwise_window_new(ArcwiseApplication *app)
 }
 
 /* ---- accessors for the smoke test hook ------------------------------------------------- */
+
+double
+arcwise_window_get_duration(ArcwiseWindow *self)
+{
+  return duration(self);
+}
+
+ArcwiseExporter *
+arcwise_window_get_exporter(ArcwiseWindow *self)
+{
+  return self->exporter;
+}
 
 ArcwiseStage *
 arcwise_window_get_stage(ArcwiseWindow *self)

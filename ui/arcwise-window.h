@@ -27,7 +27,11 @@ void arcwise_window_select_index(ArcwiseWindow *self, guint index);
 guint arcwise_window_drill(ArcwiseWindow *self, guint player, guint session);
 guint arcwise_window_get_n_visible(ArcwiseWindow *self);
 ArcwiseStage *arcwise_window_get_stage(ArcwiseWindow *self);
+/* The exports' state (arcwise-export.h), for the export test hook. */
+struct _ArcwiseExporter *arcwise_window_get_exporter(ArcwiseWindow *self);
 double arcwise_window_get_time(ArcwiseWindow *self);
+/* Length of the selected swing's model (s), 0 without one. */
+double arcwise_window_get_duration(ArcwiseWindow *self);
 gboolean arcwise_window_is_playing(ArcwiseWindow *self);
 guint arcwise_window_get_compare_rows(ArcwiseWindow *self);
 void arcwise_window_set_speed_index(ArcwiseWindow *self, guint i);

@@ -1,0 +1,174 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* The scripted export session (see arcwise-export-test.h). */
+#include "arcwise-export-test.h"
+
+#include <glib/gstdio.h>
+
+#include "arcwise-export.h"
+
+typedef struct {
+  ArcwiseWindow *win;
+  GtkWindow *caution;
+  char *dir;
+  GString *report;
+  int step;
+  gboolean cancel_sent;
+  gint64 step_started_us;
+  GStatBuf kept_before;
+} ExportTest;
+
+static char *
+target(ExportTest *t, const char *name)
+{
+  return g_build_filename(t->dir, name, NULL);
+}
+
+static void
+act(ExportTest *t, const char *action, GVariant *v)
+{
+  gboolean ok = gtk_widget_activate_action_variant(GTK_WIDGET(t->win), action, v);
+  g_string_append_printf(t->report, "action=%s %s\n", action, ok ? "ok" : "missing");
+}
+
+static void
+export_to(ExportTest *t, const char *action, const char *name)
+{
+  g_autofree char *path = target(t, name);
+  act(t, action, g_variant_new_string(path));
+  t->step_started_us = g_get_monotonic_time();
+}
+
+static void
+record(ExportTest *t, const char *key)
+{
+  ArcwiseExporter *ex = arcwise_window_get_exporter(t->win);
+  g_string_append_printf(t->report, "%s_ok=%d\n%s_message=%s\n", key,
+                         arcwise_exporter_last_ok(ex), key, arcwise_exporter_last_message(ex));
+}
+
+static void
+finish(ExportTest *t)
+{
+  g_autofree char *path = target(t, "export-report.txt");
+  g_autoptr(GError) error = NULL;
+  if (!g_file_set_contents(path, t->report->str, -1, &error))
+    g_printerr("export test: %s\n", error->message);
+  GApplication *app = G_APPLICATION(gtk_window_get_application(GTK_WINDOW(t->win)));
+  g_string_free(t->report, TRUE);
+  g_free(t->dir);
+  g_free(t);
+  g_application_quit(app);
+}
+
+static gboolean
+tick(gpointer data)
+{
+  ExportTest *t = data;
+  ArcwiseExporter *ex = arcwise_window_get_exporter(t->win);
+  ArcwiseStage *stage = arcwise_window_get_stage(t->win);
+  /* However slow the machine (sanitizers, software GL): give up after two minutes a step. */
+  if (t->step > 0 && g_get_monotonic_time() - t->step_started_us > 120 * G_USEC_PER_SEC) {
+    g_string_append_printf(t->report, "timeout_step=%d\n", t->step);
+    finish(t);
+    return G_SOURCE_REMOVE;
+  }
+  switch (t->step) {
+  case 0:
+    if (arcwise_stage_get_frames(stage) == 0 && arcwise_stage_get_error_text(stage) == NULL)
+      return G_SOURCE_CONTINUE;
+    if (t->caution != NULL) {
+      GtkWidget *def = gtk_window_get_default_widget(t->caution);
+      if (def != NULL)
+        g_signal_emit_by_name(def, "clicked");
+      t->caution = NULL;
+    }
+    arcwise_window_select_index(t->win, 0);
+    act(t, "win.export-still-size", g_variant_new_string("640x360"));
+    export_to(t, "win.export-still", "still.png");
+    break;
+  case 1:
+    if (arcwise_exporter_busy(ex))
+      return G_SOURCE_CONTINUE;
+    record(t, "still");
+    act(t, "win.compare", NULL);
+    export_to(t, "win.export-still", "compare.png");
+    break;
+  case 2:
+    if (arcwise_exporter_busy(ex))
+      return G_SOURCE_CONTINUE;
+    record(t, "compare");
+    act(t, "win.compare", NULL);
+    {
+      /* The clip spans the whole swing model; the check derives the frame count from it. */
+      double span = arcwise_window_get_duration(t->win);
+      g_string_append_printf(t->report, "swing_span_s=%.9f\n", span);
+    }
+    act(t, "win.export-clip-size", g_variant_new_string("720p"));
+    act(t, "win.export-slowmo", g_variant_new_string("1"));
+    export_to(t, "win.export-clip", "clip.mp4");
+    break;
+  case 3:
+    if (arcwise_exporter_busy(ex))
+      return G_SOURCE_CONTINUE;
+    record(t, "clip");
+    act(t, "win.export-slowmo", g_variant_new_string("8"));
+    t->cancel_sent = FALSE;
+    export_to(t, "win.export-clip", "cancelled.mp4");
+    break;
+  case 4:
+    /* Cancel once the worker has encoded something, as a coach would part-way. */
+    if (!t->cancel_sent) {
+      if (arcwise_exporter_busy(ex) && arcwise_exporter_fraction(ex) <= 0.0)
+        return G_SOURCE_CONTINUE;
+      g_string_append_printf(t->report, "cancel_at_fraction=%.4f\n", arcwise_exporter_fraction(ex));
+      arcwise_exporter_cancel(ex);
+      t->cancel_sent = TRUE;
+      return G_SOURCE_CONTINUE;
+    }
+    if (arcwise_exporter_busy(ex))
+      return G_SOURCE_CONTINUE;
+    record(t, "cancelled");
+    {
+      g_autofree char *kept = target(t, "still.png");
+      if (g_stat(kept, &t->kept_before) != 0)
+        memset(&t->kept_before, 0, sizeof t->kept_before);
+    }
+    export_to(t, "win.export-still", "still.png");
+    break;
+  case 5: {
+    GtkWindow *q = arcwise_exporter_question(ex);
+    g_string_append_printf(t->report, "question_shown=%d\n", q != NULL);
+    if (q != NULL)
+      gtk_dialog_response(GTK_DIALOG(q), GTK_RESPONSE_CANCEL);
+    break;
+  }
+  case 6: {
+    if (arcwise_exporter_busy(ex))
+      return G_SOURCE_CONTINUE;
+    record(t, "kept");
+    g_autofree char *kept = target(t, "still.png");
+    GStatBuf now;
+    gboolean same = g_stat(kept, &now) == 0 && now.st_size == t->kept_before.st_size &&
+                    now.st_mtime == t->kept_before.st_mtime && now.st_ino == t->kept_before.st_ino;
+    g_string_append_printf(t->report, "kept_unchanged=%d\n", same);
+    finish(t);
+    return G_SOURCE_REMOVE;
+  }
+  default:
+    return G_SOURCE_REMOVE;
+  }
+  t->step++;
+  return G_SOURCE_CONTINUE;
+}
+
+void
+arcwise_export_test_start(ArcwiseWindow *win, const char *dir, GtkWindow *caution)
+{
+  ExportTest *t = g_new0(ExportTest, 1);
+  t->win = win;
+  t->caution = caution;
+  t->dir = g_strdup(dir);
+  t->report = g_string_new(NULL);
+  t->step_started_us = g_get_monotonic_time();
+  g_timeout_add(50, tick, t);
+}
