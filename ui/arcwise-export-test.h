@@ -10,7 +10,10 @@ G_BEGIN_DECLS
  * (still.png), the same with a second swing laid over (compare.png), a 720p clip in real time
  * (clip.mp4), a slow clip cancelled part-way (cancelled.mp4, which must not exist afterwards),
  * and a second still onto still.png answered "keep" — then writes DIR/export-report.txt
- * (key=value lines) and quits. tests/ui/check-export.py judges the files and the report. */
+ * (key=value lines) and quits. With ARCWISE_EXPORT_TEST_STORE=1 (a stored library open) it
+ * saves instead the session's numbers (session.csv), the swing's (swing.json), the session
+ * report (report.pdf) and a report cancelled at once (cancelled.pdf, must not exist).
+ * tests/ui/check-export.py judges the files and the report. */
 void arcwise_export_test_start(ArcwiseWindow *win, const char *dir, GtkWindow *caution);
 
 G_END_DECLS

@@ -110,12 +110,12 @@ job_finish(Job *j)
     }
     g_free(ex->last_message);
     if (j->ok)
-      ex->last_message = g_strdup_printf("The %s is saved as %s.", kind_noun(j->kind), j->path);
+      ex->last_message = g_strdup_printf("Saved the %s as %s.", kind_noun(j->kind), j->path);
     else if (atomic_load(&j->cancel))
-      ex->last_message = g_strdup_printf("The %s was cancelled; no file was written.",
+      ex->last_message = g_strdup_printf("Cancelled the %s; no file was written.",
                                          kind_noun(j->kind));
     else
-      ex->last_message = g_strdup_printf("The %s could not be saved: %s", kind_noun(j->kind),
+      ex->last_message = g_strdup_printf("Could not save the %s: %s", kind_noun(j->kind),
                                          j->err[0] ? j->err : "unknown failure");
     ex->last_ok = j->ok;
     show_text(ex, ex->last_message);

@@ -15,13 +15,67 @@ import struct
 import subprocess
 import sys
 
-d = sys.argv[1]
 fails = []
 
 
 def check(cond, what):
     if not cond:
         fails.append(what)
+
+
+def store_mode(d, list_json):
+    # Numbers and report saved from the workbench with a stored library open: the CSV parsed
+    # by Python's csv module (RFC 4180), the JSON by its json module (RFC 8259), the PDF read
+    # by poppler's pdfinfo.
+    import csv
+    rep = dict(l.rstrip("\n").partition("=")[::2] for l in open(os.path.join(d, "export-report.txt")))
+    print(open(os.path.join(d, "export-report.txt")).read())
+    check("timeout_step" not in rep, "a step timed out: %s" % rep.get("timeout_step"))
+    swings = json.load(open(list_json))
+    for key in ("csv", "json", "report"):
+        check(rep.get(key + "_ok") == "1", "%s: %s" % (key, rep.get(key + "_message")))
+    p = os.path.join(d, "swing.json")
+    if os.path.exists(p):
+        doc = json.load(open(p))
+        check(doc["scope"] == "swing" and len(doc["swings"]) == 1, "swing.json scope/count")
+        sid = doc["swings"][0]["swing_id"]
+        session = [s["session_id"] for s in swings if s["id"] == sid]
+        check(len(session) == 1, "swing %s not in the library list" % sid)
+        p2 = os.path.join(d, "session.csv")
+        if os.path.exists(p2) and session:
+            rows = list(csv.DictReader(open(p2, newline="")))
+            want = [s["id"] for s in swings if s["session_id"] == session[0]]
+            check(sorted(int(r["swing_id"]) for r in rows) == sorted(want),
+                  "session.csv swings %s, expected %s" % ([r["swing_id"] for r in rows], want))
+        else:
+            fails.append("session.csv missing")
+    else:
+        fails.append("swing.json missing")
+    pdf = os.path.join(d, "report.pdf")
+    check(os.path.exists(pdf), "report.pdf missing")
+    if os.path.exists(pdf):
+        with open(pdf, "rb") as f:
+            check(f.read(5) == b"%PDF-", "report.pdf has no PDF header")
+        try:
+            r = subprocess.run(["pdfinfo", pdf], capture_output=True, text=True)
+            pages = [l.split()[-1] for l in r.stdout.splitlines() if l.startswith("Pages:")]
+            check(r.returncode == 0 and pages and int(pages[0]) >= 1, "pdfinfo: " + r.stdout + r.stderr)
+        except FileNotFoundError:
+            print("note: pdfinfo (poppler-utils) missing; the PDF was checked by its header only")
+    check(rep.get("cancelled_ok") == "0", "the cancelled report reported success")
+    check(not os.path.exists(os.path.join(d, "cancelled.pdf")), "cancelled.pdf exists")
+    left = [n for n in os.listdir(d) if ".part-" in n]
+    check(not left, "temporary files left: %s" % left)
+    if fails:
+        print("FAIL:\n  " + "\n  ".join(fails))
+        sys.exit(1)
+    print("ok")
+    sys.exit(0)
+
+
+if sys.argv[1] == "--store":
+    store_mode(sys.argv[2], sys.argv[3])
+d = sys.argv[1]
 
 
 rep = {}
