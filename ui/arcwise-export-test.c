@@ -155,7 +155,7 @@ tick(gpointer data)
     if (arcwise_exporter_busy(ex))
       return G_SOURCE_CONTINUE;
     record(t, "compare");
-    act(t, "win.compare", NULL);
+    /* The clip keeps the overlaid swing: both drawn, lined up at impact. */
     {
       /* The clip spans the whole swing model; the check derives the frame count from it. */
       double span = arcwise_window_get_duration(t->win);
@@ -169,6 +169,9 @@ tick(gpointer data)
     if (arcwise_exporter_busy(ex))
       return G_SOURCE_CONTINUE;
     record(t, "clip");
+    g_string_append_printf(t->report, "clip_wall_s=%.3f\n",
+                           (g_get_monotonic_time() - t->step_started_us) / 1e6);
+    act(t, "win.compare", NULL);
     act(t, "win.export-slowmo", g_variant_new_string("8"));
     t->cancel_sent = FALSE;
     export_to(t, "win.export-clip", "cancelled.mp4");
