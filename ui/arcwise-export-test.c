@@ -62,6 +62,23 @@ finish(ExportTest *t)
 
 /* With a stored library (ARCWISE_EXPORT_TEST_STORE=1): numbers and the report through the
  * command-line exporter, and a report cancelled at once. */
+/* Both scripts start the same way: wait for the stage's first frame (or its error text),
+ * answer the first-run caution, select the first swing. FALSE while the stage is not ready. */
+static gboolean
+ready_first_swing(ExportTest *t, ArcwiseStage *stage)
+{
+  if (arcwise_stage_get_frames(stage) == 0 && arcwise_stage_get_error_text(stage) == NULL)
+    return FALSE;
+  if (t->caution != NULL) {
+    GtkWidget *def = gtk_window_get_default_widget(t->caution);
+    if (def != NULL)
+      g_signal_emit_by_name(def, "clicked");
+    t->caution = NULL;
+  }
+  arcwise_window_select_index(t->win, 0);
+  return TRUE;
+}
+
 static gboolean
 tick_store(gpointer data)
 {
@@ -78,15 +95,8 @@ tick_store(gpointer data)
   g_autofree char *p = NULL;
   switch (t->step) {
   case 0:
-    if (arcwise_stage_get_frames(stage) == 0 && arcwise_stage_get_error_text(stage) == NULL)
+    if (!ready_first_swing(t, stage))
       return G_SOURCE_CONTINUE;
-    if (t->caution != NULL) {
-      GtkWidget *def = gtk_window_get_default_widget(t->caution);
-      if (def != NULL)
-        g_signal_emit_by_name(def, "clicked");
-      t->caution = NULL;
-    }
-    arcwise_window_select_index(t->win, 0);
     p = target(t, "session.csv");
     act(t, "win.export-numbers", g_variant_new("(sss)", "csv", "session", p));
     t->step_started_us = g_get_monotonic_time();
@@ -132,15 +142,8 @@ tick(gpointer data)
   }
   switch (t->step) {
   case 0:
-    if (arcwise_stage_get_frames(stage) == 0 && arcwise_stage_get_error_text(stage) == NULL)
+    if (!ready_first_swing(t, stage))
       return G_SOURCE_CONTINUE;
-    if (t->caution != NULL) {
-      GtkWidget *def = gtk_window_get_default_widget(t->caution);
-      if (def != NULL)
-        g_signal_emit_by_name(def, "clicked");
-      t->caution = NULL;
-    }
-    arcwise_window_select_index(t->win, 0);
     act(t, "win.export-still-size", g_variant_new_string("640x360"));
     export_to(t, "win.export-still", "still.png");
     break;
