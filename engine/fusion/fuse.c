@@ -9,6 +9,24 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+#include <time.h>
+
+static double
+mono_s(void)
+{
+  struct timespec ts;
+  clock_gettime(CLOCK_MONOTONIC, &ts);
+  return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
+
+/* Adds the time since *mark to stage st and moves the mark. */
+static void
+lap(double times[AW_FUSION_STAGE_COUNT], AwFusionStage st, double *mark)
+{
+  double t = mono_s();
+  times[st] += t - *mark;
+  *mark = t;
+}
 
 void
 aw_fusion_settings_default(AwFusionSettings *s)
@@ -152,6 +170,7 @@ aw_fuse(const AwImuStream *imu, const AwDepthStream *depth, const AwFusionSettin
   AwFusionSettings sdef;
   if (!settings) { aw_fusion_settings_default(&sdef); settings = &sdef; }
   const AwFusionSettings *s = settings;
+  double times[AW_FUSION_STAGE_COUNT] = { 0 }, mark = mono_s();
   AwStatus st = check_inputs(imu, depth, s, err);
   if (st != AW_OK) return st;
   double g = local_gravity(s);
@@ -174,8 +193,10 @@ aw_fuse(const AwImuStream *imu, const AwDepthStream *depth, const AwFusionSettin
   rep->imu_rate_hz = 1.0 / im.dt_nom_s;
   rep->cam_rate_hz = 1.0 / cam.dt_nom_s;
   double gc0[3];
+  lap(times, AW_FUSION_STAGE_PREP, &mark);
   st = aw_fusion_sync_run(&im, &cam, s, g, rep, gc0, err);
   if (st != AW_OK) goto fail;
+  lap(times, AW_FUSION_STAGE_SYNC, &mark);
   for (size_t i = 0; i < imu->n; i++) {
     tau[i] = imu->t_s[i] * (1.0 + rep->clock_drift) + rep->clock_offset_s;
     path->t_s[i] = tau[i];
@@ -183,8 +204,10 @@ aw_fuse(const AwImuStream *imu, const AwDepthStream *depth, const AwFusionSettin
     memcpy(path->gyro_body_rad_s[i], imu->gyro_rad_s[i], sizeof path->gyro_body_rad_s[i]);
   }
   AwCalib cal;
+  lap(times, AW_FUSION_STAGE_OUTPUT, &mark);
   st = aw_fusion_calibrate(&im, tau, &cam, s, g, gc0, &cal, err);
   if (st != AW_OK) goto fail;
+  lap(times, AW_FUSION_STAGE_CALIB, &mark);
   /* The calibration's vector match refines the clock: shift the IMU grid by it. */
   rep->clock_offset_s += cal.clock_shift_s;
   for (size_t i = 0; i < imu->n; i++) { tau[i] += cal.clock_shift_s; path->t_s[i] = tau[i]; }
@@ -203,6 +226,7 @@ aw_fuse(const AwImuStream *imu, const AwDepthStream *depth, const AwFusionSettin
     st = aw_fusion_camonly_run(&cam, tau, imu->n, s, &jerk, path->pos_cam_m, path->vel_cam_m_s,
                                path->pos_sigma_cam_m, &nis, &rej, &rec);
     if (st != AW_OK) { aw_error_set(err, st, "fusion", 0, 0, "camera-only smoother failed"); goto fail; }
+    lap(times, AW_FUSION_STAGE_CAMONLY, &mark);
     rep->motion_jerk_psd_m2_s5 = jerk;
     rep->cam_nis_mean = nis;
     rep->cam_frames_rejected = rej;
@@ -223,14 +247,17 @@ aw_fuse(const AwImuStream *imu, const AwDepthStream *depth, const AwFusionSettin
     /* Gravity as calibrated (the filter that refines it did not run). */
     memcpy(rep->accel_bias_m_s2, (double[3]){ 0, 0, 0 }, sizeof rep->accel_bias_m_s2);
   } else {
+    lap(times, AW_FUSION_STAGE_OUTPUT, &mark);
     st = aw_fusion_eskf_run(&im, tau, &cam, s, g, &cal, path, err);
     if (st != AW_OK) goto fail;
+    lap(times, AW_FUSION_STAGE_FILTER, &mark);
     if (s->mask == AW_FUSION_CAMERA_MASKED) {
       for (size_t i = 0; i < imu->n; i++) path->cam_info_share[i] = 0;
     } else {
       double (*csig)[3] = cs;
       st = aw_fusion_camonly_run(&cam, tau, imu->n, s, &jerk, NULL, NULL, csig, NULL, NULL, NULL);
       if (st != AW_OK) { aw_error_set(err, st, "fusion", 0, 0, "camera-only smoother failed"); goto fail; }
+      lap(times, AW_FUSION_STAGE_CAMONLY, &mark);
       rep->motion_jerk_psd_m2_s5 = jerk;
       /* Share of the fused position information the camera alone would provide. */
       for (size_t i = 0; i < imu->n; i++) {
@@ -267,6 +294,8 @@ aw_fuse(const AwImuStream *imu, const AwDepthStream *depth, const AwFusionSettin
   free(tau);
   aw_fusion_prep_cam_free(&cam);
   aw_fusion_prep_imu_free(&im);
+  lap(times, AW_FUSION_STAGE_OUTPUT, &mark);
+  memcpy(rep->stage_time_s, times, sizeof times);
   *out = path;
   return AW_OK;
 fail:

@@ -65,6 +65,17 @@ typedef struct {
 
 void aw_fusion_settings_default(AwFusionSettings *out);
 
+/* Stages of aw_fuse, in order, for AwFusionReport.stage_time_s. */
+typedef enum {
+  AW_FUSION_STAGE_PREP,         /* input checks, camera fits, IMU flags and integrals */
+  AW_FUSION_STAGE_SYNC,         /* clock offset and drift */
+  AW_FUSION_STAGE_CALIB,        /* clock refinement, camera-to-gravity rotation, lever arm */
+  AW_FUSION_STAGE_FILTER,       /* error-state filter and smoother */
+  AW_FUSION_STAGE_CAMONLY,      /* camera-only smoother (information share, or the output) */
+  AW_FUSION_STAGE_OUTPUT,       /* copies, finiteness check */
+  AW_FUSION_STAGE_COUNT
+} AwFusionStage;
+
 typedef struct {
   double clock_offset_s;        /* t_depth = t_imu * (1 + clock_drift) + clock_offset_s; the
                                    motion a sample shows happened output delay earlier */
@@ -91,6 +102,8 @@ typedef struct {
   size_t imu_gaps;              /* IMU gaps bridged by the motion model */
   size_t gate_recoveries;       /* re-anchorings after long rejections */
   double lever_arm_body_m[3];   /* keypoint relative to the IMU as refined by the filter */
+  /* Wall time of each stage of this run (monotonic clock), for benchmarks and profiling. */
+  double stage_time_s[AW_FUSION_STAGE_COUNT];
 } AwFusionReport;
 
 typedef struct {
