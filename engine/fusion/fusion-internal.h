@@ -9,6 +9,8 @@
 
 #include "arcwise/fusion.h"
 
+#define AW_CAM_MAX_SHAPES 16
+
 /* Camera frames with their usability and a local-polynomial acceleration estimate. */
 typedef struct {
   size_t n;
@@ -28,6 +30,17 @@ typedef struct {
   size_t *wstart;
   uint32_t *widx;
   double *wval;
+  /* Operator shapes: frames whose fit taps sit (within a tenth of a frame interval) on the
+   * nominal grid tk + j dt_nom share the weights of the same taps on the exact grid, so the
+   * other side of a comparison can be tabulated once per shape instead of once per frame and
+   * offset. shape[k] = index of frame k's shape, -1 when irregular (or no fit). Shape s has
+   * taps shape_start[s] .. shape_start[s + 1] of shape_u (s, relative to the frame) and
+   * shape_w (same role as wval); shape_count[s] frames use it. */
+  int *shape;
+  size_t n_shape;
+  size_t shape_start[AW_CAM_MAX_SHAPES + 1];
+  size_t shape_count[AW_CAM_MAX_SHAPES];
+  double *shape_u, *shape_w;
 } AwCamPrep;
 
 /* IMU samples with running integrals for box averages and per-sample quality flags. */
@@ -52,6 +65,17 @@ void aw_fusion_prep_cam_free(AwCamPrep *c);
 AwStatus aw_fusion_prep_imu(const AwImuStream *imu, const AwFusionSettings *s, double g,
                             AwImuPrep *out);
 void aw_fusion_prep_imu_free(AwImuPrep *m);
+
+/* A camera-fit operator shape applied to the double integral p of a specific force f
+ * (running integral v) on the sample times t: out[i] = sum over taps of w * p(t[i] + u),
+ * p cubic between samples (exact for f linear between samples). ok[i] = 0 where a tap falls
+ * outside t's span. O(n * taps) for monotone t. */
+void aw_fusion_shape_table(const AwCamPrep *cam, size_t shape, const double *t, size_t n,
+                           const double (*f)[3], const double (*v)[3], const double (*p)[3],
+                           double (*out)[3], unsigned char *ok);
+/* p at time x as above (hint as for aw_fusion_locate); x inside t's span. */
+void aw_fusion_pos_at(const double *t, size_t n, const double (*f)[3], const double (*v)[3],
+                      const double (*p)[3], double x, size_t *hint, double out[3]);
 
 /* Mean of a per-sample vector signal with running integral cum over [t0, t1] of the clock t;
  * hint speeds up monotone queries. Returns false outside the samples' span. */

@@ -32,6 +32,123 @@ median_interval(const double *t, size_t n)
   return r;
 }
 
+/* Weights of the local quadratic's second derivative (2 c2) for taps at u[0..m). */
+static bool
+quad_acc_weights(const double *u, size_t m, double *w)
+{
+  double S[5] = { 0 };
+  for (size_t j = 0; j < m; j++) {
+    double u2 = u[j] * u[j];
+    S[0] += 1; S[1] += u[j]; S[2] += u2; S[3] += u2 * u[j]; S[4] += u2 * u2;
+  }
+  double A[3][3] = { { S[0], S[1], S[2] }, { S[1], S[2], S[3] }, { S[2], S[3], S[4] } };
+  double det = A[0][0] * (A[1][1] * A[2][2] - A[1][2] * A[2][1]) -
+               A[0][1] * (A[1][0] * A[2][2] - A[1][2] * A[2][0]) +
+               A[0][2] * (A[1][0] * A[2][1] - A[1][1] * A[2][0]);
+  if (!(fabs(det) > 1e-30)) return false;
+  double r0 = (A[1][0] * A[2][1] - A[1][1] * A[2][0]) / det;
+  double r1 = -(A[0][0] * A[2][1] - A[0][1] * A[2][0]) / det;
+  double r2 = (A[0][0] * A[1][1] - A[0][1] * A[1][0]) / det;
+  for (size_t j = 0; j < m; j++) w[j] = 2.0 * (r0 + r1 * u[j] + r2 * u[j] * u[j]);
+  return true;
+}
+
+/* Groups the frames' fit operators into shapes (see fusion-internal.h). */
+static AwStatus
+find_shapes(AwCamPrep *c)
+{
+  c->n_shape = 0;
+  c->shape_start[0] = 0;
+  c->shape = malloc(sizeof *c->shape * (c->n ? c->n : 1));
+  if (!c->shape) return AW_ERR_NO_MEMORY;
+  uint64_t keys[AW_CAM_MAX_SHAPES];
+  int lo_j[AW_CAM_MAX_SHAPES];
+  size_t cap = 64;
+  c->shape_u = malloc(sizeof *c->shape_u * cap);
+  c->shape_w = malloc(sizeof *c->shape_w * cap);
+  if (!c->shape_u || !c->shape_w) return AW_ERR_NO_MEMORY;
+  double h = c->dt_nom_s;
+  for (size_t k = 0; k < c->n; k++) {
+    c->shape[k] = -1;
+    size_t q0 = c->wstart[k], q1 = c->wstart[k + 1];
+    if (!c->acc_ok[k] || q1 <= q0 || q1 - q0 > 64) continue;
+    /* taps on the nominal grid: index j of each, a 64-bit mask relative to the first */
+    int j0 = 0;
+    uint64_t key = 0;
+    bool regular = true;
+    for (size_t q = q0; q < q1 && regular; q++) {
+      double rel = (c->t_s[c->widx[q]] - c->t_s[k]) / h;
+      double jr = nearbyint(rel);
+      if (fabs(rel - jr) > 0.1) regular = false;
+      int j = (int)jr;
+      if (q == q0) j0 = j;
+      if (j - j0 < 0 || j - j0 >= 64) regular = false;
+      else key |= (uint64_t)1 << (j - j0);
+    }
+    if (!regular) continue;
+    size_t s = 0;
+    while (s < c->n_shape && !(keys[s] == key && lo_j[s] == j0)) s++;
+    if (s == c->n_shape) {
+      if (c->n_shape == AW_CAM_MAX_SHAPES) continue;
+      size_t m = (size_t)__builtin_popcountll(key), at = c->shape_start[s];
+      if (at + m > cap) {
+        while (at + m > cap) cap *= 2;
+        double *nu = realloc(c->shape_u, sizeof *nu * cap);
+        if (!nu) return AW_ERR_NO_MEMORY;
+        c->shape_u = nu;
+        double *nw = realloc(c->shape_w, sizeof *nw * cap);
+        if (!nw) return AW_ERR_NO_MEMORY;
+        c->shape_w = nw;
+      }
+      size_t m2 = 0;
+      for (int b = 0; b < 64; b++)
+        if (key >> b & 1) c->shape_u[at + m2++] = (double)(j0 + b) * h;
+      if (!quad_acc_weights(c->shape_u + at, m, c->shape_w + at)) continue;
+      keys[s] = key;
+      lo_j[s] = j0;
+      c->shape_count[s] = 0;
+      c->shape_start[s + 1] = at + m;
+      c->n_shape++;
+    }
+    c->shape[k] = (int)s;
+    c->shape_count[s]++;
+  }
+  return AW_OK;
+}
+
+void
+aw_fusion_pos_at(const double *t, size_t n, const double (*f)[3], const double (*v)[3],
+                 const double (*p)[3], double x, size_t *hint, double out[3])
+{
+  size_t i = aw_fusion_locate(t, n, x, hint);
+  if (i + 1 >= n) i = n - 2;
+  double dt = t[i + 1] - t[i], u = x - t[i];
+  for (int a = 0; a < 3; a++) {
+    double f0 = f[i][a], f1 = f[i + 1][a];
+    out[a] = p[i][a] + u * v[i][a] + 0.5 * u * u * f0 + u * u * u * (f1 - f0) / (6 * dt);
+  }
+}
+
+void
+aw_fusion_shape_table(const AwCamPrep *cam, size_t shape, const double *t, size_t n,
+                      const double (*f)[3], const double (*v)[3], const double (*p)[3],
+                      double (*out)[3], unsigned char *ok)
+{
+  size_t q0 = cam->shape_start[shape], q1 = cam->shape_start[shape + 1];
+  size_t hints[64] = { 0 };
+  for (size_t i = 0; i < n; i++) {
+    double acc[3] = { 0, 0, 0 };
+    ok[i] = n >= 2 && t[i] + cam->shape_u[q0] >= t[0] && t[i] + cam->shape_u[q1 - 1] <= t[n - 1];
+    if (ok[i])
+      for (size_t q = q0; q < q1; q++) {
+        double pj[3];
+        aw_fusion_pos_at(t, n, f, v, p, t[i] + cam->shape_u[q], &hints[q - q0], pj);
+        for (int a = 0; a < 3; a++) acc[a] += cam->shape_w[q] * pj[a];
+      }
+    for (int a = 0; a < 3; a++) out[i][a] = acc[a];
+  }
+}
+
 AwStatus
 aw_fusion_prep_cam(const AwDepthStream *d, const AwFusionSettings *s, AwCamPrep *c)
 {
@@ -144,6 +261,7 @@ aw_fusion_prep_cam(const AwDepthStream *d, const AwFusionSettings *s, AwCamPrep 
     }
   }
   c->wstart[d->n] = wn;
+  if (find_shapes(c) != AW_OK) { aw_fusion_prep_cam_free(c); return AW_ERR_NO_MEMORY; }
   /* Camera noise level from the data: the residual of each frame against its own local fit,
    * in units of the model's sigma. For a quadratic over ~13 frames the centre residual has
    * variance sigma^2 (1 - h), h ~ 0.2; the median of a chi-square(1) is 0.455. The median
@@ -199,6 +317,9 @@ aw_fusion_prep_cam_free(AwCamPrep *c)
   free(c->wstart);
   free(c->widx);
   free(c->wval);
+  free(c->shape);
+  free(c->shape_u);
+  free(c->shape_w);
   memset(c, 0, sizeof *c);
 }
 

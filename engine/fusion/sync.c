@@ -29,53 +29,20 @@ typedef struct {
   double (*fb0)[3];    /* specific force in the gyro-stabilised first-sample frame */
   double (*cumb)[3];   /* its running integral */
   double (*pb)[3];     /* its double integral */
-  bool exact;          /* fine stage: the camera's own fit weights on the IMU double integral */
-  double (*dyn)[3];    /* imu_dyn at every IMU sample (NaN where undefined), or NULL */
-  double *grid_rc;     /* scores of the first full-range grid, kept for coarse_peaks */
-  size_t grid_n;
+  double (*mm)[3];     /* its mean over +-5 s at each IMU sample (NaN where undefined) */
+  /* The camera's fit operator applied to pb at each IMU sample, minus mm, one table per shape
+   * (NULL: that shape's frames are evaluated one by one); NaN where undefined. */
+  double (*tab[AW_CAM_MAX_SHAPES])[3];
+  unsigned char *tab_ok;   /* scratch for aw_fusion_shape_table */
+  int tab_main;            /* the most common shape (its table exists), -1 = none */
+  bool approx;             /* frames without a table of their own use tab_main's */
 } SyncCtx;
 
-/* Double integral of f_b0 at IMU time t, exact for f linear between samples. */
 static void
-imu_pos(const SyncCtx *c, double t, size_t *hint, double out[3])
+ctx_free(SyncCtx *c)
 {
-  const AwImuPrep *imu = c->imu;
-  size_t i = aw_fusion_locate(imu->t_s, imu->n, t, hint);
-  if (i + 1 >= imu->n) i = imu->n - 2;
-  double dt = imu->t_s[i + 1] - imu->t_s[i], u = t - imu->t_s[i];
-  for (int a = 0; a < 3; a++) {
-    double f0 = c->fb0[i][a], f1 = c->fb0[i + 1][a];
-    out[a] = c->pb[i][a] + u * c->cumb[i][a] + 0.5 * u * u * f0 + u * u * u * (f1 - f0) / (6 * dt);
-  }
-}
-
-/* IMU dynamic acceleration at IMU time ti: box mean of f_b0 over +-half minus its mean over
- * +-5 s. In the gyro-stabilised frame gravity is (nearly) constant and the mean of the dynamic
- * acceleration over 10 s is the change of velocity over 10 s divided by 10 s, ~0, so the
- * difference is the acceleration without gravity, comparable in magnitude with the camera's. */
-static bool
-imu_dyn(const SyncCtx *c, double ti, size_t *hint, double out[3])
-{
-  const AwImuPrep *imu = c->imu;
-  if (c->dyn) {
-    /* Tabulated at the samples: the box mean over +-half (>= 0.1 s) is smooth on the scale of
-     * one IMU interval, so linear interpolation between samples is exact to far below the
-     * camera's acceleration noise, and every look-up is O(1) for monotone queries. */
-    if (ti - c->half < imu->t_s[0] || ti + c->half > imu->t_s[imu->n - 1]) return false;
-    size_t i = aw_fusion_locate(imu->t_s, imu->n, ti, hint);
-    if (i + 1 >= imu->n) return false;
-    double u = (ti - imu->t_s[i]) / (imu->t_s[i + 1] - imu->t_s[i]);
-    for (int a = 0; a < 3; a++) out[a] = c->dyn[i][a] + u * (c->dyn[i + 1][a] - c->dyn[i][a]);
-    return !isnan(out[0]);
-  }
-  double fm[3], mm[3];
-  if (!aw_fusion_box_mean(imu->t_s, c->cumb, c->fb0, imu->n, ti - c->half, ti + c->half, hint, fm))
-    return false;
-  double t0 = fmax(imu->t_s[0], ti - 5.0), t1 = fmin(imu->t_s[imu->n - 1], ti + 5.0);
-  size_t h2 = *hint;
-  if (!aw_fusion_box_mean(imu->t_s, c->cumb, c->fb0, imu->n, t0, t1, &h2, mm)) return false;
-  for (int a = 0; a < 3; a++) out[a] = fm[a] - mm[a];
-  return true;
+  free(c->sc); free(c->fb0); free(c->cumb); free(c->pb); free(c->mm); free(c->tab_ok);
+  for (size_t s = 0; s < AW_CAM_MAX_SHAPES; s++) free(c->tab[s]);
 }
 
 static inline double
@@ -84,39 +51,65 @@ imu_time(double t_depth, double off_mid, double drift, double t_mid)
   return (t_depth - off_mid + drift * t_mid) / (1.0 + drift);
 }
 
-/* Pearson correlation of camera signal and |box-mean f| over frames with t in [ta, tb]. */
+/* Linear interpolation of a per-IMU-sample table at IMU time ti; false where undefined. The
+ * tables are smooth on the scale of one IMU interval (the fit spans >= 0.4 s). */
+static inline bool
+tab_at(const SyncCtx *c, const double (*tab)[3], double ti, size_t *hint, double out[3])
+{
+  const AwImuPrep *imu = c->imu;
+  if (ti < imu->t_s[0] || ti >= imu->t_s[imu->n - 1]) return false;
+  size_t i = aw_fusion_locate(imu->t_s, imu->n, ti, hint);
+  if (i + 1 >= imu->n) return false;
+  double u = (ti - imu->t_s[i]) / (imu->t_s[i + 1] - imu->t_s[i]);
+  for (int a = 0; a < 3; a++) out[a] = tab[i][a] + u * (tab[i + 1][a] - tab[i][a]);
+  return !isnan(out[0]);
+}
+
+/* The IMU's dynamic acceleration as the camera's fit for frame k would see it at clock offset
+ * off: the frame's own fit operator on the double integral of f_b0, minus the +-5 s mean of
+ * f_b0 (in the gyro-stabilised frame gravity is nearly constant and the mean dynamic
+ * acceleration over 10 s is ~0). Both sides pass through the same linear filter, so an
+ * asymmetric swing is smoothed identically on both and the correlation peak is unbiased. */
+static bool
+imu_seen(const SyncCtx *c, size_t k, double ti, double off, double drift, size_t *hint,
+         size_t *h3, double out[3])
+{
+  const AwCamPrep *cam = c->cam;
+  int sh = cam->shape ? cam->shape[k] : -1;
+  if (sh >= 0 && c->tab[sh]) return tab_at(c, (const double (*)[3])c->tab[sh], ti, hint, out);
+  if (c->approx && c->tab_main >= 0)
+    return tab_at(c, (const double (*)[3])c->tab[c->tab_main], ti, hint, out);
+  double mm[3];
+  if (!tab_at(c, (const double (*)[3])c->mm, ti, hint, mm)) return false;
+  const AwImuPrep *imu = c->imu;
+  double acc[3] = { 0, 0, 0 };
+  for (size_t q = cam->wstart[k]; q < cam->wstart[k + 1]; q++) {
+    double tj = imu_time(cam->t_s[cam->widx[q]], off, drift, c->t_mid), pj[3];
+    if (tj < imu->t_s[0] || tj > imu->t_s[imu->n - 1]) return false;
+    aw_fusion_pos_at(imu->t_s, imu->n, (const double (*)[3])c->fb0, (const double (*)[3])c->cumb,
+                     (const double (*)[3])c->pb, tj, h3, pj);
+    for (int a = 0; a < 3; a++) acc[a] += cam->wval[q] * pj[a];
+  }
+  for (int a = 0; a < 3; a++) out[a] = acc[a] - mm[a];
+  return true;
+}
+
+/* Pearson correlation of the camera signal and the magnitude of what the IMU implies for it
+ * over the usable frames with t in [ta, tb] (frames without a fit, occluded or trimmed, and
+ * IMU look-ups outside the recording drop out of the sums). */
 static double
 score(const SyncCtx *c, double off, double drift, double ta, double tb, size_t *n_used)
 {
   const AwCamPrep *cam = c->cam;
   double s1 = 0, s2 = 0, s11 = 0, s22 = 0, s12 = 0;
-  size_t n = 0, hint = 0;
+  size_t n = 0, hint = 0, h3 = 0;
   for (size_t k = 0; k < cam->n; k++) {
     double x = c->sc[k];
     if (isnan(x)) continue;
     double tk = cam->t_s[k];
     if (tk < ta || tk > tb) continue;
-    double ti = imu_time(tk, off, drift, c->t_mid);
-    double fm[3];
-    if (!imu_dyn(c, ti, &hint, fm)) continue;
-    if (c->exact) {
-      /* Same linear operator as the camera's acceleration estimate, so asymmetric swing shapes
-       * are smoothed identically on both sides and the peak is unbiased. */
-      double acc[3] = { 0, 0, 0 }, mm[3];
-      bool ok = true;
-      size_t h3 = hint;
-      for (size_t q = cam->wstart[k]; q < cam->wstart[k + 1]; q++) {
-        double tj = imu_time(cam->t_s[cam->widx[q]], off, drift, c->t_mid), pj[3];
-        if (tj < c->imu->t_s[0] || tj > c->imu->t_s[c->imu->n - 1]) { ok = false; break; }
-        imu_pos(c, tj, &h3, pj);
-        for (int a = 0; a < 3; a++) acc[a] += cam->wval[q] * pj[a];
-      }
-      if (!ok) continue;
-      double t0 = fmax(c->imu->t_s[0], ti - 5.0), t1 = fmin(c->imu->t_s[c->imu->n - 1], ti + 5.0);
-      size_t h2 = 0;
-      if (!aw_fusion_box_mean(c->imu->t_s, c->cumb, c->fb0, c->imu->n, t0, t1, &h2, mm)) continue;
-      for (int a = 0; a < 3; a++) fm[a] = acc[a] - mm[a];
-    }
+    double ti = imu_time(tk, off, drift, c->t_mid), fm[3];
+    if (!imu_seen(c, k, ti, off, drift, &hint, &h3, fm)) continue;
     double y = sqrt(fm[0] * fm[0] + fm[1] * fm[1] + fm[2] * fm[2]);
     s1 += x; s2 += y; s11 += x * x; s22 += y * y; s12 += x * y;
     n++;
@@ -134,40 +127,24 @@ typedef struct {
   size_t n;
 } Peak;
 
-/* Coarse-to-fine maximisation of score over offsets [lo, hi]. */
+/* Local refinement around center (a grid point of spacing step0): 9 points over +-step0, 11
+ * over +-step0/4, and a parabola through the best and its neighbours step0/20 away. */
 static Peak
-search(SyncCtx *c, double lo, double hi, double step0, double drift, double ta, double tb)
+refine(const SyncCtx *c, double center, double step0, double drift, double ta, double tb)
 {
-  Peak pk = { 0, -2, 0, -2, 0 };
-  size_t nstep = (size_t)ceil((hi - lo) / step0) + 1;
-  double *rc = malloc(sizeof *rc * nstep);
-  if (!rc) return pk;
-  size_t best = 0;
-  for (size_t i = 0; i < nstep; i++) {
-    rc[i] = score(c, lo + step0 * (double)i, drift, ta, tb, NULL);
-    if (rc[i] > rc[best]) best = i;
-  }
-  if (c->grid_rc == NULL && !c->exact && isinf(ta) && isinf(tb)) {
-    c->grid_rc = malloc(sizeof *rc * nstep);
-    if (c->grid_rc) { memcpy(c->grid_rc, rc, sizeof *rc * nstep); c->grid_n = nstep; }
-  }
-  double center = lo + step0 * (double)best;
-  /* Second-best peak away from the best (periodic or ambiguous motion lowers the confidence). */
-  for (size_t i = 0; i < nstep; i++)
-    if (fabs(step0 * ((double)i - (double)best)) > 0.15 && rc[i] > pk.rho_second)
-      pk.rho_second = rc[i];
-  free(rc);
+  Peak pk = { center, -2, 0, -2, 0 };
   double step = step0;
   for (int level = 0; level < 2; level++) {
-    double span = step;
-    step = step / 10.0;
+    int half = level == 0 ? 4 : 5;
+    double sp = level == 0 ? step / 4.0 : step / 5.0;
     double bo = center, br = -3;
-    for (int j = -10; j <= 10; j++) {
-      double o = center + span * j / 10.0;
+    for (int j = -half; j <= half; j++) {
+      double o = center + sp * j;
       double r = score(c, o, drift, ta, tb, NULL);
       if (r > br) { br = r; bo = o; }
     }
     center = bo;
+    step = sp;
   }
   double rm = score(c, center - step, drift, ta, tb, NULL);
   double r0 = score(c, center, drift, ta, tb, &pk.n);
@@ -185,16 +162,38 @@ search(SyncCtx *c, double lo, double hi, double step0, double drift, double ta, 
   return pk;
 }
 
-/* Up to three best local maxima of the coarse score, at least 0.1 s apart. */
-static int
-coarse_peaks(const SyncCtx *c, double lo, double hi, double step, double out[3], double *rho2)
+/* Scores on the grid lo + i step0 (nstep points) into rc. */
+static void
+grid_scores(const SyncCtx *c, double lo, double step0, size_t nstep, double drift, double ta,
+            double tb, double *rc)
 {
-  size_t nstep = (size_t)ceil((hi - lo) / step) + 1;
+  for (size_t i = 0; i < nstep; i++) rc[i] = score(c, lo + step0 * (double)i, drift, ta, tb, NULL);
+}
+
+/* Coarse-to-fine maximisation of score over offsets [lo, hi]. */
+static Peak
+search(SyncCtx *c, double lo, double hi, double step0, double drift, double ta, double tb)
+{
+  Peak pk = { 0, -2, 0, -2, 0 };
+  size_t nstep = (size_t)ceil((hi - lo) / step0) + 1;
   double *rc = malloc(sizeof *rc * nstep);
-  if (!rc) return 0;
-  if (c->grid_rc && c->grid_n == nstep) memcpy(rc, c->grid_rc, sizeof *rc * nstep);
-  else
-    for (size_t i = 0; i < nstep; i++) rc[i] = score(c, lo + step * (double)i, 0, -INFINITY, INFINITY, NULL);
+  if (!rc) return pk;
+  grid_scores(c, lo, step0, nstep, drift, ta, tb, rc);
+  size_t best = 0;
+  for (size_t i = 0; i < nstep; i++) if (rc[i] > rc[best]) best = i;
+  double second = -2;
+  for (size_t i = 0; i < nstep; i++)
+    if (fabs(step0 * ((double)i - (double)best)) > 0.15 && rc[i] > second) second = rc[i];
+  free(rc);
+  pk = refine(c, lo + step0 * (double)best, step0, drift, ta, tb);
+  pk.rho_second = second;
+  return pk;
+}
+
+/* Up to three best local maxima of grid scores rc, at least 0.1 s apart. */
+static int
+coarse_peaks(const double *rc, size_t nstep, double lo, double step, double out[3], double *rho2)
+{
   int k = 0;
   double val[3] = { -3, -3, -3 };
   for (size_t i = 0; i < nstep; i++) {
@@ -219,7 +218,6 @@ coarse_peaks(const SyncCtx *c, double lo, double hi, double step, double out[3],
     if (!near) { out[m] = out[j]; val[m] = val[j]; m++; }
   }
   *rho2 = m > 1 ? val[1] : -2;
-  free(rc);
   return m;
 }
 
@@ -306,13 +304,20 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
                         "camera frames span %.3f..%.3f s but the IMU spans %.3f..%.3f s: they do "
                         "not overlap within the +-%.2f s clock-offset range", tc0, tc1, ti0, ti1,
                         max_off);
-  SyncCtx c = { imu, cam, 0.5 * (ti0 + ti1), 0.5 * cam->fit_half_s, NULL, g, NULL, NULL, NULL, false,
-                NULL, NULL, 0 };
+  SyncCtx c;
+  memset(&c, 0, sizeof c);
+  c.imu = imu;
+  c.cam = cam;
+  c.t_mid = 0.5 * (ti0 + ti1);
+  c.half = 0.5 * cam->fit_half_s;
+  c.g = g;
   c.sc = malloc(sizeof *c.sc * cam->n);
   c.fb0 = malloc(sizeof *c.fb0 * imu->n);
   c.cumb = malloc(sizeof *c.cumb * imu->n);
   c.pb = malloc(sizeof *c.pb * imu->n);
-  if (!c.sc || !c.fb0 || !c.cumb || !c.pb) { free(c.sc); free(c.fb0); free(c.cumb); free(c.pb); free(c.dyn); free(c.grid_rc); return AW_ERR_NO_MEMORY; }
+  c.mm = malloc(sizeof *c.mm * imu->n);
+  c.tab_ok = malloc(imu->n);
+  if (!c.sc || !c.fb0 || !c.cumb || !c.pb || !c.mm || !c.tab_ok) { ctx_free(&c); return AW_ERR_NO_MEMORY; }
   {
     /* Gyro bias from the still samples (if any), then the attitude chain. */
     double bg[3] = { 0 };
@@ -344,13 +349,30 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
     }
   }
   {
-    double (*dyn)[3] = malloc(sizeof *dyn * imu->n);
-    if (dyn) {
-      size_t h = 0;
-      for (size_t i = 0; i < imu->n; i++)
-        if (!imu_dyn(&c, imu->t_s[i], &h, dyn[i])) dyn[i][0] = dyn[i][1] = dyn[i][2] = NAN;
-      c.dyn = dyn;
+    /* The +-5 s mean at every sample (two running indices: O(n)). */
+    size_t lo = 0, hi = 0;
+    for (size_t i = 0; i < imu->n; i++) {
+      double t = imu->t_s[i], t0 = fmax(imu->t_s[0], t - 5.0), t1 = fmin(imu->t_s[imu->n - 1], t + 5.0);
+      if (!aw_fusion_box_mean(imu->t_s, c.cumb, c.fb0, imu->n, t0, t1, &lo, c.mm[i]))
+        c.mm[i][0] = c.mm[i][1] = c.mm[i][2] = (double)NAN;
+      (void)hi;
     }
+    /* One table per operator shape that enough frames share to repay it (a table costs one
+     * operator per IMU sample; a frame evaluated alone costs one per offset tried, ~200). */
+    c.tab_main = -1;
+    for (size_t sh = 0; sh < cam->n_shape; sh++)
+      if (c.tab_main < 0 || cam->shape_count[sh] > cam->shape_count[c.tab_main]) c.tab_main = (int)sh;
+    for (size_t sh = 0; sh < cam->n_shape; sh++) {
+      if (cam->shape_count[sh] * 200 < imu->n && (int)sh != c.tab_main) continue;
+      double (*t)[3] = malloc(sizeof *t * imu->n);
+      if (!t) continue;
+      aw_fusion_shape_table(cam, sh, imu->t_s, imu->n, (const double (*)[3])c.fb0,
+                            (const double (*)[3])c.cumb, (const double (*)[3])c.pb, t, c.tab_ok);
+      for (size_t i = 0; i < imu->n; i++)
+        for (int a = 0; a < 3; a++) t[i][a] = c.tab_ok[i] ? t[i][a] - c.mm[i][a] : (double)NAN;
+      c.tab[sh] = t;
+    }
+    if (c.tab_main >= 0 && !c.tab[c.tab_main]) c.tab_main = -1;
   }
   set_cam_signal(&c, NULL);
   /* Motion check, wherever the motion is: the s.d. of the camera's acceleration over windows
@@ -365,7 +387,7 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
     unsigned char *mov = calloc(cam->n ? cam->n : 1, 1);
     if (!c1 || !c2 || !cn || !mov) {
       free(c1); free(c2); free(cn); free(mov);
-      free(c.sc); free(c.fb0); free(c.cumb); free(c.pb); free(c.dyn); free(c.grid_rc);
+      ctx_free(&c);
       return AW_ERR_NO_MEMORY;
     }
     c1[0] = c2[0] = 0;
@@ -402,42 +424,66 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
     free(c1); free(c2); free(cn); free(mov);
   }
   if (sd < 0.5) {
-    free(c.sc); free(c.fb0); free(c.cumb); free(c.pb); free(c.dyn); free(c.grid_rc);
+    ctx_free(&c);
     return aw_error_set(err, AW_ERR_NO_CORRELATION, "depth", 0, 0,
                         "the camera saw almost no acceleration (s.d. %.2f m/s^2): there is no "
                         "motion to align the clocks on", sd);
   }
-  Peak pk = search(&c, -max_off, max_off, 0.02, 0, -INFINITY, INFINITY);
+  /* Coarse grid over the whole range with every frame near motion, then the best few local
+   * maxima refined on the first 60 s of motion (drift over 60 s is below 6 ms); segments
+   * refine the drift below. */
+  const double step0 = 0.02;
+  size_t nstep = (size_t)ceil(2 * max_off / step0) + 1;
+  double *rc = malloc(sizeof *rc * nstep);
+  if (!rc) { ctx_free(&c); return AW_ERR_NO_MEMORY; }
+  /* The grid and the choice between candidates use the most common operator for frames whose
+   * own (a tap missing or trimmed) has no table; the winner is polished with every frame's
+   * own operator. */
+  c.approx = true;
+  grid_scores(&c, -max_off, step0, nstep, 0, -INFINITY, INFINITY, rc);
+  double cand[3], rho2;
+  int nc = coarse_peaks(rc, nstep, -max_off, step0, cand, &rho2);
+  free(rc);
+  c.approx = false;
+  double ta_motion = tc0;
+  for (size_t k = 0; k < cam->n; k++) if (!isnan(c.sc[k])) { ta_motion = cam->t_s[k]; break; }
+  double tb_first = ta_motion + 60.0;
+  Peak pk = { 0, -3, 0, -2, 0 };
+  double second = -2;
+  for (int j = 0; j < nc; j++) {
+    Peak p2 = refine(&c, cand[j], step0, 0, -INFINITY, tb_first);
+    if (p2.n < 10) continue;
+    if (p2.rho > pk.rho) { second = fmax(second, pk.rho); pk = p2; }
+    else second = fmax(second, p2.rho);
+  }
   if (pk.n < 10 || pk.rho < -1) {
-    free(c.sc); free(c.fb0); free(c.cumb); free(c.pb); free(c.dyn); free(c.grid_rc);
+    ctx_free(&c);
     return aw_error_set(err, AW_ERR_NO_OVERLAP, "depth", 0, 0,
                         "fewer than 10 camera frames overlap the IMU at any clock offset within "
                         "+-%.2f s", max_off);
   }
-  (void)estimate_g_cam;
+  /* the runner-up: another candidate's refined peak, or the grid's second local maximum */
+  pk.rho_second = fmax(second, rho2 < pk.rho ? rho2 : -2);
+  c.approx = false;
   {
-    /* The box-averaged signal finds the neighbourhood; the exact signal decides between the
-     * best few candidates (an asymmetric swing can put the box signal's peak on the wrong
-     * side of a double-humped acceleration profile). */
-    double cand[3], rho2;
-    int nc = coarse_peaks(&c, -max_off, max_off, 0.02, cand, &rho2);
-    c.exact = true;
-    Peak best = pk;
-    best.rho = -3;
-    double second = -2;
-    /* The exact signal costs a dozen IMU look-ups per frame: the first 60 s of frames decide
-     * between the candidates (drift over 60 s is below 6 ms); segments refine it below. */
-    double ta_motion = tc0;
-    for (size_t k = 0; k < cam->n; k++) if (!isnan(c.sc[k])) { ta_motion = cam->t_s[k]; break; }
-    double tb_exact = ta_motion + 60.0;
-    for (int j = 0; j < nc; j++) {
-      Peak p2 = search(&c, cand[j] - 0.06, cand[j] + 0.06, 0.02, 0, -INFINITY, tb_exact);
-      if (p2.n < 10) continue;
-      if (p2.rho > best.rho) { if (best.rho > -2) second = fmax(second, best.rho); best = p2; }
-      else second = fmax(second, p2.rho);
+    /* Exact polish: the approximation moves the peak by well under a few milliseconds; two
+     * parabola steps on +-1 ms around it. */
+    double h = 0.001;
+    for (int it = 0; it < 2; it++) {
+      size_t n0 = 0;
+      double rm = score(&c, pk.off - h, 0, -INFINITY, tb_first, NULL);
+      double r0 = score(&c, pk.off, 0, -INFINITY, tb_first, &n0);
+      double rp = score(&c, pk.off + h, 0, -INFINITY, tb_first, NULL);
+      double den = rm - 2 * r0 + rp;
+      if (!(den < 0)) break;
+      double d = 0.5 * (rm - rp) / den;
+      d = fmax(-2.0, fmin(2.0, d));   /* at most two steps per round */
+      pk.off += d * h;
+      pk.curv = -den / (2 * h * h);
+      pk.n = n0;
     }
-    if (best.rho > -2) { pk = best; pk.rho_second = fmax(second, rho2 < pk.rho ? rho2 : second); }
   }
+  (void)estimate_g_cam;
   double off_mid = pk.off, drift = 0;
   double span = tc1 - tc0;
   if (span >= 60.0) {
@@ -445,7 +491,7 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
     size_t nseg = (size_t)(span / 30.0);
     double *so = calloc(nseg, sizeof *so), *st = calloc(nseg, sizeof *st),
            *sw = calloc(nseg, sizeof *sw);
-    if (!so || !st || !sw) { free(so); free(st); free(sw); free(c.sc); free(c.fb0); free(c.cumb); free(c.pb); free(c.dyn); free(c.grid_rc); return AW_ERR_NO_MEMORY; }
+    if (!so || !st || !sw) { free(so); free(st); free(sw); ctx_free(&c); return AW_ERR_NO_MEMORY; }
     size_t ns = 0;
     /* +-100 ppm over the recording moves the offset by at most 1e-4 * span / 2 from its mean */
     double rng = 0.02 + 6e-5 * span;
@@ -479,7 +525,7 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
   }
   size_t nu = 0;
   double rho = score(&c, off_mid, drift, -INFINITY, INFINITY, &nu);
-  free(c.sc); free(c.fb0); free(c.cumb); free(c.pb); free(c.dyn); free(c.grid_rc);
+  ctx_free(&c);
   if (rho < 0.5)
     return aw_error_set(err, AW_ERR_NO_CORRELATION, "depth", 0, 0,
                         "the camera and IMU motion do not agree at any clock offset within "
