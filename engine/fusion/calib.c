@@ -63,6 +63,7 @@ typedef struct {
   const double *tau;
   const double (*fb0)[3], (*vb0)[3], (*pb0)[3];
   const double (*qb0)[4];   /* attitude of the body relative to its first sample */
+  const double (*Rb0)[3][3];  /* the same as rotation matrices */
   size_t n;
   const AwCamPrep *cam;
   const size_t *frames;   /* camera frames used */
@@ -87,13 +88,13 @@ w_imu_acc(const WCtx *w, size_t k, double shift, size_t *hint, double out[3], do
       double pj = w->pb0[i][a] + u * w->vb0[i][a] + 0.5 * u * u * f0 + u * u * u * (f1 - f0) / (6 * dt);
       out[a] += cam->wval[q] * pj;
     }
-    /* the lever term: the fit operator on R_b0_body(t) */
-    double r = u / dt, qi[4], R[3][3];
-    for (int c = 0; c < 4; c++) qi[c] = (1 - r) * w->qb0[i][c] + r * w->qb0[i + 1][c];
-    aw_quat_normalize(qi);
-    aw_quat_to_mat(R, qi);
+    /* the lever term: the fit operator on R_b0_body(t), the rotation matrices of the samples
+     * interpolated linearly (the lever is centimetres: second-order errors in a 10 ms step's
+     * rotation are far below the camera's acceleration noise) */
+    double r = u / dt, wq = cam->wval[q];
     for (int a = 0; a < 3; a++)
-      for (int c = 0; c < 3; c++) M[a][c] += cam->wval[q] * R[a][c];
+      for (int c = 0; c < 3; c++)
+        M[a][c] += wq * ((1 - r) * w->Rb0[i][a][c] + r * w->Rb0[i + 1][a][c]);
   }
   return true;
 }
@@ -328,13 +329,17 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
       }
       free(t_prev);
       free(t_next);
+      double (*Rb0)[3][3] = malloc(sizeof *Rb0 * n);
+      if (Rb0) for (size_t i = 0; i < n; i++) aw_quat_to_mat(Rb0[i], qb0[i]);
       WCtx w = { tau, (const double (*)[3])fb0, (const double (*)[3])cum, (const double (*)[3])pb0,
-                 (const double (*)[4])qb0, n_ok, cam, frames, m0, fmax(s->lever_arm_sigma_m, 1e-3) };
-      if (m0 >= 10) {
-        /* +-150 ms on a 5 ms grid (the stage-1 peak can be that far off on noisy cameras),
-         * then two finer levels and a parabola. */
-        double best = 0, br = INFINITY, step = 0.005;
-        for (int j = -30; j <= 30; j++) {
+                 (const double (*)[4])qb0, (const double (*)[3][3])Rb0, n_ok, cam, frames, m0,
+                 fmax(s->lever_arm_sigma_m, 1e-3) };
+      if (m0 >= 10 && Rb0) {
+        /* +-250 ms on a 10 ms grid (the magnitude-based stage-1 peak can be 200 ms off on
+         * hard swings; the basin of the vector fit is several times wider than 10 ms), then
+         * two finer levels (2 ms, 0.4 ms) and a parabola. */
+        double best = 0, br = INFINITY, step = 0.010;
+        for (int j = -25; j <= 25; j++) {
           /* the coarse grid only locates the basin: three rounds (trimmed once) suffice */
           double r = w_resid_n(&w, j * step, 3, NULL, NULL, NULL);
           if (r < br) { br = r; best = j * step; }
@@ -366,6 +371,7 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
           }
         }
       }
+      free(Rb0);
     }
     free(pb0);
     free(frames);
