@@ -2,14 +2,18 @@
 /* Stage 1: clock offset and drift between the IMU and the depth camera.
  *
  * The two sensors share no frame, so we compare frame-independent signals: the magnitude of
- * the specific force measured by the IMU, |f|, and the magnitude of what the camera implies for
- * it, |a_cam - g_cam| (a_cam from a local quadratic fit of the keypoint path). g_cam, gravity in
- * the camera frame, is not known yet: the coarse search uses |a_cam| against |f| (their Pearson
- * correlation ignores the constant g), then g_cam follows from a linear least-squares solution of
- * a_cam . g_cam = (|a_cam|^2 + g^2 - |f|^2) / 2 at that offset, and the fine search uses the
- * exact signal. Coarse to fine: 20 ms grid over the whole range, then 2 ms, then 0.2 ms, and a
- * parabola through the best three points for the sub-sample peak. Recordings over a minute are
- * cut into 30 s segments whose offsets give the drift by a weighted straight-line fit. */
+ * the keypoint acceleration the camera's local quadratic fit gives, and the magnitude of the
+ * IMU's dynamic acceleration (specific force rotated into the gyro-stabilised first-sample frame
+ * minus its +-5 s mean) seen through the same fit operator: the camera's fit weights applied to
+ * the IMU's double integral at the frames' times. Frames whose taps sit on the nominal frame
+ * grid share an operator shape, tabulated once on the IMU samples (prep.c), so a score costs a
+ * table look-up per frame; other frames are evaluated alone. Occluded frames (no fit) and IMU
+ * look-ups outside the recording drop out of the Pearson sums. A 20 ms grid over the whole
+ * range (frames without a table of their own use the commonest shape's), then the best three
+ * local maxima refined with every frame's own operator (5 ms, 1 ms, parabola) and the winner
+ * polished by two parabola steps. Recordings over a minute are cut into 30 s segments whose
+ * offsets give the drift by a weighted straight-line fit.
+ */
 #include "fusion-internal.h"
 
 #include "arcwise/math3.h"
