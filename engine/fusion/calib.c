@@ -69,12 +69,79 @@ typedef struct {
   const size_t *frames;   /* camera frames used */
   size_t m;
   double lever_sigma;     /* prior 1-sigma of the lever arm */
+  /* Per operator shape (prep.c): the fit operator on the double integral (ftab) and on the
+   * rotation (mtab) at every sample of tau, NaN where a tap falls outside; NULL = evaluate the
+   * shape's frames one by one. */
+  double (*ftab[AW_CAM_MAX_SHAPES])[3];
+  double (*mtab[AW_CAM_MAX_SHAPES])[3][3];
 } WCtx;
+
+/* Tables of the shapes enough frames share to repay them (a table costs one operator per
+ * sample; a frame alone costs one per shift tried, ~80). */
+static void
+w_tables(WCtx *w)
+{
+  const AwCamPrep *cam = w->cam;
+  size_t *use = calloc(AW_CAM_MAX_SHAPES, sizeof *use);
+  unsigned char *ok = malloc(w->n ? w->n : 1);
+  if (!use || !ok) { free(use); free(ok); return; }
+  for (size_t j = 0; j < w->m; j++) {
+    int sh = cam->shape ? cam->shape[w->frames[j]] : -1;
+    if (sh >= 0) use[sh]++;
+  }
+  for (size_t sh = 0; sh < cam->n_shape; sh++) {
+    if (use[sh] * 80 < w->n || w->n < 2) continue;
+    double (*ft)[3] = malloc(sizeof *ft * w->n);
+    double (*mt)[3][3] = malloc(sizeof *mt * w->n);
+    if (!ft || !mt) { free(ft); free(mt); continue; }
+    aw_fusion_shape_table(cam, sh, w->tau, w->n, w->fb0, w->vb0, w->pb0, ft, ok);
+    size_t q0 = cam->shape_start[sh], q1 = cam->shape_start[sh + 1], hint[64] = { 0 };
+    for (size_t i = 0; i < w->n; i++) {
+      memset(mt[i], 0, sizeof mt[i]);
+      if (!ok[i]) { ft[i][0] = ft[i][1] = ft[i][2] = (double)NAN; continue; }
+      for (size_t q = q0; q < q1; q++) {
+        double t = w->tau[i] + cam->shape_u[q];
+        size_t a0 = aw_fusion_locate(w->tau, w->n, t, &hint[q - q0]);
+        if (a0 + 1 >= w->n) a0 = w->n - 2;
+        double r = (t - w->tau[a0]) / (w->tau[a0 + 1] - w->tau[a0]), wq = cam->shape_w[q];
+        for (int a = 0; a < 3; a++)
+          for (int c = 0; c < 3; c++)
+            mt[i][a][c] += wq * ((1 - r) * w->Rb0[a0][a][c] + r * w->Rb0[a0 + 1][a][c]);
+      }
+    }
+    w->ftab[sh] = ft;
+    w->mtab[sh] = mt;
+  }
+  free(use);
+  free(ok);
+}
+
+static void
+w_tables_free(WCtx *w)
+{
+  for (size_t sh = 0; sh < AW_CAM_MAX_SHAPES; sh++) { free(w->ftab[sh]); free(w->mtab[sh]); }
+}
 
 static bool
 w_imu_acc(const WCtx *w, size_t k, double shift, size_t *hint, double out[3], double M[3][3])
 {
   const AwCamPrep *cam = w->cam;
+  int sh = cam->shape ? cam->shape[k] : -1;
+  if (sh >= 0 && w->ftab[sh]) {
+    /* tabulated: linear interpolation in the frame's time on the IMU grid */
+    double t = cam->t_s[k] - shift;
+    if (t < w->tau[0] || t >= w->tau[w->n - 1]) return false;
+    size_t i = aw_fusion_locate(w->tau, w->n, t, hint);
+    if (i + 1 >= w->n) return false;
+    double r = (t - w->tau[i]) / (w->tau[i + 1] - w->tau[i]);
+    const double (*f0)[3] = (const double (*)[3])w->ftab[sh];
+    if (isnan(f0[i][0]) || isnan(f0[i + 1][0])) return false;
+    for (int a = 0; a < 3; a++) out[a] = f0[i][a] + r * (f0[i + 1][a] - f0[i][a]);
+    const double (*m0)[3][3] = (const double (*)[3][3])w->mtab[sh];
+    for (int a = 0; a < 3; a++)
+      for (int c = 0; c < 3; c++) M[a][c] = m0[i][a][c] + r * (m0[i + 1][a][c] - m0[i][a][c]);
+    return true;
+  }
   out[0] = out[1] = out[2] = 0;
   memset(M, 0, sizeof(double) * 9);
   for (size_t q = cam->wstart[k]; q < cam->wstart[k + 1]; q++) {
@@ -333,20 +400,32 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
       if (Rb0) for (size_t i = 0; i < n; i++) aw_quat_to_mat(Rb0[i], qb0[i]);
       WCtx w = { tau, (const double (*)[3])fb0, (const double (*)[3])cum, (const double (*)[3])pb0,
                  (const double (*)[4])qb0, (const double (*)[3][3])Rb0, n_ok, cam, frames, m0,
-                 fmax(s->lever_arm_sigma_m, 1e-3) };
+                 fmax(s->lever_arm_sigma_m, 1e-3), { NULL }, { NULL } };
+      WCtx wt = w;   /* with tables: the coarse grid only */
+      if (m0 >= 10 && Rb0) w_tables(&wt);
       if (m0 >= 10 && Rb0) {
         /* +-250 ms on a 10 ms grid (the magnitude-based stage-1 peak can be 200 ms off on
          * hard swings; the basin of the vector fit is several times wider than 10 ms), then
          * two finer levels (2 ms, 0.4 ms) and a parabola. */
         double best = 0, br = INFINITY, step = 0.010;
+        /* The coarse grid only locates the basin: every other frame, tabulated operators, three
+         * rounds (trimmed once); the finer levels and the parabola compare full fits with every
+         * frame's own operator. */
+        WCtx wc = wt;
+        size_t *sub = malloc(sizeof *sub * (m0 / 2 + 1));
+        if (sub && m0 >= 40) {
+          wc.m = 0;
+          for (size_t j = 0; j < m0; j += 2) sub[wc.m++] = frames[j];
+          wc.frames = sub;
+        }
         for (int j = -25; j <= 25; j++) {
-          /* the coarse grid only locates the basin: three rounds (trimmed once) suffice */
-          double r = w_resid_n(&w, j * step, 3, NULL, NULL, NULL);
+          double r = w_resid_n(&wc, j * step, 3, NULL, NULL, NULL);
           if (r < br) { br = r; best = j * step; }
         }
-        br = INFINITY;   /* the fine levels compare full fits only (j = 0 re-evaluates best) */
+        free(sub);
         for (int lev = 0; lev < 2; lev++) {
           double c0 = best;
+          br = INFINITY;   /* each level compares its own kind of fit (j = 0 re-evaluates best) */
           for (int j = -5; j <= 5; j++) {
             double sh = c0 + j * step / 5.0, r = w_resid(&w, sh, NULL, NULL, NULL);
             if (r < br) { br = r; best = sh; }
@@ -371,6 +450,7 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
           }
         }
       }
+      w_tables_free(&wt);
       free(Rb0);
     }
     free(pb0);
