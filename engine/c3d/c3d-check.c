@@ -3,6 +3,7 @@
  * cross-correlation of speed profiles, which needs no common frame, then a least-squares rigid
  * fit (Kabsch 1976 in Horn's 1987 quaternion form) and the errors that remain. */
 #include "arcwise/c3d.h"
+#include "arcwise/eig.h"
 #include "arcwise/math3.h"
 #include "arcwise/units.h"
 
@@ -20,60 +21,6 @@ aw_ref_check_settings_default(AwRefCheckSettings *out)
   out->min_overlap = 0.5;
   out->max_gap_s = 0.1;
   out->rotation = true;
-}
-
-/* Eigen-decomposition of a symmetric 4x4 matrix by cyclic Jacobi rotations (Golub & Van Loan,
- * Matrix Computations, 4th ed., §8.5): the eigenvector of the largest eigenvalue, and the
- * largest two eigenvalues. */
-static void
-jacobi4(double A[4][4], double vec[4], double *l1, double *l2)
-{
-  double V[4][4] = { { 1, 0, 0, 0 }, { 0, 1, 0, 0 }, { 0, 0, 1, 0 }, { 0, 0, 0, 1 } };
-  for (int sweep = 0; sweep < 60; sweep++) {
-    double off = 0, diag = 0;
-    for (int p = 0; p < 4; p++) {
-      diag += A[p][p] * A[p][p];
-      for (int q = p + 1; q < 4; q++)
-        off += A[p][q] * A[p][q];
-    }
-    if (off <= 1e-30 * (diag > 0 ? diag : 1))
-      break;
-    for (int p = 0; p < 3; p++)
-      for (int q = p + 1; q < 4; q++) {
-        if (A[p][q] == 0)
-          continue;
-        double theta = (A[q][q] - A[p][p]) / (2 * A[p][q]);
-        double t = (theta >= 0 ? 1 : -1) / (fabs(theta) + sqrt(theta * theta + 1));
-        double c = 1 / sqrt(t * t + 1), s = t * c;
-        for (int k = 0; k < 4; k++) {
-          double akp = A[k][p], akq = A[k][q];
-          A[k][p] = c * akp - s * akq;
-          A[k][q] = s * akp + c * akq;
-        }
-        for (int k = 0; k < 4; k++) {
-          double apk = A[p][k], aqk = A[q][k];
-          A[p][k] = c * apk - s * aqk;
-          A[q][k] = s * apk + c * aqk;
-        }
-        for (int k = 0; k < 4; k++) {
-          double vkp = V[k][p], vkq = V[k][q];
-          V[k][p] = c * vkp - s * vkq;
-          V[k][q] = s * vkp + c * vkq;
-        }
-      }
-  }
-  int best = 0;
-  for (int i = 1; i < 4; i++)
-    if (A[i][i] > A[best][best])
-      best = i;
-  double second = -INFINITY;
-  for (int i = 0; i < 4; i++)
-    if (i != best && A[i][i] > second)
-      second = A[i][i];
-  for (int k = 0; k < 4; k++)
-    vec[k] = V[k][best];
-  *l1 = A[best][best];
-  *l2 = second;
 }
 
 AwStatus
@@ -110,8 +57,14 @@ aw_rigid_fit(const double (*a)[3], const double (*b)[3], size_t n, double R[3][3
     { S[2][0] - S[0][2], S[0][1] + S[1][0], -S[0][0] + S[1][1] - S[2][2], S[1][2] + S[2][1] },
     { S[0][1] - S[1][0], S[2][0] + S[0][2], S[1][2] + S[2][1], -S[0][0] - S[1][1] + S[2][2] },
   };
-  double q[4], l1, l2;
-  jacobi4(N, q, &l1, &l2);
+  /* The quaternion is the eigenvector of N's largest eigenvalue (Horn 1987, section 4). */
+  double w[4], V[16], q[4];
+  if (!aw_sym_eigen(4, &N[0][0], w, V))
+    return aw_error_set(err, AW_ERR_NON_FINITE, NULL, 0, 0,
+                        "the rigid fit met a non-finite point coordinate");
+  for (int k = 0; k < 4; k++)
+    q[k] = V[4 * k + 3];
+  double l1 = w[3], l2 = w[2];
   /* Points on a line: the two largest eigenvalues coincide (any rotation about the line fits
    * equally well). Relative to the spread of the points. */
   if (!(spread > 0) || l1 - l2 <= 1e-9 * spread)
