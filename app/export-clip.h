@@ -12,6 +12,8 @@
 #include <stddef.h>
 #include <stdint.h>
 
+#include "display-units.h"
+
 /* Fills `rgba` (width x height, rows `stride` apart, top row first, bytes R G B A) with the
  * scene at swing times t_s[0] (swing A) and t_s[1] (swing B, NaN without one). Returns false
  * with a message in err to stop the export. */
@@ -45,11 +47,6 @@ typedef struct {
   double align_s;                /* the instant matched between two swings (impact) */
   const char *name;              /* e.g. "Swing 3, 7-iron"; may be NULL */
 } ArcwiseClipSwing;
-
-typedef enum {
-  ARCWISE_UNITS_METRIC = 0,      /* m/s */
-  ARCWISE_UNITS_IMPERIAL,        /* mph */
-} ArcwiseUnits;
 
 typedef struct {
   int width, height;             /* 1280x720 or 1920x1080 (any even size works) */

@@ -8,13 +8,9 @@
 #include <glib.h>
 
 #include "arcwise-swing-model.h"
+#include "display-units.h"
 
 G_BEGIN_DECLS
-
-typedef enum {
-  ARCWISE_UNITS_METRIC = 0,     /* m/s, cm */
-  ARCWISE_UNITS_IMPERIAL,       /* mph, in */
-} ArcwiseUnits;
 
 typedef enum {
   ARCWISE_FIGURE_TIME = 0,      /* s */
