@@ -3,6 +3,7 @@
  * nothing changed on disk, and read-only access where that is possible. And a full disk
  * (simulated with the file-size limit): a clear error, no corruption, nothing half-written. */
 #include "testutil.h"
+#include "testutil-glib.h"
 
 #include <signal.h>
 #include <string.h>
@@ -15,18 +16,6 @@
 #include "store.h"
 
 static char *work;
-
-static char *
-file_sha(const char *path)
-{
-  gchar *data = NULL;
-  gsize len = 0;
-  if (!g_file_get_contents(path, &data, &len, NULL))
-    return g_strdup("absent");
-  char *h = g_compute_checksum_for_data(G_CHECKSUM_SHA256, (const guchar *)data, len);
-  g_free(data);
-  return h;
-}
 
 /* A library with one player and one session's worth of swings, made through the store API. */
 static char *
@@ -73,7 +62,7 @@ newer_library(void)
   AW_CHECK(sqlite3_exec(db, "CREATE TABLE later_feature (x); PRAGMA user_version = 99;", NULL,
                         NULL, NULL) == SQLITE_OK);
   sqlite3_close(db);
-  char *before = file_sha(path);
+  char *before = aw_test_file_sha(path);
   GError *e = NULL;
   ArcwiseStore *s = arcwise_store_open(path, ARCWISE_STORE_OPEN_DEFAULT, &e);
   AW_CHECK(s == NULL);
@@ -81,7 +70,7 @@ newer_library(void)
   AW_CHECK(e != NULL && e->code == ARCWISE_STORE_ERROR_TOO_NEW);
   AW_CHECK(e != NULL && strstr(e->message, "newer") != NULL);
   g_clear_error(&e);
-  char *after = file_sha(path);
+  char *after = aw_test_file_sha(path);
   AW_CHECK(strcmp(before, after) == 0);
   g_free(after);
   /* read-only: the program can still show what it knows of the library */
@@ -151,7 +140,7 @@ newer_library(void)
   g_clear_error(&e);
   g_free(cur);
   g_clear_error(&e);
-  after = file_sha(path);
+  after = aw_test_file_sha(path);
   AW_CHECK(strcmp(before, after) == 0);
   g_free(after);
   g_free(before);
@@ -169,7 +158,7 @@ truncated_library(void)
   /* cut it where a copy interrupted by a full USB stick would end */
   AW_CHECK(g_file_set_contents(path, data, (gssize)(len / 2), NULL));
   g_free(data);
-  char *before = file_sha(path);
+  char *before = aw_test_file_sha(path);
   for (int ro = 0; ro < 2; ro++) {
     GError *e = NULL;
     ArcwiseStore *s = arcwise_store_open(path, ro ? ARCWISE_STORE_OPEN_READONLY
@@ -185,7 +174,7 @@ truncated_library(void)
       g_clear_error(&e);
       arcwise_store_close(s);
     }
-    char *after = file_sha(path);
+    char *after = aw_test_file_sha(path);
     AW_CHECK(strcmp(before, after) == 0);
     g_free(after);
   }

@@ -7,6 +7,7 @@
 
 #include "store-private.h"
 #include "testutil.h"
+#include "testutil-glib.h"
 
 #include <glib/gstdio.h>
 #include <string.h>
@@ -42,18 +43,7 @@ st_rmtree(const char *dir)
 }
 
 /* SHA-256 of a whole file ("" when it does not exist). */
-static inline char *
-st_file_sha(const char *path)
-{
-  char *data = NULL;
-  gsize len = 0;
-  if (!g_file_get_contents(path, &data, &len, NULL))
-    return g_strdup("");
-  char hex[65];
-  arcwise_codec_sha256_hex(data, len, hex);
-  g_free(data);
-  return g_strdup(hex);
-}
+#define st_file_sha aw_test_file_sha
 
 /* Deterministic bytes (xorshift64*), all 256 values occurring. */
 static inline GBytes *

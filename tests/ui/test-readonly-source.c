@@ -11,18 +11,7 @@
 
 #include "store.h"
 #include "testutil.h"
-
-static char *
-file_sha(const char *path)
-{
-  char *data = NULL;
-  gsize len = 0;
-  if (!g_file_get_contents(path, &data, &len, NULL))
-    return g_strdup("");
-  char *hex = g_compute_checksum_for_data(G_CHECKSUM_SHA256, (const guchar *)data, len);
-  g_free(data);
-  return hex;
-}
+#include "testutil-glib.h"
 
 int
 main(void)
@@ -42,7 +31,7 @@ main(void)
   AW_CHECK(sqlite3_open(path, &db) == SQLITE_OK);
   AW_CHECK(sqlite3_exec(db, "PRAGMA user_version = 99;", NULL, NULL, NULL) == SQLITE_OK);
   sqlite3_close(db);
-  g_autofree char *before = file_sha(path);
+  g_autofree char *before = aw_test_file_sha(path);
 
   /* Both ways the workbench opens a library: --library FILE, and $ARCWISE_LIBRARY. */
   ArcwiseLibrarySource *src = arcwise_library_source_open_library(path);
@@ -69,7 +58,7 @@ main(void)
   g_clear_error(&e);
   arcwise_library_source_free(src);
 
-  g_autofree char *after = file_sha(path);
+  g_autofree char *after = aw_test_file_sha(path);
   AW_CHECK(strcmp(before, after) == 0);
 
   /* A current library is not read-only. */
