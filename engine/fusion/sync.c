@@ -225,52 +225,6 @@ coarse_peaks(const double *rc, size_t nstep, double lo, double step, double out[
   return m;
 }
 
-/* Least squares for gravity in the camera frame at a given alignment (see file comment). */
-static bool
-estimate_g_cam(const SyncCtx *c, double off, double drift, double g_out[3])
-{
-  const AwCamPrep *cam = c->cam;
-  const AwImuPrep *imu = c->imu;
-  double A[3][3] = { { 0 } }, b[3] = { 0 };
-  size_t hint = 0, n = 0;
-  for (size_t k = 0; k < cam->n; k++) {
-    if (!cam->acc_ok[k]) continue;
-    double ti = imu_time(cam->t_s[k], off, drift, c->t_mid), fm[3];
-    if (!aw_fusion_box_mean(imu->t_s, imu->cumf, imu->f, imu->n,
-                            ti - c->half, ti + c->half, &hint, fm))
-      continue;
-    const double *a = cam->acc_m_s2[k];
-    double rhs = 0.5 * (a[0] * a[0] + a[1] * a[1] + a[2] * a[2] + c->g * c->g -
-                        (fm[0] * fm[0] + fm[1] * fm[1] + fm[2] * fm[2]));
-    for (int r = 0; r < 3; r++) {
-      b[r] += a[r] * rhs;
-      for (int q = 0; q < 3; q++) A[r][q] += a[r] * a[q];
-    }
-    n++;
-  }
-  if (n < 10) return false;
-  /* A small ridge keeps directions the motion never excited from blowing up. */
-  double tr = A[0][0] + A[1][1] + A[2][2];
-  for (int r = 0; r < 3; r++) A[r][r] += 1e-6 * tr + 1e-9;
-  double det = A[0][0] * (A[1][1] * A[2][2] - A[1][2] * A[2][1]) -
-               A[0][1] * (A[1][0] * A[2][2] - A[1][2] * A[2][0]) +
-               A[0][2] * (A[1][0] * A[2][1] - A[1][1] * A[2][0]);
-  if (!(fabs(det) > 0)) return false;
-  double x[3];
-  for (int col = 0; col < 3; col++) {
-    double M[3][3];
-    memcpy(M, A, sizeof M);
-    for (int r = 0; r < 3; r++) M[r][col] = b[r];
-    x[col] = (M[0][0] * (M[1][1] * M[2][2] - M[1][2] * M[2][1]) -
-              M[0][1] * (M[1][0] * M[2][2] - M[1][2] * M[2][0]) +
-              M[0][2] * (M[1][0] * M[2][1] - M[1][1] * M[2][0])) / det;
-  }
-  double nx = sqrt(x[0] * x[0] + x[1] * x[1] + x[2] * x[2]);
-  if (!(nx > 0.3 * c->g)) return false;   /* the motion did not pin gravity down */
-  for (int r = 0; r < 3; r++) g_out[r] = x[r] / nx * c->g;
-  return true;
-}
-
 static void
 set_cam_signal(SyncCtx *c, const double *g_cam)
 {
@@ -488,7 +442,6 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
       pk.n = n0;
     }
   }
-  (void)estimate_g_cam;
   double off_mid = pk.off, drift = 0;
   double span = tc1 - tc0;
   if (span >= 60.0) {
