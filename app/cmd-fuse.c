@@ -61,6 +61,7 @@ write_report(FILE *f, const AwFusedPath *p)
   const AwFusionReport *r = &p->report;
   fprintf(f, "clock_offset_s: %.6f\n", r->clock_offset_s);
   fprintf(f, "clock_offset_sigma_s: %.6f\n", r->clock_offset_sigma_s);
+  fprintf(f, "clock_calib_sigma_s: %.6f\n", r->clock_calib_sigma_s);
   fprintf(f, "clock_drift_ppm: %.3f\n", r->clock_drift * 1e6);
   fprintf(f, "clock_confidence: %.3f\n", r->clock_confidence);
   fprintf(f, "q_cam_grav_wxyz: %.6f %.6f %.6f %.6f\n", r->q_cam_grav[0], r->q_cam_grav[1],

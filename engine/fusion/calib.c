@@ -290,6 +290,30 @@ w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[
   return rms;
 }
 
+/* sigma_t from the cost's curvature (least squares: var = 2 s2 / J'' with J the sum of squared
+ * residuals and s2 the residual variance per component), the curvature taken over +-5 ms (the
+ * tabulated operators are piecewise linear in the shift: a narrower span sees their kinks).
+ * Residuals of frames inside one fit window share camera positions and IMU errors, so the
+ * information counts one independent residual per window: the variance is inflated by the
+ * frames per window. */
+static double w_resid(const WCtx *w, double shift, double q_out[4], double g_out[3], double l_out[3]);
+static double
+clock_sigma(const WCtx *w, const AwCamPrep *cam, double shift)
+{
+  size_t cnt = 0, hint = 0;
+  double F[3], M[3][3], h = 0.005;
+  for (size_t j = 0; j < w->m; j++) cnt += w_imu_acc(w, w->frames[j], shift, &hint, F, M);
+  if (cnt < 10) return 0;
+  double rm = w_resid(w, shift - h, NULL, NULL, NULL), r0 = w_resid(w, shift, NULL, NULL, NULL),
+         rp = w_resid(w, shift + h, NULL, NULL, NULL);
+  /* J(s) = cnt rms(s)^2 */
+  double d2 = (double)cnt * (rm * rm - 2 * r0 * r0 + rp * rp) / (h * h);
+  double s2 = r0 * r0 / 3.0;   /* per component */
+  double per_window = fmax(1.0, 2.0 * cam->fit_half_s / cam->dt_nom_s);
+  if (!(d2 > 0) || !isfinite(d2)) return 0;
+  return sqrt(2.0 * s2 / d2 * per_window);
+}
+
 static double
 w_resid(const WCtx *w, double shift, double q_out[4], double g_out[3], double l_out[3])
 {
@@ -438,6 +462,7 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
           double d = 0.5 * (rm - rp) / den;
           if (fabs(d) <= 1) best += d * step;
         }
+        out->clock_sigma_s = clock_sigma(&w, cam, best);
         if (isfinite(br)) {
           out->clock_shift_s = best;
           /* The rotation, gravity and lever arm of the joint solution at that shift. */

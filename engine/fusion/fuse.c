@@ -210,6 +210,7 @@ aw_fuse(const AwImuStream *imu, const AwDepthStream *depth, const AwFusionSettin
   lap(times, AW_FUSION_STAGE_CALIB, &mark);
   /* The calibration's vector match refines the clock: shift the IMU grid by it. */
   rep->clock_offset_s += cal.clock_shift_s;
+  rep->clock_calib_sigma_s = cal.clock_sigma_s;
   for (size_t i = 0; i < imu->n; i++) { tau[i] += cal.clock_shift_s; path->t_s[i] = tau[i]; }
   rep->still_found = cal.still_found;
   memcpy(rep->q_cam_body0, cal.q_cam_body0, sizeof cal.q_cam_body0);

@@ -100,6 +100,10 @@ typedef struct {
   bool still_found;
   double resid_rms_m_s2;      /* rms of the Wahba fit residual */
   double clock_shift_s;       /* refinement of the clock offset found here (add to it) */
+  double clock_sigma_s;       /* sigma_t: 1-sigma of the clock offset after that refinement,
+                                 from the curvature of the vector-fit cost at its minimum with
+                                 one independent residual per camera fit window; 0 = the
+                                 refinement did not run (then the sync's sigma stands) */
   double lever_body_m[3];     /* keypoint relative to the IMU from the joint solution */
   bool have_joint;
 } AwCalib;

@@ -104,6 +104,10 @@ typedef struct {
   double lever_arm_body_m[3];   /* keypoint relative to the IMU as refined by the filter */
   /* Wall time of each stage of this run (monotonic clock), for benchmarks and profiling. */
   double stage_time_s[AW_FUSION_STAGE_COUNT];
+  /* 1-sigma of the clock offset after the calibration's vector fit refined it (sigma_t, from
+   * the curvature of that fit's cost; 0 when the refinement did not run). The filter may
+   * inflate the camera noise by it: sigma_t^2 v v^T for the hand velocity v. */
+  double clock_calib_sigma_s;
 } AwFusionReport;
 
 typedef struct {
