@@ -73,6 +73,16 @@ arcwise_figure_format(const ArcwiseFigure *f, ArcwiseUnits units, gboolean diff)
   if (!isfinite(f->value))
     return g_strdup("—");
   const char *sign = diff && f->value >= 0 ? "+" : "";
+  if (diff && f->value < 0) {
+    /* A difference that rounds to nothing is shown as "+0.0", never as "-0.0". */
+    ArcwiseFigure mag = *f;
+    mag.value = -f->value;
+    g_autofree char *m = arcwise_figure_format(&mag, units, TRUE);   /* "+0.17 s" */
+    if (g_ascii_strtod(m + 1, NULL) == 0.0)
+      return g_steal_pointer(&m);
+    m[0] = '-';
+    return g_steal_pointer(&m);
+  }
   switch (f->kind) {
   case ARCWISE_FIGURE_TIME:
     return g_strdup_printf("%s%.2f s", sign, f->value);

@@ -13,16 +13,32 @@ typedef struct {
   double t_before;
   guint64 frames_before;
   gint64 play_started_us;
+  char *pending;        /* name of the view snapshot being written */
 } Smoke;
 
 static void next_step(Smoke *s);
+static void snap_window(Smoke *s, const char *name);
+
+static void
+window_then_next(gpointer data)
+{
+  Smoke *s = data;
+  g_autofree char *name = g_steal_pointer(&s->pending);
+  if (name != NULL) {
+    snap_window(s, name);
+    g_string_append_printf(s->report, "layout=%s %u %d\n", name,
+                           arcwise_window_count_clipped(s->win),
+                           arcwise_window_bars_overlap(s->win));
+  }
+  next_step(s);
+}
 
 static void
 snapshot_done(gpointer data)
 {
-  Smoke *s = data;
-  /* Let the frame reach the screen and layouts settle before the next step. */
-  g_timeout_add_once(120, (GSourceOnceFunc)next_step, s);
+  /* Let the frame reach the screen and layouts settle, picture the whole window, then take
+   * the next step. */
+  g_timeout_add_once(120, window_then_next, data);
 }
 
 static void
@@ -30,10 +46,36 @@ snap(Smoke *s, const char *name)
 {
   g_autofree char *path = g_strdup_printf("%s/%s.png", s->dir, name);
   ArcwiseStage *stage = arcwise_window_get_stage(s->win);
+  g_free(s->pending);
+  s->pending = g_strdup(name);
   g_string_append_printf(s->report, "snapshot=%s %d %d\n", name,
                          gtk_widget_get_width(GTK_WIDGET(stage)),
                          gtk_widget_get_height(GTK_WIDGET(stage)));
   arcwise_stage_request_snapshot(stage, path, G_CALLBACK(snapshot_done), s);
+}
+
+/* The whole window as the coach sees it (every widget, the 3-D view's last frame included),
+ * rendered by the window's own renderer; DIR/win-NAME.png. */
+static void
+snap_window(Smoke *s, const char *name)
+{
+  GtkWidget *w = GTK_WIDGET(s->win);
+  int width = gtk_widget_get_width(w), height = gtk_widget_get_height(w);
+  GdkPaintable *p = gtk_widget_paintable_new(w);
+  GtkSnapshot *snapshot = gtk_snapshot_new();
+  gdk_paintable_snapshot(p, GDK_SNAPSHOT(snapshot), width, height);
+  GskRenderNode *node = gtk_snapshot_free_to_node(snapshot);
+  g_object_unref(p);
+  if (node == NULL)
+    return;
+  GskRenderer *r = gtk_native_get_renderer(GTK_NATIVE(w));
+  GdkTexture *tex = gsk_renderer_render_texture(r, node, &GRAPHENE_RECT_INIT(0, 0, width, height));
+  g_autofree char *path = g_strdup_printf("%s/win-%s.png", s->dir, name);
+  if (!gdk_texture_save_to_png(tex, path))
+    g_printerr("smoke: cannot write %s\n", path);
+  g_string_append_printf(s->report, "window=%s %d %d\n", name, width, height);
+  g_object_unref(tex);
+  gsk_render_node_unref(node);
 }
 
 static void
@@ -52,6 +94,7 @@ finish(Smoke *s)
     g_printerr("smoke: %s\n", error->message);
   GApplication *app = G_APPLICATION(gtk_window_get_application(GTK_WINDOW(s->win)));
   g_string_free(s->report, TRUE);
+  g_free(s->pending);
   g_free(s->dir);
   g_free(s);
   g_application_quit(app);

@@ -38,7 +38,11 @@ struct _ArcwiseWindow {
   GtkListView *swing_list;
   GtkLabel *library_label;
   ArcwiseStage *stage;
+  GtkOverlay *stage_overlay;
   GtkWidget *view_bar;
+  GtkWidget *layer_bar;
+  GtkWidget *numbers_scroller;
+  GtkWidget *overlay_scroller;
   GtkLabel *legend_label;
   GtkLabel *empty_label;
   GtkWidget *transport;
@@ -218,6 +222,12 @@ cell(const char *text, const char *css, float xalign)
   gtk_label_set_xalign(GTK_LABEL(l), xalign);
   if (css)
     gtk_widget_add_css_class(l, css);
+  if (css != NULL && g_str_equal(css, "figure-label")) {
+    /* Names wrap, so the numbers beside them always fit the sheet, however large the type. */
+    gtk_label_set_wrap(GTK_LABEL(l), TRUE);
+    gtk_label_set_wrap_mode(GTK_LABEL(l), PANGO_WRAP_WORD);
+    gtk_widget_set_hexpand(l, TRUE);
+  }
   return l;
 }
 
@@ -518,6 +528,24 @@ arcwise_window_get_n_visible(ArcwiseWindow *self)
 /* ---- list rows ----------------------------------------------------------------------------- */
 
 static void
+choice_setup(GtkSignalListItemFactory *f, GtkListItem *li, gpointer data)
+{
+  GtkWidget *l = gtk_label_new(NULL);
+  gtk_label_set_xalign(GTK_LABEL(l), 0);
+  gtk_label_set_ellipsize(GTK_LABEL(l), PANGO_ELLIPSIZE_END);
+  gtk_list_item_set_child(li, l);
+}
+
+static void
+choice_bind(GtkSignalListItemFactory *f, GtkListItem *li, gpointer data)
+{
+  GtkStringObject *o = gtk_list_item_get_item(li);
+  GtkWidget *l = gtk_list_item_get_child(li);
+  gtk_label_set_text(GTK_LABEL(l), gtk_string_object_get_string(o));
+  gtk_widget_set_tooltip_text(l, gtk_string_object_get_string(o));
+}
+
+static void
 row_setup(GtkSignalListItemFactory *f, GtkListItem *li, ArcwiseWindow *self)
 {
   GtkWidget *box = gtk_box_new(GTK_ORIENTATION_VERTICAL, 2);
@@ -700,6 +728,28 @@ on_view_changed(ArcwiseStage *stage, ArcwiseWindow *self)
   ArcwiseView v = arcwise_stage_get_view(stage);
   g_action_group_change_action_state(G_ACTION_GROUP(self), "view",
                                      g_variant_new_string(names[v]));
+}
+
+/* The view buttons sit top left and the layer buttons top right; when the studio view is
+ * too narrow for both on one line, the layer buttons move below the view buttons instead of
+ * covering them. */
+static gboolean
+place_stage_bar(GtkOverlay *overlay, GtkWidget *child, GdkRectangle *alloc, ArcwiseWindow *self)
+{
+  if (child != self->layer_bar)
+    return FALSE;
+  int width = gtk_widget_get_width(GTK_WIDGET(overlay));
+  int lw, lh, vw, vh;
+  gtk_widget_measure(child, GTK_ORIENTATION_HORIZONTAL, -1, NULL, &lw, NULL, NULL);
+  gtk_widget_measure(child, GTK_ORIENTATION_VERTICAL, lw, NULL, &lh, NULL, NULL);
+  gtk_widget_measure(self->view_bar, GTK_ORIENTATION_HORIZONTAL, -1, NULL, &vw, NULL, NULL);
+  gtk_widget_measure(self->view_bar, GTK_ORIENTATION_VERTICAL, vw, NULL, &vh, NULL, NULL);
+  gboolean one_line = vw + lw <= width;
+  alloc->width = lw;
+  alloc->height = lh;
+  alloc->x = MAX(0, width - lw);
+  alloc->y = one_line ? 0 : vh;
+  return TRUE;
 }
 
 /* ---- notes ----------------------------------------------------------------------------- */
@@ -1390,6 +1440,7 @@ arcwise_window_class_init(ArcwiseWindowClass *klass)
   BIND(library_box); BIND(search_entry); BIND(player_dropdown); BIND(session_dropdown);
   BIND(filter_dropdown);
   BIND(swing_list); BIND(library_label); BIND(stage); BIND(view_bar); BIND(legend_label);
+  BIND(stage_overlay); BIND(layer_bar); BIND(numbers_scroller); BIND(overlay_scroller);
   BIND(empty_label); BIND(transport); BIND(play_button); BIND(speed_dropdown); BIND(time_label); BIND(timeline);
   BIND(sheet_box); BIND(sheet_stack); BIND(metrics_grid); BIND(speed_chart);
   BIND(quality_label); BIND(compare_dropdown); BIND(sync_dropdown); BIND(compare_grid);
@@ -1447,6 +1498,14 @@ arcwise_window_init(ArcwiseWindow *self)
   g_signal_connect(self->compare_dropdown, "notify::selected", G_CALLBACK(on_compare_choice), self);
   g_signal_connect(self->sync_dropdown, "notify::selected", G_CALLBACK(on_compare_choice), self);
   g_signal_connect(self->stage, "view-changed", G_CALLBACK(on_view_changed), self);
+  g_signal_connect(self->stage_overlay, "get-child-position", G_CALLBACK(place_stage_bar), self);
+  /* Long swing names and sync choices shorten with an ellipsis instead of widening the sheet. */
+  GtkListItemFactory *ellipsized = gtk_signal_list_item_factory_new();
+  g_signal_connect(ellipsized, "setup", G_CALLBACK(choice_setup), NULL);
+  g_signal_connect(ellipsized, "bind", G_CALLBACK(choice_bind), NULL);
+  gtk_drop_down_set_factory(self->compare_dropdown, ellipsized);
+  gtk_drop_down_set_factory(self->sync_dropdown, ellipsized);
+  g_object_unref(ellipsized);
   g_object_bind_property(self->library_toggle, "active", self->library_box, "visible",
                          G_BINDING_SYNC_CREATE);
   gtk_drawing_area_set_draw_func(self->speed_chart, draw_chart, self, NULL);
@@ -1533,6 +1592,50 @@ arcwise_window_get_compare_rows(ArcwiseWindow *self)
        c = gtk_widget_get_next_sibling(c))
     n++;
   return n;
+}
+
+static guint
+clipped_in(GtkWidget *grid, GtkWidget *scroller)
+{
+  /* What the coach can see of the page: the scroller, itself cut at the window's edge when
+   * the sheet asks for more room than the window has. */
+  GtkWidget *win = GTK_WIDGET(gtk_widget_get_root(grid));
+  graphene_rect_t page;
+  if (win == NULL || !gtk_widget_compute_bounds(scroller, win, &page))
+    return 0;
+  float left = MAX(page.origin.x, 0.0f);
+  float right = MIN(page.origin.x + page.size.width, (float)gtk_widget_get_width(win));
+  guint n = 0;
+  for (GtkWidget *c = gtk_widget_get_first_child(grid); c; c = gtk_widget_get_next_sibling(c)) {
+    graphene_rect_t r;
+    if (!gtk_widget_compute_bounds(c, win, &r))
+      continue;
+    if (r.origin.x < left - 0.5f || r.origin.x + r.size.width > right + 0.5f)
+      n++;
+  }
+  return n;
+}
+
+guint
+arcwise_window_count_clipped(ArcwiseWindow *self)
+{
+  const char *page = gtk_stack_get_visible_child_name(self->sheet_stack);
+  if (g_strcmp0(page, "numbers") == 0)
+    return clipped_in(GTK_WIDGET(self->metrics_grid), self->numbers_scroller);
+  if (g_strcmp0(page, "overlay") == 0)
+    return clipped_in(GTK_WIDGET(self->compare_grid), self->overlay_scroller);
+  return 0;
+}
+
+gboolean
+arcwise_window_bars_overlap(ArcwiseWindow *self)
+{
+  graphene_rect_t a, b, both;
+  if (!gtk_widget_compute_bounds(self->view_bar, GTK_WIDGET(self->stage_overlay), &a) ||
+      !gtk_widget_compute_bounds(self->layer_bar, GTK_WIDGET(self->stage_overlay), &b))
+    return FALSE;
+  return graphene_rect_intersection(&a, &b, &both) && both.size.width > 0.5f &&
+         both.size.height > 0.5f;
 }
 
 void

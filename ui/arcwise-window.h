@@ -35,5 +35,10 @@ double arcwise_window_get_duration(ArcwiseWindow *self);
 gboolean arcwise_window_is_playing(ArcwiseWindow *self);
 guint arcwise_window_get_compare_rows(ArcwiseWindow *self);
 void arcwise_window_set_speed_index(ArcwiseWindow *self, guint i);
+/* Layout checks for the smoke test: how many cells of the visible sheet page's table reach
+ * past the sheet (0 = every figure readable), and whether the view buttons and the layer
+ * buttons over the studio view cover each other. */
+guint arcwise_window_count_clipped(ArcwiseWindow *self);
+gboolean arcwise_window_bars_overlap(ArcwiseWindow *self);
 
 G_END_DECLS

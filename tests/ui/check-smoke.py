@@ -68,11 +68,15 @@ def ice(img):
 
 report = {}
 snaps = {}
+layout = {}
 for line in open(os.path.join(d, "report.txt")):
     k, _, v = line.strip().partition("=")
     if k == "snapshot":
         name, w, h = v.split()
         snaps[name] = (int(w), int(h))
+    elif k == "layout":
+        name, clipped, overlap = v.split()
+        layout[name] = (int(clipped), int(overlap))
     else:
         report[k] = v
 
@@ -93,6 +97,14 @@ check(report.get("presentation_class") == "1" and report.get("presentation_left"
 check(int(report.get("shortcuts_listed", 0)) >= 27, "shortcuts window lists every key (%s)" % report.get("shortcuts_listed"))
 missing = [k for k, v in report.items() if k.startswith("action") and v.endswith("missing")]
 check(not missing, "every scripted action exists")
+
+# Layout, measured in the window itself after each picture: every figure of the visible sheet
+# table lies inside the sheet (none cut off at its right edge), and the view buttons and the
+# layer buttons over the studio view never cover each other, at normal and presentation size.
+check(len(layout) >= 7, "layout measured after every picture (%d)" % len(layout))
+for name, (clipped, overlap) in sorted(layout.items()):
+    check(clipped == 0, "%s: every figure of the sheet fits (%d cut off)" % (name, clipped))
+    check(overlap == 0, "%s: the button bars over the view do not overlap" % name)
 
 sw = png("swing")
 n_sat, n_grey = saturated(sw), grey_light(sw)

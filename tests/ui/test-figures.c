@@ -64,6 +64,21 @@ main(void)
   AW_CHECK(g_str_equal(in, "10.0 in"));
   AW_CHECK(g_str_equal(cm, "25.4 cm"));
 
+  /* Differences always carry a sign; one that rounds to nothing at the shown precision reads
+   * "+0.0", not "-0.0" (the values sit well clear of a rounding tie). */
+  const struct { double v; ArcwiseFigureKind k; const char *want; } diffs[] = {
+    { -0.04, ARCWISE_FIGURE_SPEED, "+0.0 m/s" }, { -0.17, ARCWISE_FIGURE_TIME, "-0.17 s" },
+    { 0.113, ARCWISE_FIGURE_RATIO, "+0.11" }, { -0.113, ARCWISE_FIGURE_RATIO, "-0.11" },
+    { -0.002, ARCWISE_FIGURE_RATIO, "+0.00" }, { -0.625, ARCWISE_FIGURE_LENGTH, "-62.5 cm" },
+  };
+  for (size_t i = 0; i < G_N_ELEMENTS(diffs); i++) {
+    ArcwiseFigure d = { "", diffs[i].v, diffs[i].k };
+    g_autofree char *txt = arcwise_figure_format(&d, ARCWISE_UNITS_METRIC, TRUE);
+    if (!g_str_equal(txt, diffs[i].want))
+      g_printerr("difference %g formatted as '%s', want '%s'\n", diffs[i].v, txt, diffs[i].want);
+    AW_CHECK(g_str_equal(txt, diffs[i].want));
+  }
+
   /* The band is coloured by who carried each phase, sample by sample. */
   ArcwiseScenePath path;
   arcwise_swing_model_as_path(m, &path);
