@@ -14,7 +14,11 @@ typedef struct {
   guint64 frames_before;
   gint64 play_started_us;
   char *pending;        /* name of the view snapshot being written */
+  gboolean store;       /* the stored-library script (ARCWISE_SMOKE_STORE) */
+  guint swing;          /* store script: the swing being looked at */
 } Smoke;
+
+static void store_step(Smoke *s);
 
 static void next_step(Smoke *s);
 static void snap_window(Smoke *s, const char *name);
@@ -30,7 +34,10 @@ window_then_next(gpointer data)
                            arcwise_window_count_clipped(s->win),
                            arcwise_window_bars_overlap(s->win));
   }
-  next_step(s);
+  if (s->store)
+    store_step(s);
+  else
+    next_step(s);
 }
 
 static void
@@ -226,6 +233,123 @@ next_step(Smoke *s)
   }
 }
 
+/* ---- the stored-library script -------------------------------------------------------------- */
+
+static GtkWidget *
+part(Smoke *s, const char *name)
+{
+  return GTK_WIDGET(gtk_widget_get_template_child(GTK_WIDGET(s->win), ARCWISE_TYPE_WINDOW, name));
+}
+
+/* The Numbers table as shown: "number=SWING LABEL\tVALUE" lines. */
+static void
+dump_numbers(Smoke *s, const char *tag)
+{
+  GtkGrid *grid = GTK_GRID(part(s, "metrics_grid"));
+  for (int row = 0;; row++) {
+    GtkWidget *l = gtk_grid_get_child_at(grid, 0, row), *v = gtk_grid_get_child_at(grid, 1, row);
+    if (l == NULL || v == NULL)
+      break;
+    g_string_append_printf(s->report, "number=%s %" G_GINT64_FORMAT " %s\t%s\n", tag,
+                           arcwise_window_get_swing_id(s->win),
+                           gtk_label_get_text(GTK_LABEL(l)), gtk_label_get_text(GTK_LABEL(v)));
+  }
+}
+
+/* One widget alone as the window draws it, DIR/NAME.png. */
+static void
+snap_widget(Smoke *s, GtkWidget *w, const char *name)
+{
+  int width = gtk_widget_get_width(w), height = gtk_widget_get_height(w);
+  GdkPaintable *p = gtk_widget_paintable_new(w);
+  GtkSnapshot *snapshot = gtk_snapshot_new();
+  gdk_paintable_snapshot(p, GDK_SNAPSHOT(snapshot), width, height);
+  GskRenderNode *node = gtk_snapshot_free_to_node(snapshot);
+  g_object_unref(p);
+  if (node == NULL)
+    return;
+  GskRenderer *r = gtk_native_get_renderer(GTK_NATIVE(s->win));
+  GdkTexture *tex = gsk_renderer_render_texture(r, node, &GRAPHENE_RECT_INIT(0, 0, width, height));
+  g_autofree char *path = g_strdup_printf("%s/%s.png", s->dir, name);
+  if (!gdk_texture_save_to_png(tex, path))
+    g_printerr("smoke: cannot write %s\n", path);
+  g_object_unref(tex);
+  gsk_render_node_unref(node);
+}
+
+static void
+store_step(Smoke *s)
+{
+  guint n = arcwise_window_get_n_visible(s->win);
+  switch (s->step++) {
+  case 0:
+    g_string_append_printf(s->report, "caution_shown=%d\nswings=%u\n", s->caution != NULL, n);
+    if (s->caution != NULL) {
+      GtkWidget *def = gtk_window_get_default_widget(s->caution);
+      if (def != NULL)
+        g_signal_emit_by_name(def, "clicked");
+      s->caution = NULL;
+    }
+    act(s, "app.units", g_variant_new_string("metric"));
+    s->swing = 0;
+    G_GNUC_FALLTHROUGH;
+  case 1:
+    /* Each swing in turn, seen down the line. */
+    if (s->swing < n) {
+      arcwise_window_select_index(s->win, s->swing);
+      act(s, "win.view", g_variant_new_string("down-the-line"));
+      act(s, "win.seek", g_variant_new_int32(1));   /* playhead clear of the event marks */
+      g_autofree char *name = g_strdup_printf("dtl-%u", s->swing);
+      s->step = 2;
+      snap(s, name);
+    } else {
+      s->step = 3;
+      act(s, "app.units", g_variant_new_string("imperial"));
+      g_timeout_add_once(200, (GSourceOnceFunc)store_step, s);
+    }
+    break;
+  case 2: {
+    /* The picture of this swing is drawn and the layout has settled. */
+    const ArcwiseSwingModel *m = arcwise_window_get_model(s->win);
+    GtkWidget *tl = part(s, "timeline");
+    g_string_append_printf(s->report, "swing=%u %" G_GINT64_FORMAT " %d %.6f %d %d\n", s->swing,
+                           arcwise_window_get_swing_id(s->win), m ? m->handed : 0,
+                           arcwise_window_get_duration(s->win), gtk_widget_get_width(tl),
+                           gtk_widget_get_height(tl));
+    dump_numbers(s, "metric");
+    g_autofree char *name = g_strdup_printf("timeline-%u", s->swing);
+    snap_widget(s, tl, name);
+    s->swing++;
+    s->step = 1;
+    store_step(s);
+    break;
+  }
+  case 3: {
+    dump_numbers(s, "imperial");
+    /* The coach's marks on the first swing, entered through the widgets. */
+    arcwise_window_select_index(s->win, 0);
+    GtkWidget *star4 = gtk_widget_get_first_child(part(s, "rating_box"));
+    for (int k = 0; k < 4 && star4 != NULL; k++)
+      star4 = gtk_widget_get_next_sibling(star4);
+    if (GTK_IS_TOGGLE_BUTTON(star4))
+      gtk_toggle_button_set_active(GTK_TOGGLE_BUTTON(star4), TRUE);
+    gtk_switch_set_active(GTK_SWITCH(part(s, "reference_switch")), TRUE);
+    gtk_editable_set_text(GTK_EDITABLE(part(s, "tags_entry")), "grip, takeaway");
+    gtk_text_buffer_set_text(gtk_text_view_get_buffer(GTK_TEXT_VIEW(part(s, "notes_view"))),
+                             "Hands high at the top; keep the tempo.", -1);
+    g_signal_emit_by_name(part(s, "notes_save"), "clicked");
+    g_string_append_printf(s->report, "marked=%" G_GINT64_FORMAT "\n",
+                           arcwise_window_get_swing_id(s->win));
+    const char *err = arcwise_stage_get_error_text(arcwise_window_get_stage(s->win));
+    g_string_append_printf(s->report, "gl_error=%s\n", err ? err : "none");
+    finish(s);
+    break;
+  }
+  default:
+    break;
+  }
+}
+
 static gboolean
 wait_first_frame(gpointer data)
 {
@@ -233,7 +357,10 @@ wait_first_frame(gpointer data)
   ArcwiseStage *stage = arcwise_window_get_stage(s->win);
   if (arcwise_stage_get_frames(stage) == 0 && arcwise_stage_get_error_text(stage) == NULL)
     return G_SOURCE_CONTINUE;
-  next_step(s);
+  if (s->store)
+    store_step(s);
+  else
+    next_step(s);
   return G_SOURCE_REMOVE;
 }
 
@@ -245,5 +372,6 @@ arcwise_smoke_start(ArcwiseWindow *win, const char *dir, GtkWindow *caution)
   s->caution = caution;
   s->dir = g_strdup(dir);
   s->report = g_string_new(NULL);
+  s->store = g_getenv("ARCWISE_SMOKE_STORE") != NULL;
   g_timeout_add(50, wait_first_frame, s);
 }

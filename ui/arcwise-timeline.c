@@ -71,9 +71,14 @@ draw(ArcwiseTimeline *self, cairo_t *cr, double w, double h)
       i = j;
     }
 
-  /* Event marks with labels. */
+  /* Event marks with labels. The address mark stands where the address phase begins (the
+   * swing's first sample); the takeaway, the end of address, has its own mark. */
+  double address_t = NAN;
+  for (size_t i = 0; i < m->n && !isfinite(address_t); i++)
+    if (m->phase[i] == ARCWISE_SCENE_PHASE_ADDRESS)
+      address_t = m->t_s[i];
   const struct { double t; const char *label; } ev[] = {
-    { m->events.address_s, "address" }, { m->events.top_s, "top" },
+    { address_t, "address" }, { m->events.address_s, "takeaway" }, { m->events.top_s, "top" },
     { m->events.impact_s, "impact" }, { m->events.finish_s, "finish" },
   };
   PangoLayout *layout = pango_cairo_create_layout(cr);

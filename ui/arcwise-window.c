@@ -63,6 +63,7 @@ struct _ArcwiseWindow {
   GtkSwitch *reference_switch;
   GtkEntry *tags_entry;
   GtkTextView *notes_view;
+  GtkButton *notes_save;
 
   /* Owned */
   GListStore *items;              /* every ArcwiseSwingItem of the library */
@@ -1445,7 +1446,7 @@ arcwise_window_class_init(ArcwiseWindowClass *klass)
   BIND(sheet_box); BIND(sheet_stack); BIND(metrics_grid); BIND(speed_chart);
   BIND(quality_label); BIND(compare_dropdown); BIND(sync_dropdown); BIND(compare_grid);
   BIND(compare_note); BIND(rating_box); BIND(reference_switch); BIND(tags_entry);
-  BIND(notes_view);
+  BIND(notes_view); BIND(notes_save);
 #undef BIND
   gtk_widget_class_bind_template_callback(widget_class, on_search_changed);
   gtk_widget_class_bind_template_callback(widget_class, on_scrubbed);
@@ -1564,6 +1565,18 @@ ArcwiseExporter *
 arcwise_window_get_exporter(ArcwiseWindow *self)
 {
   return self->exporter;
+}
+
+gint64
+arcwise_window_get_swing_id(ArcwiseWindow *self)
+{
+  return self->current ? self->current->swing_id : 0;
+}
+
+const ArcwiseSwingModel *
+arcwise_window_get_model(ArcwiseWindow *self)
+{
+  return current_model(self);
 }
 
 ArcwiseStage *

@@ -39,6 +39,9 @@ void arcwise_window_set_speed_index(ArcwiseWindow *self, guint i);
  * past the sheet (0 = every figure readable), and whether the view buttons and the layer
  * buttons over the studio view cover each other. */
 guint arcwise_window_count_clipped(ArcwiseWindow *self);
+/* The swing on screen: its library id (0 = none or a demo swing without one) and model. */
+gint64 arcwise_window_get_swing_id(ArcwiseWindow *self);
+const ArcwiseSwingModel *arcwise_window_get_model(ArcwiseWindow *self);
 gboolean arcwise_window_bars_overlap(ArcwiseWindow *self);
 
 G_END_DECLS
