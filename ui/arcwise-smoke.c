@@ -3,6 +3,7 @@
 #include "arcwise-smoke.h"
 
 #include <math.h>
+#include <string.h>
 
 typedef struct {
   ArcwiseWindow *win;
@@ -218,6 +219,19 @@ next_step(Smoke *s)
       gtk_window_close(help);
     }
     g_string_append_printf(s->report, "shortcuts_listed=%u\n", n);
+    /* About carries the studio caution too. */
+    act(s, "app.about", NULL);
+    gboolean about_caution = FALSE;
+    GListModel *tops = gtk_window_get_toplevels();
+    for (guint k = 0; k < g_list_model_get_n_items(tops); k++) {
+      g_autoptr(GObject) w = g_list_model_get_item(tops, k);
+      if (GTK_IS_ABOUT_DIALOG(w)) {
+        const char *c = gtk_about_dialog_get_comments(GTK_ABOUT_DIALOG(w));
+        about_caution = about_caution || (c != NULL && strstr(c, arcwise_safety_text) != NULL);
+        gtk_window_close(GTK_WINDOW(w));
+      }
+    }
+    g_string_append_printf(s->report, "about_caution=%d\n", about_caution);
     act(s, "win.presentation", NULL);
     g_string_append_printf(s->report, "presentation_left=%d\n",
                            !gtk_widget_has_css_class(GTK_WIDGET(s->win), "presentation"));
@@ -303,10 +317,18 @@ store_step(Smoke *s)
       s->step = 2;
       snap(s, name);
     } else {
+      /* The last swing face-on with its trust band, who carried each phase by the stored
+       * analysis in the legend. */
       s->step = 3;
-      act(s, "app.units", g_variant_new_string("imperial"));
-      g_timeout_add_once(200, (GSourceOnceFunc)store_step, s);
+      act(s, "win.view", g_variant_new_string("face-on"));
+      act(s, "win.trust", NULL);
+      snap(s, "trust-stored");
     }
+    break;
+  case 3:
+    act(s, "win.trust", NULL);
+    act(s, "app.units", g_variant_new_string("imperial"));
+    g_timeout_add_once(200, (GSourceOnceFunc)store_step, s);
     break;
   case 2: {
     /* The picture of this swing is drawn and the layout has settled. */
@@ -324,7 +346,7 @@ store_step(Smoke *s)
     store_step(s);
     break;
   }
-  case 3: {
+  case 4: {
     dump_numbers(s, "imperial");
     /* The coach's marks on the first swing, entered through the widgets. */
     arcwise_window_select_index(s->win, 0);

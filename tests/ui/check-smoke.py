@@ -81,6 +81,7 @@ for line in open(os.path.join(d, "report.txt")):
         report[k] = v
 
 check(report.get("caution_shown") == "1", "first-run safety caution was shown")
+check(report.get("about_caution") == "1", "About carries the same safety caution")
 check(int(report.get("swings", 0)) >= 2, "library lists swings (%s)" % report.get("swings"))
 n_all, n_pl, n_se = (int(report.get(k, 0)) for k in ("swings", "drill_player_swings", "drill_session_swings"))
 check(0 < n_se <= n_pl < n_all and int(report.get("drill_all_swings", 0)) == n_all,
