@@ -129,6 +129,23 @@ wait_play(gpointer data)
   return G_SOURCE_REMOVE;
 }
 
+static gboolean
+wait_loop(gpointer data)
+{
+  Smoke *s = data;
+  /* Wrapped once time is back well before where playing began. */
+  gboolean wrapped = arcwise_window_get_time(s->win) < s->t_before - 0.05;
+  if (!wrapped && arcwise_window_is_playing(s->win) &&
+      g_get_monotonic_time() - s->play_started_us < 60 * G_USEC_PER_SEC)
+    return G_SOURCE_CONTINUE;
+  g_string_append_printf(s->report, "looped=%d\nloop_still_playing=%d\n", wrapped,
+                         arcwise_window_is_playing(s->win));
+  act(s, "win.play", NULL);   /* pause */
+  act(s, "win.loop", NULL);   /* loop off again */
+  next_step(s);
+  return G_SOURCE_REMOVE;
+}
+
 static void
 snap_presentation(gpointer data)
 {
@@ -172,35 +189,50 @@ next_step(Smoke *s)
     g_timeout_add(50, wait_play, s);
     break;
   }
-  case 2:
+  case 2: {
+    /* Loop: played from just before the end, time comes round to the start again. */
+    const ArcwiseSwingModel *m = arcwise_window_get_model(s->win);
+    act(s, "win.loop", NULL);
+    act(s, "win.seek", g_variant_new_int32(1));
+    for (int k = 0; k < 6; k++)
+      act(s, "win.step", g_variant_new_int32(-1));
+    s->t_before = arcwise_window_get_time(s->win);
+    g_string_append_printf(s->report, "loop_from=%.4f\nloop_end=%.4f\n", s->t_before,
+                           m ? (double)m->t_s[m->n - 1] : 0.0);
+    s->play_started_us = g_get_monotonic_time();
+    act(s, "win.play", NULL);
+    g_timeout_add(20, wait_loop, s);
+    break;
+  }
+  case 3:
     arcwise_window_set_speed_index(s->win, 0);
     act(s, "win.view", g_variant_new_string("down-the-line"));
     snap(s, "view-dtl");
     break;
-  case 3:
+  case 4:
     act(s, "win.view", g_variant_new_string("above"));
     snap(s, "view-above");
     break;
-  case 4:
+  case 5:
     act(s, "win.view", g_variant_new_string("face-on"));
     act(s, "win.seek", g_variant_new_int32(1));
     act(s, "win.trust", NULL);
     snap(s, "trust");
     break;
-  case 5:
+  case 6:
     act(s, "win.trust", NULL);
     act(s, "win.compare", NULL);
     g_string_append_printf(s->report, "compare_cells=%u\n", arcwise_window_get_compare_rows(s->win));
     snap(s, "compare");
     break;
-  case 6:
+  case 7:
     act(s, "win.presentation", NULL);
     g_string_append_printf(s->report, "presentation_class=%d\n",
                            gtk_widget_has_css_class(GTK_WIDGET(s->win), "presentation"));
     /* Let the new layout (library hidden, larger type) settle before the picture. */
     g_timeout_add_once(400, (GSourceOnceFunc)snap_presentation, s);
     break;
-  case 7: {
+  case 8: {
     act(s, "win.show-help-overlay", NULL);
     GtkWindow *help = GTK_WINDOW(gtk_application_window_get_help_overlay(GTK_APPLICATION_WINDOW(s->win)));
     guint n = 0;

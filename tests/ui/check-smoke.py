@@ -92,6 +92,10 @@ check(float(report.get("step_dt", 0)) > 0, "frame step moves the playhead")
 check(float(report.get("play_time_after", 0)) > float(report.get("play_time_before", 0)) + 0.1,
       "playback advances time (%s -> %s s)" % (report.get("play_time_before"), report.get("play_time_after")))
 check(report.get("playing") == "1" and report.get("paused") == "1", "play, then pause")
+check(report.get("looped") == "1" and report.get("loop_still_playing") == "1"
+      and float(report.get("loop_from", 0)) < float(report.get("loop_end", 0)),
+      "loop: played from %s s near the end (%s s), time came round to the start and kept playing"
+      % (report.get("loop_from"), report.get("loop_end")))
 check(int(report.get("compare_cells", 0)) >= 20, "compare table filled (%s cells)" % report.get("compare_cells"))
 check(report.get("presentation_class") == "1" and report.get("presentation_left") == "1",
       "presentation mode on and off")

@@ -14,6 +14,8 @@ contains(const char *hay, const char *needle)
   return hay != NULL && needle != NULL && strstr(hay, needle) != NULL;
 }
 
+static const float zero_shift[3] = { 0, 0, 0 };
+
 int
 main(void)
 {
@@ -107,6 +109,40 @@ main(void)
   AW_CHECK(contains(q, n1) && contains(q, n2));
   g_autofree char *n3 = g_markup_escape_text(aw_quality_note_text(AW_NOTE_SYNC_WEAK), -1);
   AW_CHECK(!contains(q, n3));
+
+  /* Compare: two swings are kept in step by their events. With every event, each of a's
+   * events maps onto b's and time between two events maps linearly (the midpoint of a's
+   * backswing onto the midpoint of b's); lined up at one event, time is only shifted. */
+  {
+    ArcwiseSwingModel *b = arcwise_swing_model_new_demo(1, 1);
+    const double ea[4] = { m->events.address_s, m->events.top_s, m->events.impact_s, m->events.finish_s };
+    const double eb[4] = { b->events.address_s, b->events.top_s, b->events.impact_s, b->events.finish_s };
+    AW_CHECK(fabs(ea[1] - eb[1]) > 0.01);   /* the two demo swings differ in timing */
+    for (int k = 0; k < 4; k++)
+      AW_CHECK_NEAR(arcwise_swing_sync_time(m, b, ea[k], -1), eb[k], 1e-9);
+    AW_CHECK_NEAR(arcwise_swing_sync_time(m, b, 0.5 * (ea[0] + ea[1]), -1), 0.5 * (eb[0] + eb[1]), 1e-9);
+    AW_CHECK_NEAR(arcwise_swing_sync_time(m, b, ea[1] + 0.25 * (ea[2] - ea[1]), -1),
+                  eb[1] + 0.25 * (eb[2] - eb[1]), 1e-9);
+    AW_CHECK_NEAR(arcwise_swing_sync_time(m, b, 0.1, 2), 0.1 - ea[2] + eb[2], 1e-9);
+
+    /* Per-phase deviation: the swing against itself is 0 everywhere; against a copy moved by
+     * (3, 4, 0) cm it is 5 cm, typical and most, in every phase (Pythagoras). */
+    double rms[ARCWISE_SCENE_N_PHASES], mx[ARCWISE_SCENE_N_PHASES];
+    const float shift[3] = { 0.03f, 0.04f, 0.0f };
+    ArcwiseSwingModel *same = arcwise_swing_model_copy_shifted(m, zero_shift);
+    ArcwiseSwingModel *moved = arcwise_swing_model_copy_shifted(m, shift);
+    arcwise_phase_deviation(m, same, -1, rms, mx);
+    for (int p = ARCWISE_SCENE_PHASE_BACKSWING; p <= ARCWISE_SCENE_PHASE_FOLLOW_THROUGH; p++)
+      AW_CHECK(rms[p] < 1e-6 && mx[p] < 1e-6);
+    arcwise_phase_deviation(m, moved, -1, rms, mx);
+    for (int p = ARCWISE_SCENE_PHASE_BACKSWING; p <= ARCWISE_SCENE_PHASE_FOLLOW_THROUGH; p++) {
+      AW_CHECK_NEAR(rms[p], 0.05, 1e-6);
+      AW_CHECK_NEAR(mx[p], 0.05, 1e-6);
+    }
+    arcwise_swing_model_free(same);
+    arcwise_swing_model_free(moved);
+    arcwise_swing_model_free(b);
+  }
 
   /* A copy (the comparison swing) keeps all of it; clearing drops it. */
   const float zero[3] = { 0, 0, 0 };
