@@ -31,6 +31,70 @@ eig4_max(double A[4][4], double v_out[4])
     v_out[k] = V[k][3];
 }
 
+static double
+det3(double a, double b, double c, double d, double e, double f, double g, double h, double i)
+{
+  return a * (e * i - f * h) - b * (d * i - f * g) + c * (d * h - e * g);
+}
+
+/* Largest eigenvalue of Horn's key matrix N (symmetric, traceless) and its eigenvector by the
+ * characteristic polynomial: D. L. Theobald, "Rapid calculation of RMSDs using a
+ * quaternion-based characteristic polynomial", Acta Cryst. A61:478-480 (2005): P(x) = x^4 +
+ * c2 x^2 + c1 x + c0 with c2 = -2 |S|_F^2, c1 = -8 det S, c0 = det N; Newton from above the
+ * largest root (sum of singular values <= sqrt(3) |S|_F) descends monotonically to it, as P is
+ * convex there. The eigenvector is the largest column of adj(N - x I). False when the
+ * eigenvalue is (nearly) repeated: the caller falls back to the general solver. */
+static bool
+horn_fast(const double N[4][4], const double B[3][3], double *lambda, double q[4])
+{
+  double f2 = 0;
+  for (int r = 0; r < 3; r++)
+    for (int c = 0; c < 3; c++) f2 += B[r][c] * B[r][c];
+  if (!(f2 > 0) || !isfinite(f2)) return false;
+  double c2 = -2 * f2;
+  double c1 = -8 * det3(B[0][0], B[0][1], B[0][2], B[1][0], B[1][1], B[1][2], B[2][0], B[2][1], B[2][2]);
+  /* det N by 2x2 minors of the first two rows and the last two */
+  double s0 = N[0][0] * N[1][1] - N[0][1] * N[1][0], s1 = N[0][0] * N[1][2] - N[0][2] * N[1][0];
+  double s2 = N[0][0] * N[1][3] - N[0][3] * N[1][0], s3 = N[0][1] * N[1][2] - N[0][2] * N[1][1];
+  double s4 = N[0][1] * N[1][3] - N[0][3] * N[1][1], s5 = N[0][2] * N[1][3] - N[0][3] * N[1][2];
+  double k5 = N[2][2] * N[3][3] - N[2][3] * N[3][2], k4 = N[2][1] * N[3][3] - N[2][3] * N[3][1];
+  double k3 = N[2][1] * N[3][2] - N[2][2] * N[3][1], k2 = N[2][0] * N[3][3] - N[2][3] * N[3][0];
+  double k1 = N[2][0] * N[3][2] - N[2][2] * N[3][0], k0 = N[2][0] * N[3][1] - N[2][1] * N[3][0];
+  double c0 = s0 * k5 - s1 * k4 + s2 * k3 + s3 * k2 - s4 * k1 + s5 * k0;
+  double x = sqrt(3 * f2) * (1 + 1e-12);
+  for (int it = 0; it < 60; it++) {
+    double x2 = x * x, P = (x2 + c2) * x2 + c1 * x + c0, dP = 4 * x2 * x + 2 * c2 * x + c1;
+    if (!(dP > 0)) break;
+    double dx = P / dP;
+    x -= dx;
+    if (fabs(dx) <= 1e-14 * fabs(x) + 1e-300) break;
+  }
+  double M[4][4];
+  memcpy(M, N, sizeof M);
+  for (int k = 0; k < 4; k++) M[k][k] -= x;
+  /* adjugate columns: cofactors of M (symmetric, so rows = columns) */
+  double best = 0, v[4] = { 0 };
+  for (int col = 0; col < 4; col++) {
+    double cv[4];
+    for (int row = 0; row < 4; row++) {
+      int r[3], c[3], nr = 0, nc = 0;
+      for (int a = 0; a < 4; a++) { if (a != row) r[nr++] = a; if (a != col) c[nc++] = a; }
+      double d = det3(M[r[0]][c[0]], M[r[0]][c[1]], M[r[0]][c[2]], M[r[1]][c[0]], M[r[1]][c[1]],
+                      M[r[1]][c[2]], M[r[2]][c[0]], M[r[2]][c[1]], M[r[2]][c[2]]);
+      cv[row] = ((row + col) & 1) ? -d : d;
+    }
+    double nn = cv[0] * cv[0] + cv[1] * cv[1] + cv[2] * cv[2] + cv[3] * cv[3];
+    if (nn > best) { best = nn; memcpy(v, cv, sizeof v); }
+  }
+  /* |adj| ~ product of the gaps to the other eigenvalues: tiny when the largest is repeated */
+  double scale = f2 * sqrt(f2);   /* ~ |S|^3 */
+  if (!(best > 1e-16 * scale * scale) || !isfinite(best)) return false;
+  double nv = sqrt(best);
+  for (int k = 0; k < 4; k++) q[k] = v[k] / nv;
+  *lambda = x;
+  return true;
+}
+
 void
 aw_fusion_wahba(double B[3][3], double q[4])
 {
@@ -45,7 +109,8 @@ aw_fusion_wahba(double B[3][3], double q[4])
     { Szx - Sxz, Sxy + Syx, -Sxx + Syy - Szz, Syz + Szy },
     { Sxy - Syx, Szx + Sxz, Syz + Szy, -Sxx - Syy + Szz },
   };
-  eig4_max(N, q);
+  double lam;
+  if (!horn_fast((const double (*)[4])N, (const double (*)[3])B, &lam, q)) eig4_max(N, q);
   if (q[0] < 0) for (int k = 0; k < 4; k++) q[k] = -q[k];
   aw_quat_normalize(q);
 }
@@ -73,7 +138,12 @@ typedef struct {
    * rotation (mtab) at every sample of tau, NaN where a tap falls outside; NULL = evaluate the
    * shape's frames one by one. */
   double (*ftab[AW_CAM_MAX_SHAPES])[3];
+  double (*dftab[AW_CAM_MAX_SHAPES])[3];   /* the operator on the running integral: d ftab / dt */
   double (*mtab[AW_CAM_MAX_SHAPES])[3][3];
+  /* Fixed inlier set (per entry of frames; NULL = trim inside each fit): with it the cost is
+   * continuous in the shift. keep_out (if set) receives the set a trimming fit ends with. */
+  const unsigned char *keep;
+  unsigned char *keep_out;
 } WCtx;
 
 /* Tables of the shapes enough frames share to repay them (a table costs one operator per
@@ -92,24 +162,37 @@ w_tables(WCtx *w)
   for (size_t sh = 0; sh < cam->n_shape; sh++) {
     if (use[sh] * 80 < w->n || w->n < 2) continue;
     double (*ft)[3] = malloc(sizeof *ft * w->n);
+    double (*dft)[3] = malloc(sizeof *dft * w->n);
     double (*mt)[3][3] = malloc(sizeof *mt * w->n);
-    if (!ft || !mt) { free(ft); free(mt); continue; }
-    aw_fusion_shape_table(cam, sh, w->tau, w->n, w->fb0, w->vb0, w->pb0, ft, ok);
+    if (!ft || !dft || !mt) { free(ft); free(dft); free(mt); continue; }
     size_t q0 = cam->shape_start[sh], q1 = cam->shape_start[sh + 1], hint[64] = { 0 };
     for (size_t i = 0; i < w->n; i++) {
       memset(mt[i], 0, sizeof mt[i]);
-      if (!ok[i]) { ft[i][0] = ft[i][1] = ft[i][2] = (double)NAN; continue; }
+      memset(ft[i], 0, sizeof ft[i]);
+      memset(dft[i], 0, sizeof dft[i]);
+      if (!(w->tau[i] + cam->shape_u[q0] >= w->tau[0] && w->tau[i] + cam->shape_u[q1 - 1] <= w->tau[w->n - 1])) {
+        ft[i][0] = ft[i][1] = ft[i][2] = (double)NAN;
+        continue;
+      }
       for (size_t q = q0; q < q1; q++) {
         double t = w->tau[i] + cam->shape_u[q];
         size_t a0 = aw_fusion_locate(w->tau, w->n, t, &hint[q - q0]);
         if (a0 + 1 >= w->n) a0 = w->n - 2;
-        double r = (t - w->tau[a0]) / (w->tau[a0 + 1] - w->tau[a0]), wq = cam->shape_w[q];
+        double dt = w->tau[a0 + 1] - w->tau[a0], u = t - w->tau[a0];
+        double r = u / dt, wq = cam->shape_w[q];
+        for (int a = 0; a < 3; a++) {
+          double f0 = w->fb0[a0][a], f1 = w->fb0[a0 + 1][a];
+          ft[i][a] += wq * (w->pb0[a0][a] + u * w->vb0[a0][a] + 0.5 * u * u * f0 +
+                            u * u * u * (f1 - f0) / (6 * dt));
+          dft[i][a] += wq * (w->vb0[a0][a] + u * f0 + 0.5 * u * u * (f1 - f0) / dt);
+        }
         for (int a = 0; a < 3; a++)
           for (int c = 0; c < 3; c++)
             mt[i][a][c] += wq * ((1 - r) * w->Rb0[a0][a][c] + r * w->Rb0[a0 + 1][a][c]);
       }
     }
     w->ftab[sh] = ft;
+    w->dftab[sh] = dft;
     w->mtab[sh] = mt;
   }
   free(use);
@@ -119,7 +202,7 @@ w_tables(WCtx *w)
 static void
 w_tables_free(WCtx *w)
 {
-  for (size_t sh = 0; sh < AW_CAM_MAX_SHAPES; sh++) { free(w->ftab[sh]); free(w->mtab[sh]); }
+  for (size_t sh = 0; sh < AW_CAM_MAX_SHAPES; sh++) { free(w->ftab[sh]); free(w->dftab[sh]); free(w->mtab[sh]); }
 }
 
 static bool
@@ -133,17 +216,25 @@ w_imu_acc(const WCtx *w, size_t k, double shift, size_t *hint, double out[3], do
     if (t < w->tau[0] || t >= w->tau[w->n - 1]) return false;
     size_t i = aw_fusion_locate(w->tau, w->n, t, hint);
     if (i + 1 >= w->n) return false;
-    double r = (t - w->tau[i]) / (w->tau[i + 1] - w->tau[i]);
+    double h = w->tau[i + 1] - w->tau[i], r = (t - w->tau[i]) / h;
     const double (*f0)[3] = (const double (*)[3])w->ftab[sh];
+    const double (*d0)[3] = (const double (*)[3])w->dftab[sh];
     if (isnan(f0[i][0]) || isnan(f0[i + 1][0])) return false;
-    for (int a = 0; a < 3; a++) out[a] = f0[i][a] + r * (f0[i + 1][a] - f0[i][a]);
+    /* cubic Hermite on the values and their time derivatives: smooth in the shift, so the
+     * cost's minimum and curvature are not those of a piecewise-linear interpolant */
+    double r2 = r * r, r3 = r2 * r;
+    double h00 = 2 * r3 - 3 * r2 + 1, h10 = (r3 - 2 * r2 + r) * h, h01 = 3 * r2 - 2 * r3,
+           h11 = (r3 - r2) * h;
+    for (int a = 0; a < 3; a++)
+      out[a] = h00 * f0[i][a] + h10 * d0[i][a] + h01 * f0[i + 1][a] + h11 * d0[i + 1][a];
+    if (!M) return true;
     const double (*m0)[3][3] = (const double (*)[3][3])w->mtab[sh];
     for (int a = 0; a < 3; a++)
       for (int c = 0; c < 3; c++) M[a][c] = m0[i][a][c] + r * (m0[i + 1][a][c] - m0[i][a][c]);
     return true;
   }
   out[0] = out[1] = out[2] = 0;
-  memset(M, 0, sizeof(double) * 9);
+  if (M) memset(M, 0, sizeof(double) * 9);
   for (size_t q = cam->wstart[k]; q < cam->wstart[k + 1]; q++) {
     double t = cam->t_s[cam->widx[q]] - shift;
     if (t < w->tau[0] || t > w->tau[w->n - 1]) return false;
@@ -158,6 +249,7 @@ w_imu_acc(const WCtx *w, size_t k, double shift, size_t *hint, double out[3], do
     /* the lever term: the fit operator on R_b0_body(t), the rotation matrices of the samples
      * interpolated linearly (the lever is centimetres: second-order errors in a 10 ms step's
      * rotation are far below the camera's acceleration noise) */
+    if (!M) continue;
     double r = u / dt, wq = cam->wval[q];
     for (int a = 0; a < 3; a++)
       for (int c = 0; c < 3; c++)
@@ -177,12 +269,27 @@ w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[
   if (!F || !M || !ok) { free(F); free(M); free(ok); return INFINITY; }
   size_t cnt = 0, hint = 0;
   for (size_t j = 0; j < w->m; j++) {
-    ok[j] = w_imu_acc(w, w->frames[j], shift, &hint, F[j], M[j]);
+    ok[j] = w_imu_acc(w, w->frames[j], shift, &hint, F[j], M[j]) && (!w->keep || w->keep[j]);
     cnt += ok[j];
   }
   if (cnt < 10) { free(F); free(M); free(ok); return INFINITY; }
   double l[3] = { 0, 0, 0 }, q[4] = { 1, 0, 0, 0 }, R[3][3], g[3] = { 0, 0, 0 }, rms = INFINITY;
+  /* M^T M summed over the frames in use: the lever's normal matrix (changes with the set only) */
+  double N0[3][3] = { { 0 } };
+  bool n0_ok = false;
   for (int it = 0; it < iters; it++) {
+    if (!n0_ok) {
+      memset(N0, 0, sizeof N0);
+      for (size_t j = 0; j < w->m; j++) {
+        if (!ok[j]) continue;
+        for (int r = 0; r < 3; r++)
+          for (int c = 0; c < 3; c++)
+            for (int k = c; k < 3; k++) N0[c][k] += M[j][r][c] * M[j][r][k];
+      }
+      for (int c = 0; c < 3; c++)
+        for (int k = 0; k < c; k++) N0[c][k] = N0[k][c];
+      n0_ok = true;
+    }
     double ac[3] = { 0 }, fc[3] = { 0 };
     double (*Fl)[3] = F;   /* F + M l computed in place below into a temporary */
     double tmpc[3];
@@ -210,7 +317,8 @@ w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[
     aw_mat_mul_v3(Rf, (const double (*)[3])R, fc);
     aw_v3_sub(g, ac, Rf);
     /* residual, and the normal equations for l: R^T (a - g) - F = M l */
-    double N[3][3] = { { 0 } }, bv[3] = { 0 }, ss = 0;
+    double N[3][3], bv[3] = { 0 }, ss = 0;
+    memcpy(N, N0, sizeof N);
     for (size_t j = 0; j < w->m; j++) {
       if (!ok[j]) continue;
       const double *a = w->cam->acc_m_s2[w->frames[j]];
@@ -224,14 +332,11 @@ w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[
       ss += aw_v3_dot(e, e);
       for (int r = 0; r < 3; r++) {
         double yr = y[r] - F[j][r];
-        for (int c = 0; c < 3; c++) {
-          bv[c] += M[j][r][c] * yr;
-          for (int k = 0; k < 3; k++) N[c][k] += M[j][r][c] * M[j][r][k];
-        }
+        for (int c = 0; c < 3; c++) bv[c] += M[j][r][c] * yr;
       }
     }
     rms = sqrt(ss / (double)cnt);
-    if (it == 1 && cnt > 20) {
+    if (it == 1 && cnt > 20 && !w->keep) {
       /* Trim frames far off the fit (snapped or mis-detected keypoints agree with their
        * neighbours, so the local fit keeps them; the rotation does not explain them). */
       double *e2 = malloc(sizeof *e2 * cnt), *ev = malloc(sizeof *ev * w->m);
@@ -257,6 +362,7 @@ w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[
         if (kept >= 10) {
           for (size_t j = 0; j < w->m; j++) if (ok[j] && ev[j] > lim) ok[j] = 0;
           cnt = kept;
+          n0_ok = false;
         }
       }
       free(e2);
@@ -281,6 +387,7 @@ w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[
     double ln = aw_v3_norm(l);
     if (ln > 0.3) aw_v3_scale(l, l, 0.3 / ln);   /* beyond any watch-to-wrist distance */
   }
+  if (w->keep_out) memcpy(w->keep_out, ok, w->m);
   if (q_out) memcpy(q_out, q, sizeof q);
   if (g_out) aw_v3_copy(g_out, g);
   if (l_out) aw_v3_copy(l_out, l);
@@ -291,27 +398,146 @@ w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[
 }
 
 /* sigma_t from the cost's curvature (least squares: var = 2 s2 / J'' with J the sum of squared
- * residuals and s2 the residual variance per component), the curvature taken over +-5 ms (the
- * tabulated operators are piecewise linear in the shift: a narrower span sees their kinks).
+ * residuals and s2 the residual variance per component), the curvature taken over +-h = 5 ms.
  * Residuals of frames inside one fit window share camera positions and IMU errors, so the
  * information counts one independent residual per window: the variance is inflated by the
- * frames per window. */
-static double w_resid(const WCtx *w, double shift, double q_out[4], double g_out[3], double l_out[3]);
+ * frames per window. rm, r0, rp: residual rms at shift - h, shift, shift + h. */
 static double
-clock_sigma(const WCtx *w, const AwCamPrep *cam, double shift)
+clock_sigma(const WCtx *w, const AwCamPrep *cam, double shift, double rm, double r0, double rp,
+            double h)
 {
   size_t cnt = 0, hint = 0;
-  double F[3], M[3][3], h = 0.005;
-  for (size_t j = 0; j < w->m; j++) cnt += w_imu_acc(w, w->frames[j], shift, &hint, F, M);
+  double F[3];
+  for (size_t j = 0; j < w->m; j++)
+    cnt += w_imu_acc(w, w->frames[j], shift, &hint, F, NULL) && (!w->keep || w->keep[j]);
   if (cnt < 10) return 0;
-  double rm = w_resid(w, shift - h, NULL, NULL, NULL), r0 = w_resid(w, shift, NULL, NULL, NULL),
-         rp = w_resid(w, shift + h, NULL, NULL, NULL);
   /* J(s) = cnt rms(s)^2 */
   double d2 = (double)cnt * (rm * rm - 2 * r0 * r0 + rp * rp) / (h * h);
   double s2 = r0 * r0 / 3.0;   /* per component */
   double per_window = fmax(1.0, 2.0 * cam->fit_half_s / cam->dt_nom_s);
   if (!(d2 > 0) || !isfinite(d2)) return 0;
   return sqrt(2.0 * s2 / d2 * per_window);
+}
+
+/* Offset of the vertex of the parabola through (-1, ym), (0, y0), (1, yp), in [-1, 1]; 0 when
+ * it opens downwards or the values are not finite. */
+static double
+parabola_min(double ym, double y0, double yp)
+{
+  double den = ym - 2 * y0 + yp;
+  if (!(den > 0) || !isfinite(den)) return 0;
+  return fmax(-1.0, fmin(1.0, 0.5 * (ym - yp) / den));
+}
+
+/* Sum of |a - R F - g|^2 minimised over R and g in closed form for the frames with use[j]:
+ * S_FF + S_aa - 2 lambda_max(N(B)) with centred sums (Horn 1987: the maximum of tr(R B) is the
+ * key matrix's largest eigenvalue). Also the rotation and both centroids. */
+static double
+rot_fit(const double (*F)[3], const double (*A)[3], const unsigned char *use, size_t m,
+        size_t *cnt_out, double q[4], double fc[3], double ac[3])
+{
+  size_t cnt = 0;
+  double sf[3] = { 0 }, sa[3] = { 0 }, sff = 0, saa = 0, B[3][3] = { { 0 } };
+  for (size_t j = 0; j < m; j++) {
+    if (!use[j]) continue;
+    const double *f = F[j], *a = A[j];
+    for (int r = 0; r < 3; r++) {
+      sf[r] += f[r]; sa[r] += a[r]; sff += f[r] * f[r]; saa += a[r] * a[r];
+      for (int c = 0; c < 3; c++) B[r][c] += f[r] * a[c];
+    }
+    cnt++;
+  }
+  *cnt_out = cnt;
+  if (cnt < 10) return INFINITY;
+  double n = (double)cnt;
+  for (int r = 0; r < 3; r++) {
+    sff -= sf[r] * sf[r] / n;
+    saa -= sa[r] * sa[r] / n;
+    fc[r] = sf[r] / n;
+    ac[r] = sa[r] / n;
+    for (int c = 0; c < 3; c++) B[r][c] -= sf[r] * sa[c] / n;
+  }
+  double Sxx = B[0][0], Sxy = B[0][1], Sxz = B[0][2];
+  double Syx = B[1][0], Syy = B[1][1], Syz = B[1][2];
+  double Szx = B[2][0], Szy = B[2][1], Szz = B[2][2];
+  double N[4][4] = {
+    { Sxx + Syy + Szz, Syz - Szy, Szx - Sxz, Sxy - Syx },
+    { Syz - Szy, Sxx - Syy - Szz, Sxy + Syx, Szx + Sxz },
+    { Szx - Sxz, Sxy + Syx, -Sxx + Syy - Szz, Syz + Szy },
+    { Sxy - Syx, Szx + Sxz, Syz + Szy, -Sxx - Syy + Szz },
+  };
+  double lam;
+  if (!horn_fast((const double (*)[4])N, (const double (*)[3])B, &lam, q)) {
+    aw_fusion_wahba(B, q);
+    lam = 0;
+    for (int r = 0; r < 4; r++)
+      for (int c = 0; c < 4; c++) lam += q[r] * N[r][c] * q[c];
+  }
+  return fmax(0.0, sff + saa - 2 * lam);
+}
+
+/* k-th smallest of v[0..n) (v reordered; Hoare's selection). */
+static double
+select_kth(double *v, size_t n, size_t k)
+{
+  size_t lo = 0, hi = n - 1;
+  while (lo < hi) {
+    double piv = v[(lo + hi) / 2];
+    size_t i = lo, j = hi;
+    while (i <= j) {
+      while (v[i] < piv) i++;
+      while (v[j] > piv) j--;
+      if (i <= j) { double t = v[i]; v[i] = v[j]; v[j] = t; i++; if (j == 0) break; j--; }
+    }
+    if (k <= j) hi = j;
+    else if (k >= i) lo = i;
+    else break;
+  }
+  return v[k];
+}
+
+/* Rotation-only cost at a clock shift (mean squared residual), closed form, with one trimmed
+ * round as in the joint fit (frames beyond 3 medians + 0.5 m/s^2 dropped: snapped or
+ * mis-detected keypoints would otherwise pull the basin). INFINITY below 10 frames. Scratch:
+ * F, A (3 m each), e and use (m each). */
+static double
+w_cost_rot(const WCtx *w, double shift, double (*F)[3], double (*A)[3], double *e,
+           unsigned char *use)
+{
+  size_t m = 0, hint = 0;
+  for (size_t j = 0; j < w->m; j++) {
+    size_t k = w->frames[j];
+    if (!w_imu_acc(w, k, shift, &hint, F[m], NULL)) continue;
+    aw_v3_copy(A[m], w->cam->acc_m_s2[k]);
+    use[m] = 1;
+    m++;
+  }
+  size_t cnt;
+  double q[4], fc[3], ac[3];
+  double J = rot_fit((const double (*)[3])F, (const double (*)[3])A, use, m, &cnt, q, fc, ac);
+  if (!isfinite(J)) return INFINITY;
+  if (cnt > 20) {
+    double R[3][3];
+    aw_quat_to_mat(R, q);
+    for (size_t j = 0; j < m; j++) {
+      double d[3], Rf[3];
+      for (int r = 0; r < 3; r++) d[r] = F[j][r] - fc[r];
+      aw_mat_mul_v3(Rf, (const double (*)[3])R, d);
+      double s2 = 0;
+      for (int r = 0; r < 3; r++) { double x = A[j][r] - ac[r] - Rf[r]; s2 += x * x; }
+      e[j] = sqrt(s2);
+    }
+    double *tmp = e + m;   /* second half of the scratch */
+    memcpy(tmp, e, sizeof *e * m);
+    double lim = 3.0 * select_kth(tmp, m, m / 2) + 0.5;
+    size_t kept = 0;
+    for (size_t j = 0; j < m; j++) kept += e[j] <= lim;
+    if (kept >= 10 && kept < m) {
+      for (size_t j = 0; j < m; j++) use[j] = e[j] <= lim;
+      J = rot_fit((const double (*)[3])F, (const double (*)[3])A, use, m, &cnt, q, fc, ac);
+    }
+  }
+  return J / (double)cnt;
 }
 
 static double
@@ -424,46 +650,66 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
       if (Rb0) for (size_t i = 0; i < n; i++) aw_quat_to_mat(Rb0[i], qb0[i]);
       WCtx w = { tau, (const double (*)[3])fb0, (const double (*)[3])cum, (const double (*)[3])pb0,
                  (const double (*)[4])qb0, (const double (*)[3][3])Rb0, n_ok, cam, frames, m0,
-                 fmax(s->lever_arm_sigma_m, 1e-3), { NULL }, { NULL } };
-      WCtx wt = w;   /* with tables: the coarse grid only */
-      if (m0 >= 10 && Rb0) w_tables(&wt);
+                 fmax(s->lever_arm_sigma_m, 1e-3), { NULL }, { NULL }, { NULL }, NULL, NULL };
+      if (m0 >= 10 && Rb0) w_tables(&w);
       if (m0 >= 10 && Rb0) {
         /* +-250 ms on a 10 ms grid (the magnitude-based stage-1 peak can be 200 ms off on
-         * hard swings; the basin of the vector fit is several times wider than 10 ms), then
-         * two finer levels (2 ms, 0.4 ms) and a parabola. */
-        double best = 0, br = INFINITY, step = 0.010;
-        /* The coarse grid only locates the basin: every other frame, tabulated operators, three
-         * rounds (trimmed once); the finer levels and the parabola compare full fits with every
-         * frame's own operator. */
-        WCtx wc = wt;
+         * hard swings; the basin of the vector fit is several times wider than 10 ms) with the
+         * closed-form rotation-only cost on every other frame, a parabola through the grid's
+         * best and its neighbours, then parabola steps (+-5 ms, +-1 ms) on the full joint fit
+         * (rotation, gravity, lever arm, trimmed), whose tabulated operators are smooth in the
+         * shift. */
+        const double step = 0.010;
+        WCtx wc = w;
         size_t *sub = malloc(sizeof *sub * (m0 / 2 + 1));
         if (sub && m0 >= 40) {
           wc.m = 0;
           for (size_t j = 0; j < m0; j += 2) sub[wc.m++] = frames[j];
           wc.frames = sub;
         }
-        for (int j = -25; j <= 25; j++) {
-          double r = w_resid_n(&wc, j * step, 3, NULL, NULL, NULL);
-          if (r < br) { br = r; best = j * step; }
+        double gc_[51];
+        int jb = -1;
+        double (*sF)[3] = malloc(sizeof *sF * wc.m), (*sA)[3] = malloc(sizeof *sA * wc.m);
+        double *se = malloc(sizeof *se * 2 * wc.m);
+        unsigned char *su = malloc(wc.m);
+        for (int j = -25; j <= 25 && sF && sA && se && su; j++) {
+          gc_[j + 25] = w_cost_rot(&wc, j * step, sF, sA, se, su);
+          if (isfinite(gc_[j + 25]) && (jb < 0 || gc_[j + 25] < gc_[jb])) jb = j + 25;
         }
-        free(sub);
-        for (int lev = 0; lev < 2; lev++) {
-          double c0 = best;
-          br = INFINITY;   /* each level compares its own kind of fit (j = 0 re-evaluates best) */
-          for (int j = -5; j <= 5; j++) {
-            double sh = c0 + j * step / 5.0, r = w_resid(&w, sh, NULL, NULL, NULL);
-            if (r < br) { br = r; best = sh; }
+        free(sub); free(sF); free(sA); free(se); free(su);
+        double best = jb >= 0 ? (jb - 25) * step : 0;
+        if (jb > 0 && jb < 50) best += step * parabola_min(gc_[jb - 1], gc_[jb], gc_[jb + 1]);
+        /* The inlier set of the joint fit at the coarse minimum, then held fixed: trimming
+         * inside every evaluation makes the cost jump by tens of percent between shifts a
+         * millisecond apart. Re-trimmed once at the refined shift (and refined again when the
+         * set changed). */
+        unsigned char *keep = malloc(m0), *keep2 = malloc(m0);
+        double h = 0.005, rm = INFINITY, r0 = INFINITY, rp = INFINITY;
+        for (int round = 0; round < 2 && jb >= 0 && keep && keep2; round++) {
+          WCtx wt = w;
+          wt.keep_out = keep2;
+          if (!isfinite(w_resid(&wt, best, NULL, NULL, NULL))) break;
+          if (round == 1 && memcmp(keep, keep2, m0) == 0) break;
+          memcpy(keep, keep2, m0);
+          w.keep = keep;
+          h = 0.005;
+          for (int lev = 0; lev < 2; lev++) {
+            r0 = w_resid(&w, best, NULL, NULL, NULL);
+            rm = w_resid(&w, best - h, NULL, NULL, NULL);
+            rp = w_resid(&w, best + h, NULL, NULL, NULL);
+            /* walk downhill (at most 4 steps) until the middle is the lowest */
+            for (int walk = 0; walk < 4 && isfinite(r0) && (rm < r0 || rp < r0); walk++) {
+              if (rm < rp) { best -= h; rp = r0; r0 = rm; rm = w_resid(&w, best - h, NULL, NULL, NULL); }
+              else { best += h; rm = r0; r0 = rp; rp = w_resid(&w, best + h, NULL, NULL, NULL); }
+            }
+            if (lev == 0) out->clock_sigma_s = clock_sigma(&w, cam, best, rm, r0, rp, h);
+            best += h * parabola_min(rm * rm, r0 * r0, rp * rp);
+            h = 0.001;
           }
-          step /= 5.0;
+          w.keep = NULL;
         }
-        double rm = w_resid(&w, best - step, NULL, NULL, NULL), rp = w_resid(&w, best + step, NULL, NULL, NULL);
-        double den = rm - 2 * br + rp;
-        if (den > 0 && isfinite(den)) {
-          double d = 0.5 * (rm - rp) / den;
-          if (fabs(d) <= 1) best += d * step;
-        }
-        out->clock_sigma_s = clock_sigma(&w, cam, best);
-        if (isfinite(br)) {
+        w.keep = keep;
+        if (jb >= 0 && isfinite(r0)) {
           out->clock_shift_s = best;
           /* The rotation, gravity and lever arm of the joint solution at that shift. */
           double qq[4], gg[3], ll[3];
@@ -473,9 +719,12 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
             aw_v3_copy(out->lever_body_m, ll);
             out->have_joint = true;
           }
-        }
+        } else out->clock_sigma_s = 0;
+        w.keep = NULL;
+        free(keep);
+        free(keep2);
       }
-      w_tables_free(&wt);
+      w_tables_free(&w);
       free(Rb0);
     }
     free(pb0);
