@@ -236,14 +236,20 @@ next_step(Smoke *s)
     act(s, "win.show-help-overlay", NULL);
     GtkWindow *help = GTK_WINDOW(gtk_application_window_get_help_overlay(GTK_APPLICATION_WINDOW(s->win)));
     guint n = 0;
+    GPtrArray *listed = g_ptr_array_new_with_free_func(g_free);
     if (help != NULL) {
       /* Count the shortcut entries the window lists. */
       GPtrArray *stack = g_ptr_array_new();
       g_ptr_array_add(stack, help);
       while (stack->len > 0) {
         GtkWidget *w = g_ptr_array_steal_index(stack, stack->len - 1);
-        if (GTK_IS_SHORTCUTS_SHORTCUT(w))
+        if (GTK_IS_SHORTCUTS_SHORTCUT(w)) {
+          g_autofree char *accel = NULL;
+          g_object_get(w, "accelerator", &accel, NULL);
+          if (accel != NULL)
+            g_ptr_array_add(listed, g_steal_pointer(&accel));
           n++;
+        }
         for (GtkWidget *c = gtk_widget_get_first_child(w); c; c = gtk_widget_get_next_sibling(c))
           g_ptr_array_add(stack, c);
       }
@@ -251,6 +257,26 @@ next_step(Smoke *s)
       gtk_window_close(help);
     }
     g_string_append_printf(s->report, "shortcuts_listed=%u\n", n);
+    /* Every key the window binds is in the shortcuts window (each listed accelerator parsed
+     * and named again by GTK, so spellings such as <Alt> and <Mod1> compare equal). */
+    g_auto(GStrv) bound = arcwise_window_list_keys();
+    for (char **k = bound; *k != NULL; k++) {
+      gboolean found = FALSE;
+      for (guint j = 0; j < listed->len && !found; j++) {
+        g_auto(GStrv) alts = g_strsplit(g_ptr_array_index(listed, j), " ", -1);
+        for (char **a = alts; *a != NULL && !found; a++) {
+          guint key;
+          GdkModifierType mods;
+          if (gtk_accelerator_parse(*a, &key, &mods)) {
+            g_autofree char *name = gtk_accelerator_name(key, mods);
+            found = g_str_equal(name, *k);
+          }
+        }
+      }
+      if (!found)
+        g_string_append_printf(s->report, "key_not_listed=%s\n", *k);
+    }
+    g_ptr_array_unref(listed);
     /* About carries the studio caution too. */
     act(s, "app.about", NULL);
     gboolean about_caution = FALSE;

@@ -1141,6 +1141,16 @@ static const KeyBinding keys[] = {
   { GDK_KEY_F9, 0, "win.toggle-library", NULL },
 };
 
+char **
+arcwise_window_list_keys(void)
+{
+  GPtrArray *out = g_ptr_array_new();
+  for (size_t i = 0; i < G_N_ELEMENTS(keys); i++)
+    g_ptr_array_add(out, gtk_accelerator_name(keys[i].key, keys[i].mods));
+  g_ptr_array_add(out, NULL);
+  return (char **)g_ptr_array_free(out, FALSE);
+}
+
 static void
 install_keys(ArcwiseWindow *self)
 {

@@ -41,6 +41,9 @@ void arcwise_window_set_speed_index(ArcwiseWindow *self, guint i);
 guint arcwise_window_count_clipped(ArcwiseWindow *self);
 /* The swing on screen: its library id (0 = none or a demo swing without one) and model. */
 gint64 arcwise_window_get_swing_id(ArcwiseWindow *self);
+/* Every single-key binding of the window, as gtk_accelerator_name() spells it (free with
+ * g_strfreev). */
+char **arcwise_window_list_keys(void);
 const ArcwiseSwingModel *arcwise_window_get_model(ArcwiseWindow *self);
 gboolean arcwise_window_bars_overlap(ArcwiseWindow *self);
 

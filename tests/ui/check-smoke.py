@@ -69,11 +69,14 @@ def ice(img):
 report = {}
 snaps = {}
 layout = {}
+not_listed = []
 for line in open(os.path.join(d, "report.txt")):
     k, _, v = line.strip().partition("=")
     if k == "snapshot":
         name, w, h = v.split()
         snaps[name] = (int(w), int(h))
+    elif k == "key_not_listed":
+        not_listed.append(v)
     elif k == "layout":
         name, clipped, overlap = v.split()
         layout[name] = (int(clipped), int(overlap))
@@ -100,6 +103,8 @@ check(int(report.get("compare_cells", 0)) >= 20, "compare table filled (%s cells
 check(report.get("presentation_class") == "1" and report.get("presentation_left") == "1",
       "presentation mode on and off")
 check(int(report.get("shortcuts_listed", 0)) >= 27, "shortcuts window lists every key (%s)" % report.get("shortcuts_listed"))
+check(not not_listed, "the shortcuts window lists every key the window binds (missing: %s)"
+      % ", ".join(not_listed))
 missing = [k for k, v in report.items() if k.startswith("action") and v.endswith("missing")]
 check(not missing, "every scripted action exists")
 
