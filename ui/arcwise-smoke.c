@@ -221,18 +221,28 @@ next_step(Smoke *s)
     break;
   case 6:
     act(s, "win.trust", NULL);
+    act(s, "win.colour", g_variant_new_string("phase"));
+    snap(s, "phase");
+    break;
+  case 7:
+    act(s, "win.colour", g_variant_new_string("speed"));
+    act(s, "win.club", NULL);
+    snap(s, "club");
+    break;
+  case 8:
+    act(s, "win.club", NULL);
     act(s, "win.compare", NULL);
     g_string_append_printf(s->report, "compare_cells=%u\n", arcwise_window_get_compare_rows(s->win));
     snap(s, "compare");
     break;
-  case 7:
+  case 9:
     act(s, "win.presentation", NULL);
     g_string_append_printf(s->report, "presentation_class=%d\n",
                            gtk_widget_has_css_class(GTK_WIDGET(s->win), "presentation"));
     /* Let the new layout (library hidden, larger type) settle before the picture. */
     g_timeout_add_once(400, (GSourceOnceFunc)snap_presentation, s);
     break;
-  case 8: {
+  case 10: {
     act(s, "win.show-help-overlay", NULL);
     GtkWindow *help = GTK_WINDOW(gtk_application_window_get_help_overlay(GTK_APPLICATION_WINDOW(s->win)));
     guint n = 0;

@@ -111,7 +111,7 @@ check(not missing, "every scripted action exists")
 # Layout, measured in the window itself after each picture: every figure of the visible sheet
 # table lies inside the sheet (none cut off at its right edge), and the view buttons and the
 # layer buttons over the studio view never cover each other, at normal and presentation size.
-check(len(layout) >= 7, "layout measured after every picture (%d)" % len(layout))
+check(len(layout) >= 9, "layout measured after every picture (%d)" % len(layout))
 for name, (clipped, overlap) in sorted(layout.items()):
     check(clipped == 0, "%s: every figure of the sheet fits (%d cut off)" % (name, clipped))
     check(overlap == 0, "%s: the button bars over the view do not overlap" % name)
@@ -128,6 +128,32 @@ for v in ("view-dtl", "view-above"):
     diff = np.abs(im - sw).sum(axis=2) > 0.3 if im.shape == sw.shape else np.ones(1)
     check(int(diff.sum()) > 5000 and saturated(im) > 800,
           "%s differs from face-on and shows the path" % v)
+# Colour by phase: the follow-through's magenta-rose (hue about 327 degrees, scene palette) is
+# on the tube, a hue the speed ramp (blue, teal, green, amber, red) never takes.
+def hue_band(img, lo, hi):
+    r, g, b = img[..., 0], img[..., 1], img[..., 2]
+    mx, mn = img.max(axis=2), img.min(axis=2)
+    c = np.maximum(mx - mn, 1e-6)
+    h = np.where(mx == r, ((g - b) / c) % 6, np.where(mx == g, (b - r) / c + 2, (r - g) / c + 4)) * 60
+    s_, v = hsv(img)
+    return int(((h >= lo) & (h <= hi) & (s_ > 0.35) & (v > 0.35)).sum())
+
+
+ph = png("phase")
+check(hue_band(ph, 310, 345) > 300 and hue_band(sw, 310, 345) < 60,
+      "colour by phase shows the follow-through's own hue (%d px; by speed %d px)"
+      % (hue_band(ph, 310, 345), hue_band(sw, 310, 345)))
+
+
+# Club-head path: a second, pale cream line (scene palette club_rgb 0.93 0.90 0.80).
+def cream(img):
+    s_, v = hsv(img)
+    return int(((v > 0.6) & (s_ > 0.07) & (s_ < 0.3) & (img[..., 0] - img[..., 2] > 0.06)).sum())
+
+
+cl = png("club")
+check(cream(cl) > cream(sw) + 500, "the club-head path is drawn when asked (%d vs %d cream px)"
+      % (cream(cl), cream(sw)))
 tr = png("trust")
 cm = png("compare")
 check(ice(cm) > ice(tr) + 300, "compare draws a second swing in its own style (%d vs %d ice pixels)"
