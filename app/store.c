@@ -1348,9 +1348,13 @@ arcwise_swing_filter_init(ArcwiseSwingFilter *f)
   "r.swing_id IS NOT NULL AND r.analysed, "                                                 \
   "r.engine_version IS ?13 AND r.settings_sha256 IS ?14, "                                  \
   "r.tempo_ratio, r.backswing_s, r.downswing_s, r.peak_hand_speed_m_s, "                   \
-  "r.club_speed_impact_m_s "                                                                \
+  "r.club_speed_impact_m_s, mi.value, mp.value, mq.value "                                  \
   "FROM swing s JOIN session se ON se.id = s.session_id JOIN player p ON p.id = se.player_id " \
-  "LEFT JOIN club c ON c.id = s.club_id LEFT JOIN swing_result r ON r.swing_id = s.id "
+  "LEFT JOIN club c ON c.id = s.club_id LEFT JOIN swing_result r ON r.swing_id = s.id "       \
+  /* Three more numbers for the browser's rows and filters, each one primary-key lookup. */     \
+  "LEFT JOIN swing_metric mi ON mi.swing_id = s.id AND mi.name = 'hand_speed_impact_mps' "     \
+  "LEFT JOIN swing_metric mp ON mp.swing_id = s.id AND mp.name = 'practice' "                  \
+  "LEFT JOIN swing_metric mq ON mq.swing_id = s.id AND mq.name = 'quality_notes' "
 
 static const char list_swings_sql[] =
   SWING_COLUMNS
@@ -1406,6 +1410,9 @@ swing_from_row(sqlite3_stmt *st)
   s->downswing_s = col_real(st, 19);
   s->peak_hand_speed_m_s = col_real(st, 20);
   s->club_speed_impact_m_s = col_real(st, 21);
+  s->hand_speed_impact_m_s = col_real(st, 22);
+  s->practice = sqlite3_column_type(st, 23) == SQLITE_NULL ? -1 : sqlite3_column_double(st, 23) != 0;
+  s->quality_notes = sqlite3_column_type(st, 24) == SQLITE_NULL ? -1 : (int)sqlite3_column_int(st, 24);
   return s;
 }
 

@@ -155,6 +155,9 @@ typedef struct {
   double downswing_s;
   double peak_hand_speed_m_s;
   double club_speed_impact_m_s;  /* estimate (lever model, analysis.h) */
+  double hand_speed_impact_m_s;  /* NaN when not analysed */
+  int practice;             /* 1 practice swing (no ball contact), 0 struck, -1 not analysed */
+  int quality_notes;        /* AW_NOTE_* bits of the analysis (analysis.h), -1 not analysed */
 } ArcwiseSwingSummary;
 
 /* A timed event of the analysis (address, top, impact, finish, ...), depth camera clock. */

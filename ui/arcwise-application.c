@@ -8,6 +8,7 @@
 #include "arcwise-library.h"
 #include "arcwise-export-test.h"
 #include "arcwise-smoke.h"
+#include "arcwise-library-test.h"
 #include "arcwise-window.h"
 #include "cli.h"
 
@@ -201,6 +202,9 @@ arcwise_application_activate(GApplication *gapp)
   const char *smoke = g_getenv("ARCWISE_SMOKE_DIR");
   if (smoke != NULL && *smoke != '\0')
     arcwise_smoke_start(win, smoke, caution);
+  const char *library_test = g_getenv("ARCWISE_LIBRARY_TEST_DIR");
+  if (library_test != NULL && *library_test != '\0')
+    arcwise_library_test_start(win, library_test, caution);
   const char *export_test = g_getenv("ARCWISE_EXPORT_TEST_DIR");
   if (export_test != NULL && *export_test != '\0')
     arcwise_export_test_start(win, export_test, caution);

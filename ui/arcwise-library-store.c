@@ -149,6 +149,8 @@ arcwise_library_store_list(ArcwiseLibrarySource *src, GError **error)
     const char *place = g_hash_table_lookup(places, &s->session_id);
     it->session = place && *place ? g_strdup_printf("%s, %s", s->session_date, place)
                                   : g_strdup(s->session_date);
+    it->session_date = g_strdup(s->session_date);
+    it->session_place = g_strdup(place ? place : "");
     it->club = g_strdup(s->club_kind);
     it->title = s->club_kind ? g_strdup_printf("Swing %u · %s", s->index_in_recording + 1, s->club_kind)
                              : g_strdup_printf("Swing %u", s->index_in_recording + 1);
@@ -159,6 +161,9 @@ arcwise_library_store_list(ArcwiseLibrarySource *src, GError **error)
     it->backswing_s = s->backswing_s;
     it->downswing_s = s->downswing_s;
     it->peak_hand_speed_m_s = s->peak_hand_speed_m_s;
+    it->impact_hand_speed_m_s = s->hand_speed_impact_m_s;
+    it->practice = s->practice;
+    it->quality_notes = s->quality_notes;
     it->rating = s->rating;
     it->reference = s->is_reference;
     it->tags = join_tags(s->tags);

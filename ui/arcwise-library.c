@@ -34,17 +34,26 @@ static const DemoPlayer demo_players[] = {
 
 typedef struct {
   int player;
-  const char *session;
+  const char *date;
+  const char *place;
   const char *club;
   int n;
 } DemoSession;
 
 static const DemoSession demo_sessions[] = {
-  { 0, "Tue 3 Nov 2026, studio 2", "7-iron", 4 },
-  { 0, "Tue 17 Nov 2026, studio 2", "driver", 3 },
-  { 1, "Thu 12 Nov 2026, bay 1", "6-iron", 3 },
-  { 2, "Mon 23 Nov 2026, studio 1", "8-iron", 2 },
+  { 0, "2026-11-03", "studio 2", "7-iron", 4 },
+  { 0, "2026-11-17", "studio 2", "driver", 3 },
+  { 1, "2026-11-12", "bay 1", "6-iron", 3 },
+  { 2, "2026-11-23", "studio 1", "8-iron", 2 },
 };
+
+static void
+set_session(ArcwiseSwingItem *it, const DemoSession *s)
+{
+  it->session = g_strdup_printf("%s, %s", s->date, s->place);
+  it->session_date = g_strdup(s->date);
+  it->session_place = g_strdup(s->place);
+}
 
 static ArcwiseSwingModel *
 demo_loader(ArcwiseSwingItem *item, gpointer data, GError **error)
@@ -66,6 +75,11 @@ fill_numbers(ArcwiseSwingItem *it, const ArcwiseSwingModel *m)
   for (size_t i = 0; i < m->n; i++)
     occl += m->occluded[i] != 0;
   it->camera_gap_share = m->n ? (double)occl / (double)m->n : (double)NAN;
+  if (m->analysed.present) {
+    it->impact_hand_speed_m_s = m->analysed.metric[AW_METRIC_HAND_SPEED_IMPACT_M_S];
+    it->practice = m->analysed.practice;
+    it->quality_notes = (int)m->analysed.notes;
+  }
 }
 
 static GPtrArray *
@@ -85,7 +99,7 @@ demo_list(ArcwiseLibrarySource *src, GError **error)
       it->player_id = s->player + 1;
       it->session_id = (gint64)(i % G_N_ELEMENTS(demo_sessions)) + 1;
       it->player = g_strdup(demo_players[s->player].name);
-      it->session = g_strdup(s->session);
+      set_session(it, s);
       it->club = g_strdup(s->club);
       it->handed = demo_players[s->player].handed;
       it->title = g_strdup_printf("Swing %u · %s", i + 1, s->club);
@@ -103,7 +117,7 @@ demo_list(ArcwiseLibrarySource *src, GError **error)
       it->player_id = s->player + 1;
       it->session_id = k + 1;
       it->player = g_strdup(demo_players[s->player].name);
-      it->session = g_strdup(s->session);
+      set_session(it, s);
       it->club = g_strdup(s->club);
       it->handed = demo_players[s->player].handed;
       it->title = g_strdup_printf("Swing %d · %s", j + 1, s->club);

@@ -168,10 +168,11 @@ next_step(Smoke *s)
       s->caution = NULL;
     }
     g_string_append_printf(s->report, "swings=%u\n", arcwise_window_get_n_visible(s->win));
-    /* Drill down: the first player, then that player's first session, then back to all. */
-    g_string_append_printf(s->report, "drill_player_swings=%u\n", arcwise_window_drill(s->win, 1, 0));
-    g_string_append_printf(s->report, "drill_session_swings=%u\n", arcwise_window_drill(s->win, 1, 1));
-    g_string_append_printf(s->report, "drill_all_swings=%u\n", arcwise_window_drill(s->win, 0, 0));
+    /* The library tree: the first player open (sessions only), then that player's first
+     * session open too (its swings), then every row closed; swing rows shown each time. */
+    g_string_append_printf(s->report, "tree_player_swing_rows=%u\n", arcwise_window_drill(s->win, 1, 0));
+    g_string_append_printf(s->report, "tree_session_swing_rows=%u\n", arcwise_window_drill(s->win, 1, 1));
+    g_string_append_printf(s->report, "tree_closed_swing_rows=%u\n", arcwise_window_drill(s->win, 0, 0));
     arcwise_window_select_index(s->win, 0);
     snap(s, "swing");
     break;

@@ -4,7 +4,11 @@
 #include <math.h>
 #include <string.h>
 
+#include "arcwise/analysis.h"
+
 G_DEFINE_FINAL_TYPE(ArcwiseSwingItem, arcwise_swing_item, G_TYPE_OBJECT)
+
+static guint changed_signal;
 
 static void
 arcwise_swing_item_finalize(GObject *object)
@@ -12,6 +16,9 @@ arcwise_swing_item_finalize(GObject *object)
   ArcwiseSwingItem *self = ARCWISE_SWING_ITEM(object);
   g_free(self->player);
   g_free(self->session);
+  g_free(self->session_date);
+  g_free(self->session_place);
+  g_free(self->search_key);
   g_free(self->title);
   g_free(self->club);
   g_free(self->tags);
@@ -26,6 +33,8 @@ static void
 arcwise_swing_item_class_init(ArcwiseSwingItemClass *klass)
 {
   G_OBJECT_CLASS(klass)->finalize = arcwise_swing_item_finalize;
+  changed_signal = g_signal_new("changed", G_TYPE_FROM_CLASS(klass), G_SIGNAL_RUN_LAST, 0, NULL,
+                                NULL, NULL, G_TYPE_NONE, 0);
 }
 
 static void
@@ -33,7 +42,10 @@ arcwise_swing_item_init(ArcwiseSwingItem *self)
 {
   self->handed = 1;
   self->tempo = self->backswing_s = self->downswing_s = NAN;
-  self->peak_hand_speed_m_s = self->camera_gap_share = NAN;
+  self->peak_hand_speed_m_s = self->camera_gap_share = self->impact_hand_speed_m_s = NAN;
+  self->practice = -1;
+  self->quality_notes = -1;
+  self->match = TRUE;
 }
 
 ArcwiseSwingItem *
@@ -64,13 +76,14 @@ arcwise_swing_item_get_model(ArcwiseSwingItem *item, GError **error)
   return item->model;
 }
 
-static gboolean
-has(const char *hay, const char *needle)
+static void
+add_key(GString *k, const char *s)
 {
-  if (hay == NULL)
-    return FALSE;
-  g_autofree char *f = g_utf8_casefold(hay, -1);
-  return strstr(f, needle) != NULL;
+  if (s == NULL || *s == '\0')
+    return;
+  g_autofree char *f = g_utf8_casefold(s, -1);
+  g_string_append(k, f);
+  g_string_append_c(k, '\x1f');   /* a word never runs across two fields */
 }
 
 gboolean
@@ -78,6 +91,47 @@ arcwise_swing_item_matches(ArcwiseSwingItem *item, const char *needle)
 {
   if (needle == NULL || *needle == '\0')
     return TRUE;
-  return has(item->player, needle) || has(item->session, needle) || has(item->title, needle) ||
-         has(item->club, needle) || has(item->tags, needle) || has(item->notes, needle);
+  if (item->search_key == NULL) {
+    GString *k = g_string_new(NULL);
+    add_key(k, item->player);
+    add_key(k, item->session);
+    add_key(k, item->title);
+    add_key(k, item->club);
+    add_key(k, item->tags);
+    add_key(k, item->notes);
+    item->search_key = g_string_free(k, FALSE);
+  }
+  return strstr(item->search_key, needle) != NULL;
+}
+
+void
+arcwise_swing_item_changed(ArcwiseSwingItem *item)
+{
+  g_clear_pointer(&item->search_key, g_free);
+  g_signal_emit(item, changed_signal, 0);
+}
+
+gboolean
+arcwise_swing_item_has_camera_gaps(ArcwiseSwingItem *item)
+{
+  if (item->quality_notes >= 0)
+    return (item->quality_notes & (AW_NOTE_TOP_HIDDEN | AW_NOTE_FOLLOW_HIDDEN)) != 0;
+  return isfinite(item->camera_gap_share) && item->camera_gap_share >= 0.10;
+}
+
+gboolean
+arcwise_swing_item_has_quality_notes(ArcwiseSwingItem *item)
+{
+  return item->quality_notes > 0;
+}
+
+gboolean
+arcwise_swing_item_is_tagged(ArcwiseSwingItem *item)
+{
+  if (item->tags == NULL)
+    return FALSE;
+  for (const char *p = item->tags; *p; p++)
+    if (*p != ',' && !g_ascii_isspace(*p))
+      return TRUE;
+  return FALSE;
 }

@@ -22,7 +22,9 @@ struct _ArcwiseSwingItem {
   gint64 player_id;
   gint64 session_id;
   char *player;            /* display name */
-  char *session;           /* e.g. "Tue 3 Nov, studio 2" */
+  char *session;           /* e.g. "2026-11-03, studio 2" */
+  char *session_date;      /* ISO 8601 date (the store's), for the browser's session rows */
+  char *session_place;     /* "" when not given */
   char *title;             /* e.g. "Swing 4 · 7-iron" */
   char *club;
   int handed;              /* +1 right, -1 left */
@@ -32,6 +34,9 @@ struct _ArcwiseSwingItem {
   double downswing_s;
   double peak_hand_speed_m_s;
   double camera_gap_share; /* share of the swing where the camera had lost the hands */
+  double impact_hand_speed_m_s;
+  int practice;            /* 1 practice swing (no ball contact), 0 struck, -1 unknown */
+  int quality_notes;       /* AW_NOTE_* bits of the analysis (analysis.h), -1 unknown */
   /* Coach's marks. */
   int rating;              /* 0 (none) .. 5 */
   gboolean reference;
@@ -39,6 +44,8 @@ struct _ArcwiseSwingItem {
   char *notes;
 
   /* Owned */
+  char *search_key;           /* casefolded text the search looks in, made on first search */
+  gboolean match;             /* passes the browser's current filters */
   ArcwiseSwingModel *model;   /* loaded on demand */
   ArcwiseSwingLoader loader;
   gpointer loader_data;
@@ -52,5 +59,15 @@ void arcwise_swing_item_set_loader(ArcwiseSwingItem *item, ArcwiseSwingLoader lo
                                    gpointer data, GDestroyNotify destroy);
 /* Whether the item matches a search text (player, session, title, club, tags, notes). */
 gboolean arcwise_swing_item_matches(ArcwiseSwingItem *item, const char *needle_casefolded);
+/* Call after changing the coach's marks (rating, reference, tags, notes): rows showing the
+ * item redraw ("changed" signal) and the search sees the new words. */
+void arcwise_swing_item_changed(ArcwiseSwingItem *item);
+/* The camera lost the hands for a stretch of the swing: the analysis's notes say so (the top
+ * or the follow-through hidden), or, for a swing with no stored notes, a tenth or more of its
+ * samples had no camera detection (our own threshold). */
+gboolean arcwise_swing_item_has_camera_gaps(ArcwiseSwingItem *item);
+/* The analysis left a data-quality note of any kind. */
+gboolean arcwise_swing_item_has_quality_notes(ArcwiseSwingItem *item);
+gboolean arcwise_swing_item_is_tagged(ArcwiseSwingItem *item);
 
 G_END_DECLS

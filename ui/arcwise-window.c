@@ -8,6 +8,7 @@
 
 #include "arcwise-export.h"
 #include "arcwise-figures.h"
+#include "arcwise-library-browser.h"
 #include "arcwise-smoke.h"
 #include "arcwise-stage.h"
 #include "arcwise-swing-item.h"
@@ -30,13 +31,7 @@ struct _ArcwiseWindow {
   GtkButton *export_cancel;
   GtkPaned *outer_paned;
   GtkPaned *inner_paned;
-  GtkWidget *library_box;
-  GtkSearchEntry *search_entry;
-  GtkDropDown *player_dropdown;
-  GtkDropDown *session_dropdown;
-  GtkDropDown *filter_dropdown;
-  GtkListView *swing_list;
-  GtkLabel *library_label;
+  ArcwiseLibraryBrowser *library_box;
   ArcwiseStage *stage;
   GtkOverlay *stage_overlay;
   GtkWidget *view_bar;
@@ -66,13 +61,7 @@ struct _ArcwiseWindow {
   GtkButton *notes_save;
 
   /* Owned */
-  GListStore *items;              /* every ArcwiseSwingItem of the library */
-  GtkFilterListModel *filtered;
-  GtkSingleSelection *selection;
-  GtkCustomFilter *filter;
-  GtkStringList *player_names;    /* "Every player", then names */
-  GtkStringList *session_names;   /* "Every session", then the chosen player's sessions */
-  GArray *session_ids;            /* gint64 per entry of session_names, 0 = every session */
+  GListModel *items;              /* every ArcwiseSwingItem of the library (the browser's) */
   GtkStringList *compare_names;
   GPtrArray *compare_items;       /* ArcwiseSwingItem*, parallel to compare_names */
   GtkToggleButton *stars[5];
@@ -498,9 +487,8 @@ show_item(ArcwiseWindow *self, ArcwiseSwingItem *item)
 }
 
 static void
-on_selection_changed(GtkSingleSelection *sel, guint pos, guint n, ArcwiseWindow *self)
+on_swing_selected(ArcwiseLibraryBrowser *browser, ArcwiseSwingItem *it, ArcwiseWindow *self)
 {
-  ArcwiseSwingItem *it = gtk_single_selection_get_selected_item(sel);
   if (it != self->current)
     show_item(self, it);
 }
@@ -508,25 +496,22 @@ on_selection_changed(GtkSingleSelection *sel, guint pos, guint n, ArcwiseWindow 
 void
 arcwise_window_select_index(ArcwiseWindow *self, guint index)
 {
-  if (index < g_list_model_get_n_items(G_LIST_MODEL(self->selection)))
-    gtk_single_selection_set_selected(self->selection, index);
+  arcwise_library_browser_select_nth(self->library_box, index);
 }
 
 guint
 arcwise_window_drill(ArcwiseWindow *self, guint player, guint session)
 {
-  gtk_drop_down_set_selected(self->player_dropdown, player);
-  gtk_drop_down_set_selected(self->session_dropdown, session);
-  return g_list_model_get_n_items(G_LIST_MODEL(self->selection));
+  return arcwise_library_browser_open(self->library_box, player, session);
 }
 
 guint
 arcwise_window_get_n_visible(ArcwiseWindow *self)
 {
-  return g_list_model_get_n_items(G_LIST_MODEL(self->selection));
+  return arcwise_library_browser_get_n_matching(self->library_box);
 }
 
-/* ---- list rows ----------------------------------------------------------------------------- */
+/* ---- choice rows ---------------------------------------------------------------------------- */
 
 static void
 choice_setup(GtkSignalListItemFactory *f, GtkListItem *li, gpointer data)
@@ -546,166 +531,10 @@ choice_bind(GtkSignalListItemFactory *f, GtkListItem *li, gpointer data)
   gtk_widget_set_tooltip_text(l, gtk_string_object_get_string(o));
 }
 
-static void
-row_setup(GtkSignalListItemFactory *f, GtkListItem *li, ArcwiseWindow *self)
+ArcwiseLibraryBrowser *
+arcwise_window_get_browser(ArcwiseWindow *self)
 {
-  GtkWidget *box = gtk_box_new(GTK_ORIENTATION_VERTICAL, 2);
-  gtk_widget_add_css_class(box, "swing-row");
-  GtkWidget *who = gtk_label_new(NULL), *title = gtk_label_new(NULL), *nums = gtk_label_new(NULL);
-  gtk_label_set_xalign(GTK_LABEL(who), 0);
-  gtk_label_set_xalign(GTK_LABEL(title), 0);
-  gtk_label_set_xalign(GTK_LABEL(nums), 0);
-  gtk_label_set_ellipsize(GTK_LABEL(who), PANGO_ELLIPSIZE_END);
-  gtk_label_set_ellipsize(GTK_LABEL(title), PANGO_ELLIPSIZE_END);
-  /* The key numbers wrap rather than lose the hand speed at the end of a narrow column. */
-  gtk_label_set_wrap(GTK_LABEL(nums), TRUE);
-  gtk_label_set_wrap_mode(GTK_LABEL(nums), PANGO_WRAP_WORD_CHAR);
-  gtk_widget_add_css_class(who, "row-who");
-  gtk_widget_add_css_class(title, "row-title");
-  gtk_widget_add_css_class(nums, "row-numbers");
-  gtk_box_append(GTK_BOX(box), who);
-  gtk_box_append(GTK_BOX(box), title);
-  gtk_box_append(GTK_BOX(box), nums);
-  gtk_list_item_set_child(li, box);
-}
-
-static void
-row_bind(GtkSignalListItemFactory *f, GtkListItem *li, ArcwiseWindow *self)
-{
-  ArcwiseSwingItem *it = gtk_list_item_get_item(li);
-  GtkWidget *box = gtk_list_item_get_child(li);
-  GtkWidget *who = gtk_widget_get_first_child(box);
-  GtkWidget *title = gtk_widget_get_next_sibling(who);
-  GtkWidget *nums = gtk_widget_get_next_sibling(title);
-  g_autofree char *w = g_strdup_printf("%s · %s", it->player, it->session);
-  gtk_label_set_text(GTK_LABEL(who), w);
-  g_autofree char *t = g_strdup_printf("%s%s", it->reference ? "◆ " : "", it->title);
-  gtk_label_set_text(GTK_LABEL(title), t);
-  ArcwiseFigure sp = { "", it->peak_hand_speed_m_s, ARCWISE_FIGURE_SPEED };
-  g_autofree char *speed = arcwise_figure_format(&sp, self->units, FALSE);
-  GString *s = g_string_new(NULL);
-  if (isfinite(it->tempo))
-    g_string_append_printf(s, "tempo %.1f : 1 · ", it->tempo);
-  if (isfinite(it->downswing_s))
-    g_string_append_printf(s, "down %.2f s · ", it->downswing_s);
-  g_string_append_printf(s, "hands %s", speed);
-  if (it->rating > 0) {
-    g_string_append(s, " · ");
-    for (int i = 0; i < it->rating; i++)
-      g_string_append(s, "★");
-  }
-  gtk_label_set_text(GTK_LABEL(nums), s->str);
-  g_string_free(s, TRUE);
-}
-
-static gboolean
-filter_func(gpointer item, gpointer data)
-{
-  ArcwiseWindow *self = data;
-  ArcwiseSwingItem *it = item;
-  g_autofree char *needle = g_utf8_casefold(gtk_editable_get_text(GTK_EDITABLE(self->search_entry)), -1);
-  if (!arcwise_swing_item_matches(it, needle))
-    return FALSE;
-  guint p = gtk_drop_down_get_selected(self->player_dropdown);
-  if (p != GTK_INVALID_LIST_POSITION && p > 0 && self->player_names != NULL) {
-    const char *name = gtk_string_list_get_string(self->player_names, p);
-    if (g_strcmp0(name, it->player) != 0)
-      return FALSE;
-  }
-  guint si = gtk_drop_down_get_selected(self->session_dropdown);
-  if (self->session_ids != NULL && si != GTK_INVALID_LIST_POSITION && si > 0 &&
-      si < self->session_ids->len &&
-      it->session_id != g_array_index(self->session_ids, gint64, si))
-    return FALSE;
-  switch (gtk_drop_down_get_selected(self->filter_dropdown)) {
-  case 1: return it->reference;
-  case 2: return it->rating >= 4;
-  case 3: return isfinite(it->camera_gap_share) && it->camera_gap_share > 0.25;
-  default: return TRUE;
-  }
-}
-
-/* The drill-down's middle step: the sessions of the chosen player (of everyone when no player
- * is chosen), newest last as the library lists them, each with its number of swings. */
-static void
-rebuild_sessions(ArcwiseWindow *self)
-{
-  const char *player = NULL;
-  guint p = gtk_drop_down_get_selected(self->player_dropdown);
-  if (p != GTK_INVALID_LIST_POSITION && p > 0 && self->player_names != NULL)
-    player = gtk_string_list_get_string(self->player_names, p);
-  g_array_set_size(self->session_ids, 0);
-  gint64 every = 0;
-  g_array_append_val(self->session_ids, every);
-  GPtrArray *labels = g_ptr_array_new_with_free_func(g_free);
-  g_ptr_array_add(labels, g_strdup("Every session"));
-  GArray *counts = g_array_new(FALSE, TRUE, sizeof(guint));
-  guint zero = 0;
-  g_array_append_val(counts, zero);
-  guint n = g_list_model_get_n_items(G_LIST_MODEL(self->items));
-  for (guint i = 0; i < n; i++) {
-    g_autoptr(ArcwiseSwingItem) it = g_list_model_get_item(G_LIST_MODEL(self->items), i);
-    if (player != NULL && g_strcmp0(player, it->player) != 0)
-      continue;
-    guint k = 1;
-    while (k < self->session_ids->len && g_array_index(self->session_ids, gint64, k) != it->session_id)
-      k++;
-    if (k == self->session_ids->len) {
-      g_array_append_val(self->session_ids, it->session_id);
-      g_ptr_array_add(labels, player ? g_strdup(it->session)
-                                     : g_strdup_printf("%s · %s", it->player, it->session));
-      g_array_append_val(counts, zero);
-    }
-    g_array_index(counts, guint, k)++;
-  }
-  GPtrArray *names = g_ptr_array_new_with_free_func(g_free);
-  for (guint k = 0; k < labels->len; k++)
-    g_ptr_array_add(names, k == 0 ? g_strdup(g_ptr_array_index(labels, k))
-                                  : g_strdup_printf("%s (%u)", (char *)g_ptr_array_index(labels, k),
-                                                    g_array_index(counts, guint, k)));
-  g_ptr_array_add(names, NULL);
-  gboolean was = self->updating;
-  self->updating = TRUE;
-  g_clear_object(&self->session_names);
-  self->session_names = gtk_string_list_new((const char *const *)names->pdata);
-  gtk_drop_down_set_model(self->session_dropdown, G_LIST_MODEL(self->session_names));
-  gtk_drop_down_set_selected(self->session_dropdown, 0);
-  self->updating = was;
-  g_ptr_array_unref(names);
-  g_ptr_array_unref(labels);
-  g_array_unref(counts);
-}
-
-static void
-refilter(ArcwiseWindow *self)
-{
-  gtk_filter_changed(GTK_FILTER(self->filter), GTK_FILTER_CHANGE_DIFFERENT);
-  guint n = g_list_model_get_n_items(G_LIST_MODEL(self->items));
-  guint v = g_list_model_get_n_items(G_LIST_MODEL(self->filtered));
-  g_autofree char *txt = g_strdup_printf("%u of %u swings", v, n);
-  gtk_label_set_text(self->library_label, txt);
-}
-
-static void
-on_search_changed(ArcwiseWindow *self)
-{
-  refilter(self);
-}
-
-static void
-on_dropdown_changed(GObject *o, GParamSpec *p, ArcwiseWindow *self)
-{
-  if (!self->updating)
-    refilter(self);
-}
-
-static void
-on_player_changed(GObject *o, GParamSpec *p, ArcwiseWindow *self)
-{
-  if (self->updating)
-    return;
-  rebuild_sessions(self);
-  refilter(self);
+  return self->library_box;
 }
 
 static void
@@ -765,6 +594,7 @@ on_star(GtkToggleButton *b, ArcwiseWindow *self)
   if (rating == self->current->rating)
     rating = idx;   /* clicking the top star again lowers the rating by one */
   self->current->rating = rating;
+  arcwise_swing_item_changed(self->current);
   if (self->source)
     arcwise_library_source_save_marks(self->source, self->current, NULL);
   update_notes(self);
@@ -776,6 +606,7 @@ on_reference(GObject *o, GParamSpec *p, ArcwiseWindow *self)
   if (self->updating || self->current == NULL)
     return;
   self->current->reference = gtk_switch_get_active(self->reference_switch);
+  arcwise_swing_item_changed(self->current);
   if (self->source)
     arcwise_library_source_save_marks(self->source, self->current, NULL);
 }
@@ -792,6 +623,7 @@ on_notes_save(ArcwiseWindow *self)
   self->current->notes = gtk_text_buffer_get_text(buf, &a, &b, FALSE);
   g_free(self->current->tags);
   self->current->tags = g_strdup(gtk_editable_get_text(GTK_EDITABLE(self->tags_entry)));
+  arcwise_swing_item_changed(self->current);
   g_autoptr(GError) error = NULL;
   if (self->source && !arcwise_library_source_save_marks(self->source, self->current, &error))
     g_warning("notes: %s", error->message);
@@ -844,14 +676,7 @@ static void
 act_swing(GtkWidget *w, const char *name, GVariant *param)
 {
   ArcwiseWindow *self = ARCWISE_WINDOW(w);
-  guint n = g_list_model_get_n_items(G_LIST_MODEL(self->selection));
-  if (n == 0)
-    return;
-  guint cur = gtk_single_selection_get_selected(self->selection);
-  int d = g_variant_get_int32(param);
-  guint next = cur == GTK_INVALID_LIST_POSITION ? 0 : (guint)CLAMP((int)cur + d, 0, (int)n - 1);
-  gtk_single_selection_set_selected(self->selection, next);
-  /* GTK 4.8 has no gtk_list_view_scroll_to(); the list follows the selection on focus. */
+  arcwise_library_browser_step(self->library_box, g_variant_get_int32(param));
 }
 
 static void
@@ -859,7 +684,7 @@ act_search(GtkWidget *w, const char *name, GVariant *param)
 {
   ArcwiseWindow *self = ARCWISE_WINDOW(w);
   gtk_toggle_button_set_active(self->library_toggle, TRUE);
-  gtk_widget_grab_focus(GTK_WIDGET(self->search_entry));
+  arcwise_library_browser_focus_search(self->library_box);
 }
 
 static void
@@ -1291,49 +1116,17 @@ act_edit_player(GSimpleAction *a, GVariant *p, gpointer data)
 void
 arcwise_window_reload(ArcwiseWindow *self)
 {
-  gint64 keep = self->current ? self->current->swing_id : 0;
   g_autoptr(GError) error = NULL;
-  GPtrArray *items = self->source ? arcwise_library_source_list(self->source, &error) : NULL;
-  if (items == NULL && error != NULL)
-    gtk_label_set_text(self->library_label, error->message);
-  self->updating = TRUE;
-  g_list_store_remove_all(self->items);
-  GPtrArray *names = g_ptr_array_new();
-  g_ptr_array_add(names, (char *)"Every player");
-  GHashTable *seen = g_hash_table_new(g_str_hash, g_str_equal);
-  if (items != NULL) {
-    g_list_store_splice(self->items, 0, 0, items->pdata, items->len);
-    for (guint i = 0; i < items->len; i++) {
-      ArcwiseSwingItem *it = g_ptr_array_index(items, i);
-      if (!g_hash_table_contains(seen, it->player)) {
-        g_hash_table_add(seen, it->player);
-        g_ptr_array_add(names, it->player);
-      }
-    }
-  }
-  g_ptr_array_add(names, NULL);
-  g_clear_object(&self->player_names);
-  self->player_names = gtk_string_list_new((const char *const *)names->pdata);
-  gtk_drop_down_set_model(self->player_dropdown, G_LIST_MODEL(self->player_names));
-  rebuild_sessions(self);
-  g_hash_table_unref(seen);
-  g_ptr_array_unref(names);
-  self->updating = FALSE;
-  refilter(self);
-  guint n = g_list_model_get_n_items(G_LIST_MODEL(self->selection)), pos = 0;
-  for (guint i = 0; i < n && keep; i++) {
-    g_autoptr(ArcwiseSwingItem) it = g_list_model_get_item(G_LIST_MODEL(self->selection), i);
-    if (it->swing_id == keep)
-      pos = i;
-  }
+  arcwise_library_browser_set_source(self->library_box, self->source);
+  arcwise_library_browser_set_readonly(self->library_box, self->readonly);
   g_clear_object(&self->current);
-  if (n > 0) {
-    gtk_single_selection_set_selected(self->selection, pos);
-    show_item(self, gtk_single_selection_get_selected_item(self->selection));
-  } else
-    show_item(self, NULL);
-  if (items)
-    g_ptr_array_unref(items);
+  if (!arcwise_library_browser_reload(self->library_box, &error))
+    g_warning("library: %s", error->message);
+  /* The browser selected the swing (the same one when it is still there); without any, an
+   * empty stage. */
+  ArcwiseSwingItem *it = arcwise_library_browser_get_selected(self->library_box);
+  if (it != self->current || it == NULL)
+    show_item(self, it);
 }
 
 static void
@@ -1377,7 +1170,7 @@ units_changed(GSettings *settings, const char *key, ArcwiseWindow *self)
   update_compare(self);
   update_all(self);
   /* Row labels show speeds too. */
-  gtk_filter_changed(GTK_FILTER(self->filter), GTK_FILTER_CHANGE_DIFFERENT);
+  arcwise_library_browser_set_units(self->library_box, self->units);
 }
 
 /* ---- class ----------------------------------------------------------------------------------- */
@@ -1424,11 +1217,7 @@ arcwise_window_dispose(GObject *object)
   g_clear_pointer(&self->other_shifted, arcwise_swing_model_free);
   g_clear_pointer(&self->compare_items, g_ptr_array_unref);
   g_clear_object(&self->compare_names);
-  g_clear_object(&self->player_names);
-  g_clear_object(&self->session_names);
-  g_clear_pointer(&self->session_ids, g_array_unref);
-  g_clear_object(&self->selection);
-  g_clear_object(&self->items);
+  self->items = NULL;   /* the browser's */
   g_clear_object(&self->settings);
   gtk_widget_dispose_template(GTK_WIDGET(self), ARCWISE_TYPE_WINDOW);
   G_OBJECT_CLASS(arcwise_window_parent_class)->dispose(object);
@@ -1442,15 +1231,14 @@ arcwise_window_class_init(ArcwiseWindowClass *klass)
   object_class->dispose = arcwise_window_dispose;
   g_type_ensure(ARCWISE_TYPE_STAGE);
   g_type_ensure(ARCWISE_TYPE_TIMELINE);
+  g_type_ensure(ARCWISE_TYPE_LIBRARY_BROWSER);
   gtk_widget_class_set_template_from_resource(widget_class,
                                               "/org/arcwise/Workbench/arcwise-window.ui");
 #define BIND(x) gtk_widget_class_bind_template_child(widget_class, ArcwiseWindow, x)
   BIND(subtitle_label); BIND(library_toggle); BIND(compare_toggle); BIND(import_revealer);
   BIND(export_revealer); BIND(export_label); BIND(export_progress); BIND(export_cancel);
   BIND(import_label); BIND(import_progress); BIND(outer_paned); BIND(inner_paned);
-  BIND(library_box); BIND(search_entry); BIND(player_dropdown); BIND(session_dropdown);
-  BIND(filter_dropdown);
-  BIND(swing_list); BIND(library_label); BIND(stage); BIND(view_bar); BIND(legend_label);
+  BIND(library_box); BIND(stage); BIND(view_bar); BIND(legend_label);
   BIND(stage_overlay); BIND(layer_bar); BIND(numbers_scroller); BIND(overlay_scroller);
   BIND(empty_label); BIND(transport); BIND(play_button); BIND(speed_dropdown); BIND(time_label); BIND(timeline);
   BIND(sheet_box); BIND(sheet_stack); BIND(metrics_grid); BIND(speed_chart);
@@ -1458,7 +1246,6 @@ arcwise_window_class_init(ArcwiseWindowClass *klass)
   BIND(compare_note); BIND(rating_box); BIND(reference_switch); BIND(tags_entry);
   BIND(notes_view); BIND(notes_save);
 #undef BIND
-  gtk_widget_class_bind_template_callback(widget_class, on_search_changed);
   gtk_widget_class_bind_template_callback(widget_class, on_scrubbed);
   gtk_widget_class_bind_template_callback(widget_class, on_notes_save);
   gtk_widget_class_bind_template_callback(widget_class, on_import_cancel);
@@ -1485,27 +1272,11 @@ arcwise_window_init(ArcwiseWindow *self)
                                         self->export_label, self->export_progress,
                                         self->export_cancel);
 
-  self->items = g_list_store_new(ARCWISE_TYPE_SWING_ITEM);
-  self->filter = gtk_custom_filter_new(filter_func, self, NULL);
-  self->filtered = gtk_filter_list_model_new(G_LIST_MODEL(g_object_ref(self->items)),
-                                             GTK_FILTER(self->filter));
-  self->selection = gtk_single_selection_new(G_LIST_MODEL(self->filtered));
-  gtk_single_selection_set_autoselect(self->selection, FALSE);
-  g_signal_connect(self->selection, "selection-changed", G_CALLBACK(on_selection_changed), self);
-  GtkListItemFactory *factory = gtk_signal_list_item_factory_new();
-  g_signal_connect(factory, "setup", G_CALLBACK(row_setup), self);
-  g_signal_connect(factory, "bind", G_CALLBACK(row_bind), self);
-  gtk_list_view_set_factory(self->swing_list, factory);
-  g_object_unref(factory);
-  gtk_list_view_set_model(self->swing_list, GTK_SELECTION_MODEL(g_object_ref(self->selection)));
-  g_object_unref(self->selection);   /* the list view holds it; keep our ref below */
-  g_object_ref(self->selection);
-
+  self->items = arcwise_library_browser_get_swings(self->library_box);
+  g_signal_connect(self->library_box, "swing-selected", G_CALLBACK(on_swing_selected), self);
+  g_signal_connect_swapped(self->library_box, "player-saved", G_CALLBACK(arcwise_window_reload),
+                           self);
   self->compare_items = g_ptr_array_new();
-  self->session_ids = g_array_new(FALSE, FALSE, sizeof(gint64));
-  g_signal_connect(self->player_dropdown, "notify::selected", G_CALLBACK(on_player_changed), self);
-  g_signal_connect(self->session_dropdown, "notify::selected", G_CALLBACK(on_dropdown_changed), self);
-  g_signal_connect(self->filter_dropdown, "notify::selected", G_CALLBACK(on_dropdown_changed), self);
   g_signal_connect(self->compare_dropdown, "notify::selected", G_CALLBACK(on_compare_choice), self);
   g_signal_connect(self->sync_dropdown, "notify::selected", G_CALLBACK(on_compare_choice), self);
   g_signal_connect(self->stage, "view-changed", G_CALLBACK(on_view_changed), self);

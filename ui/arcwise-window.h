@@ -5,6 +5,7 @@
 
 #include "arcwise-application.h"
 #include "arcwise-library.h"
+#include "arcwise-library-browser.h"
 #include "arcwise-stage.h"
 
 G_BEGIN_DECLS
@@ -22,10 +23,11 @@ void arcwise_window_import_files(ArcwiseWindow *self, GFile **files, guint n);
 
 /* For the scripted smoke test (arcwise-smoke.c). */
 void arcwise_window_select_index(ArcwiseWindow *self, guint index);
-/* Chooses the player (0 = every player) and then the session (0 = every session) of the
- * library's drill-down; returns the number of swings then listed. */
+/* Opens the library tree's player `player` (1-based; 0 closes every row) and then its session
+ * `session` (1-based; 0 none); returns the number of swing rows then shown. */
 guint arcwise_window_drill(ArcwiseWindow *self, guint player, guint session);
 guint arcwise_window_get_n_visible(ArcwiseWindow *self);
+ArcwiseLibraryBrowser *arcwise_window_get_browser(ArcwiseWindow *self);
 ArcwiseStage *arcwise_window_get_stage(ArcwiseWindow *self);
 /* The exports' state (arcwise-export.h), for the export test hook. */
 struct _ArcwiseExporter *arcwise_window_get_exporter(ArcwiseWindow *self);

@@ -86,10 +86,10 @@ for line in open(os.path.join(d, "report.txt")):
 check(report.get("caution_shown") == "1", "first-run safety caution was shown")
 check(report.get("about_caution") == "1", "About carries the same safety caution")
 check(int(report.get("swings", 0)) >= 2, "library lists swings (%s)" % report.get("swings"))
-n_all, n_pl, n_se = (int(report.get(k, 0)) for k in ("swings", "drill_player_swings", "drill_session_swings"))
-check(0 < n_se <= n_pl < n_all and int(report.get("drill_all_swings", 0)) == n_all,
-      "drill-down: every swing %d, one player %d, one session %d, back to %s"
-      % (n_all, n_pl, n_se, report.get("drill_all_swings")))
+n_all, n_pl, n_se = (int(report.get(k, -1)) for k in ("swings", "tree_player_swing_rows", "tree_session_swing_rows"))
+check(n_pl == 0 and 0 < n_se < n_all and int(report.get("tree_closed_swing_rows", -1)) == 0,
+      "library tree: %d swings; swing rows with a player open %d (sessions only), with its "
+      "first session open %d, all closed %s" % (n_all, n_pl, n_se, report.get("tree_closed_swing_rows")))
 check(report.get("gl_error") == "none", "3-D view has no GL error (%s)" % report.get("gl_error"))
 check(float(report.get("step_dt", 0)) > 0, "frame step moves the playhead")
 check(float(report.get("play_time_after", 0)) > float(report.get("play_time_before", 0)) + 0.1,

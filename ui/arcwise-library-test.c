@@ -1,0 +1,171 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* The scripted library browser session (see arcwise-library-test.h). */
+#include "arcwise-library-test.h"
+
+#include "arcwise-library-browser.h"
+
+typedef struct {
+  ArcwiseWindow *win;
+  GtkWindow *caution;
+  char *dir;
+  GString *report;
+  int step;
+} LibTest;
+
+gboolean
+arcwise_window_save_png(GtkWidget *win, const char *path, GError **error)
+{
+  int w = gtk_widget_get_width(win), h = gtk_widget_get_height(win);
+  GdkPaintable *p = gtk_widget_paintable_new(win);
+  GtkSnapshot *snap = gtk_snapshot_new();
+  gdk_paintable_snapshot(p, GDK_SNAPSHOT(snap), w, h);
+  GskRenderNode *node = gtk_snapshot_free_to_node(snap);
+  g_object_unref(p);
+  GskRenderer *r = gtk_native_get_renderer(GTK_NATIVE(win));
+  if (node == NULL || r == NULL) {
+    g_set_error(error, G_IO_ERROR, G_IO_ERROR_FAILED, "nothing drawn yet");
+    g_clear_pointer(&node, gsk_render_node_unref);
+    return FALSE;
+  }
+  GdkTexture *t = gsk_renderer_render_texture(r, node, &GRAPHENE_RECT_INIT(0, 0, w, h));
+  gsk_render_node_unref(node);
+  gboolean ok = gdk_texture_save_to_png(t, path);
+  g_object_unref(t);
+  if (!ok)
+    g_set_error(error, G_IO_ERROR, G_IO_ERROR_FAILED, "cannot write %s", path);
+  return ok;
+}
+
+static void next_step(LibTest *t);
+
+static void
+rows(LibTest *t, const char *name)
+{
+  ArcwiseLibraryBrowser *b = arcwise_window_get_browser(t->win);
+  g_autofree char *txt = arcwise_library_browser_describe_rows(b);
+  g_autofree char *path = g_strdup_printf("%s/%s.rows", t->dir, name);
+  g_autoptr(GError) error = NULL;
+  if (!g_file_set_contents(path, txt, -1, &error))
+    g_printerr("library test: %s\n", error->message);
+  g_string_append_printf(t->report, "%s_matching=%u\n", name,
+                         arcwise_library_browser_get_n_matching(b));
+  ArcwiseSwingItem *sel = arcwise_library_browser_get_selected(b);
+  g_string_append_printf(t->report, "%s_selected=%" G_GINT64_FORMAT "\n", name,
+                         sel ? sel->swing_id : (gint64)0);
+}
+
+/* The picture after the layout settled; then the next step. */
+static void
+picture_then_next(gpointer data)
+{
+  LibTest *t = data;
+  g_autofree char *path = g_strdup_printf("%s/step%d.png", t->dir, t->step);
+  g_autoptr(GError) error = NULL;
+  if (!arcwise_window_save_png(GTK_WIDGET(t->win), path, &error))
+    g_string_append_printf(t->report, "png_error=%s\n", error->message);
+  next_step(t);
+}
+
+static void
+later(LibTest *t)
+{
+  g_timeout_add_once(300, picture_then_next, t);
+}
+
+static void
+finish(LibTest *t)
+{
+  g_autofree char *path = g_strdup_printf("%s/library-report.txt", t->dir);
+  g_autoptr(GError) error = NULL;
+  if (!g_file_set_contents(path, t->report->str, -1, &error))
+    g_printerr("library test: %s\n", error->message);
+  GApplication *app = G_APPLICATION(gtk_window_get_application(GTK_WINDOW(t->win)));
+  g_string_free(t->report, TRUE);
+  g_free(t->dir);
+  g_free(t);
+  g_application_quit(app);
+}
+
+static void
+next_step(LibTest *t)
+{
+  ArcwiseLibraryBrowser *b = arcwise_window_get_browser(t->win);
+  const char *club = g_getenv("ARCWISE_LIBRARY_TEST_CLUB");
+  const char *search = g_getenv("ARCWISE_LIBRARY_TEST_SEARCH");
+  switch (t->step++) {
+  case 0:
+    if (t->caution != NULL) {
+      GtkWidget *def = gtk_window_get_default_widget(t->caution);
+      if (def != NULL)
+        g_signal_emit_by_name(def, "clicked");
+      t->caution = NULL;
+    }
+    rows(t, "start");
+    g_string_append_printf(t->report, "closed_swing_rows=%u\n",
+                           arcwise_library_browser_open(b, 0, 0));
+    rows(t, "closed");
+    g_string_append_printf(t->report, "opened_swing_rows=%u\n",
+                           arcwise_library_browser_open(b, 1, 1));
+    rows(t, "opened");
+    later(t);
+    break;
+  case 1:
+    /* Filters keep the open rows open: the first player's first session stays open. */
+    g_string_append_printf(t->report, "club_known=%d\n",
+                           arcwise_library_browser_set_filter(b, "club", club ? club : ""));
+    rows(t, "club");
+    later(t);
+    break;
+  case 2:
+    arcwise_library_browser_set_filter(b, "club", "");
+    arcwise_library_browser_set_filter(b, "data", "1");
+    rows(t, "gaps");
+    later(t);
+    break;
+  case 3:
+    arcwise_library_browser_set_filter(b, "data", "0");
+    arcwise_library_browser_set_filter(b, "kind", "2");
+    rows(t, "practice");
+    arcwise_library_browser_set_filter(b, "kind", "0");
+    arcwise_library_browser_set_filter(b, "search", search ? search : "");
+    rows(t, "search");
+    later(t);
+    break;
+  case 4:
+    arcwise_library_browser_set_filter(b, "search", "");
+    rows(t, "cleared");
+    /* Select the first swing, then step to the next one as the N key does. */
+    arcwise_window_select_index(t->win, 0);
+    rows(t, "first");
+    gtk_widget_activate_action(GTK_WIDGET(t->win), "win.swing", "i", 1);
+    rows(t, "next");
+    g_string_append_printf(t->report, "stage_duration=%.3f\n", arcwise_window_get_duration(t->win));
+    later(t);
+    break;
+  default:
+    finish(t);
+    break;
+  }
+}
+
+static gboolean
+wait_first_frame(gpointer data)
+{
+  LibTest *t = data;
+  ArcwiseStage *stage = arcwise_window_get_stage(t->win);
+  if (arcwise_stage_get_frames(stage) == 0 && arcwise_stage_get_error_text(stage) == NULL)
+    return G_SOURCE_CONTINUE;
+  next_step(t);
+  return G_SOURCE_REMOVE;
+}
+
+void
+arcwise_library_test_start(ArcwiseWindow *win, const char *dir, GtkWindow *caution)
+{
+  LibTest *t = g_new0(LibTest, 1);
+  t->win = win;
+  t->caution = caution;
+  t->dir = g_strdup(dir);
+  t->report = g_string_new(NULL);
+  g_timeout_add(50, wait_first_frame, t);
+}
