@@ -1,8 +1,9 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
 /* The MP4 encoder of the clip exporter, after FFmpeg's doc/examples/encode_video.c and
  * mux.c: one video stream, frames converted by export-yuv.c, packets interleaved by
- * libavformat. */
-#include "export-video.h"
+ * libavformat. Built as the loadable module arcwise-video.so (export-video-module.h); the
+ * functions are static and reached through the table at the end. */
+#include "export-video-module.h"
 
 #include "export-yuv.h"
 
@@ -46,8 +47,8 @@ av_msg(char *err, size_t n, const char *what, int rc)
   snprintf(err, n, "%s: %s", what, buf);
 }
 
-void
-arcwise_video_abort(ArcwiseVideo *v)
+static void
+video_abort(ArcwiseVideo *v)
 {
   if (v == NULL)
     return;
@@ -62,14 +63,14 @@ arcwise_video_abort(ArcwiseVideo *v)
   free(v);
 }
 
-const char *
-arcwise_video_encoder_name(const ArcwiseVideo *v)
+static const char *
+video_encoder_name(const ArcwiseVideo *v)
 {
   return v && v->enc && v->enc->codec ? v->enc->codec->name : "none";
 }
 
-ArcwiseVideo *
-arcwise_video_open(const char *path, const ArcwiseVideoSettings *s, char *err, size_t err_size)
+static ArcwiseVideo *
+video_open(const char *path, const ArcwiseVideoSettings *s, char *err, size_t err_size)
 {
   if (s->width < 16 || s->height < 16 || s->width > 4096 || s->height > 4096 ||
       s->width % 2 || s->height % 2) {
@@ -170,7 +171,7 @@ arcwise_video_open(const char *path, const ArcwiseVideoSettings *s, char *err, s
   v->header_written = true;
   return v;
 fail:
-  arcwise_video_abort(v);
+  video_abort(v);
   return NULL;
 }
 
@@ -195,9 +196,8 @@ drain(ArcwiseVideo *v, char *err, size_t err_size)
   }
 }
 
-bool
-arcwise_video_write(ArcwiseVideo *v, const uint8_t *pixels, size_t stride, char *err,
-                    size_t err_size)
+static bool
+video_write(ArcwiseVideo *v, const uint8_t *pixels, size_t stride, char *err, size_t err_size)
 {
   int rc = av_frame_make_writable(v->frame);
   if (rc < 0) {
@@ -221,15 +221,15 @@ arcwise_video_write(ArcwiseVideo *v, const uint8_t *pixels, size_t stride, char 
   return ok;
 }
 
-void
-arcwise_video_times(const ArcwiseVideo *v, double *convert_s, double *encode_s)
+static void
+video_times(const ArcwiseVideo *v, double *convert_s, double *encode_s)
 {
   *convert_s = v->convert_s;
   *encode_s = v->encode_s;
 }
 
-bool
-arcwise_video_close(ArcwiseVideo *v, char *err, size_t err_size)
+static bool
+video_close(ArcwiseVideo *v, char *err, size_t err_size)
 {
   bool ok = avcodec_send_frame(v->enc, NULL) >= 0 && drain(v, err, err_size);
   if (ok) {
@@ -243,6 +243,16 @@ arcwise_video_close(ArcwiseVideo *v, char *err, size_t err_size)
     snprintf(err, err_size, "cannot close the MP4 file");
     ok = false;
   }
-  arcwise_video_abort(v);
+  video_abort(v);
   return ok;
 }
+
+__attribute__((visibility("default"))) const ArcwiseVideoModule arcwise_video_module = {
+  .abi = ARCWISE_VIDEO_MODULE_ABI,
+  .open = video_open,
+  .write = video_write,
+  .times = video_times,
+  .close = video_close,
+  .abort = video_abort,
+  .encoder_name = video_encoder_name,
+};
