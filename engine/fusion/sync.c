@@ -131,10 +131,40 @@ typedef struct {
   size_t n;
 } Peak;
 
-/* Local refinement around center (a grid point of spacing step0): 9 points over +-step0, 11
- * over +-step0/4, and a parabola through the best and its neighbours step0/20 away. */
+/* Local refinement around center (a grid point of spacing step0): parabola steps over
+ * +-step0/4 and then +-step0/20, each first walking uphill (at most 4 steps) until the middle
+ * is the highest of the three. */
 static Peak
 refine(const SyncCtx *c, double center, double step0, double drift, double ta, double tb)
+{
+  Peak pk = { center, -2, 0, -2, 0 };
+  double h = step0 / 4.0;
+  for (int level = 0; level < 2; level++) {
+    double r0 = score(c, center, drift, ta, tb, NULL);
+    double rm = score(c, center - h, drift, ta, tb, NULL);
+    double rp = score(c, center + h, drift, ta, tb, NULL);
+    for (int walk = 0; walk < 4 && (rm > r0 || rp > r0); walk++) {
+      if (rm > rp) { center -= h; rp = r0; r0 = rm; rm = score(c, center - h, drift, ta, tb, NULL); }
+      else { center += h; rm = r0; r0 = rp; rp = score(c, center + h, drift, ta, tb, NULL); }
+    }
+    double den = rm - 2 * r0 + rp;
+    if (den < 0) {
+      double d = 0.5 * (rm - rp) / den;
+      if (fabs(d) <= 1) center += d * h;
+      pk.curv = -den / (2 * h * h);
+    }
+    h = step0 / 20.0;
+  }
+  pk.off = center;
+  pk.rho = score(c, center, drift, ta, tb, &pk.n);
+  return pk;
+}
+
+/* The same with scans instead of parabola steps (for the winner, where the exact operators'
+ * surface can hold ripples a parabola step walks into): 9 points over +-step0, 11 over
+ * +-step0/4, and a parabola through the best and its neighbours step0/20 away. */
+static Peak
+refine_dense(const SyncCtx *c, double center, double step0, double drift, double ta, double tb)
 {
   Peak pk = { center, -2, 0, -2, 0 };
   double step = step0;
@@ -403,7 +433,6 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
   double cand[3], rho2;
   int nc = coarse_peaks(rc, nstep, -max_off, step0, cand, &rho2);
   free(rc);
-  c.approx = false;
   double ta_motion = tc0;
   for (size_t k = 0; k < cam->n; k++) if (!isnan(c.sc[k])) { ta_motion = cam->t_s[k]; break; }
   double tb_first = ta_motion + 60.0;
@@ -415,6 +444,13 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
     if (p2.rho > pk.rho) { second = fmax(second, pk.rho); pk = p2; }
     else second = fmax(second, p2.rho);
   }
+  /* The candidates compared with the commonest operator standing in for frames without a
+   * table of their own; the winner refined again with every frame's own operator. */
+  c.approx = false;
+  if (pk.n >= 10 && pk.rho >= -1) {
+    Peak p2 = refine_dense(&c, pk.off, step0, 0, -INFINITY, tb_first);
+    if (p2.n >= 10) pk = p2;
+  }
   if (pk.n < 10 || pk.rho < -1) {
     ctx_free(&c);
     return aw_error_set(err, AW_ERR_NO_OVERLAP, "depth", 0, 0,
@@ -423,7 +459,7 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
   }
   /* the runner-up: another candidate's refined peak, or the grid's second local maximum */
   pk.rho_second = fmax(second, rho2 < pk.rho ? rho2 : -2);
-  c.approx = false;
+  c.approx = false;   /* from here every frame with its own operator */
   {
     /* Exact polish: the approximation moves the peak by well under a few milliseconds; two
      * parabola steps on +-1 ms around it. */

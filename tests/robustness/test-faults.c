@@ -585,6 +585,9 @@ fault_never_still(void)
     check_sane(p);
     AW_CHECK(count_flag(p, AW_FUSED_STILL, -INFINITY, INFINITY) == 0);
     AW_CHECK(p->report.zupt_samples == 0);
+    fprintf(stderr, "clock offset %.4f s (true %.4f), sync sigma %.4f, calibration sigma %.4f\n",
+            p->report.clock_offset_s, aw_sim_truth(c.sim)->clock_offset_s,
+            p->report.clock_offset_sigma_s, p->report.clock_calib_sigma_s);
     check_bounded("whole recording", error_stats(&c, p, ta, tb));
   }
   aw_fused_path_free(p);
