@@ -5,6 +5,7 @@
 
 #include <math.h>
 #include <stdlib.h>
+#include <string.h>
 
 #include "arcwise/fusion.h"
 #include "arcwise/sim.h"
@@ -15,8 +16,20 @@ typedef struct {
   double base_occl_m;       /* depth-only baseline (valid frames linearly interpolated) */
   double offset_err_s;
   double coverage2;         /* per-axis share of |error| <= 2 sigma over the motion */
+  double coverage1;         /* the same for 1 sigma (68.27 % for Gaussian errors) */
   size_t n_motion, n_occl;
+  /* Breakdown of the per-axis samples over the motion: counts inside 2 sigma (in2) and
+   * overall (n) by category (AW_SIMSCORE_CAT_*), by phase (takeaway .. follow-through, index
+   * phase - AW_SIM_PHASE_TAKEAWAY) and by camera axis. */
+  size_t cat_n[4], cat_in2[4];
+  size_t phase_n[4], phase_in2[4];
+  size_t axis_n[3], axis_in2[3];
 } AwSimScore;
+
+/* Categories of a sample: inside an occlusion window, IMU saturated (and not occluded),
+ * camera frame rejected or missing (neither of the above), plain visible. */
+enum { AW_SIMSCORE_CAT_VISIBLE = 0, AW_SIMSCORE_CAT_OCCLUDED, AW_SIMSCORE_CAT_SATURATED,
+       AW_SIMSCORE_CAT_NOCAM };
 
 static inline void
 aw_simscore(const AwSim *sim, const AwFusedPath *p, AwSimScore *sc)
@@ -24,7 +37,8 @@ aw_simscore(const AwSim *sim, const AwFusedPath *p, AwSimScore *sc)
   const AwSimTruth *tr = aw_sim_truth(sim);
   const AwDepthStream *d = aw_sim_depth(sim);
   double sm = 0, so = 0, sb = 0;
-  size_t nm = 0, no = 0, cov = 0, covn = 0, hint = 0;
+  size_t nm = 0, no = 0, cov = 0, cov1 = 0, covn = 0, hint = 0;
+  memset(sc, 0, sizeof *sc);
   for (size_t i = 0; i < p->n; i++) {
     double t = p->t_s[i];
     AwSimState st;
@@ -35,16 +49,27 @@ aw_simscore(const AwSim *sim, const AwFusedPath *p, AwSimScore *sc)
       e2 += e * e;
     }
     bool motion = st.phase >= AW_SIM_PHASE_TAKEAWAY && st.phase <= AW_SIM_PHASE_FOLLOW_THROUGH;
-    if (motion) {
-      sm += e2; nm++;
-      for (int a = 0; a < 3; a++) {
-        covn++;
-        if (fabs(p->pos_cam_m[i][a] - st.wrist_cam_m[a]) <= 2 * p->pos_sigma_cam_m[i][a]) cov++;
-      }
-    }
     bool occl = false;
     for (size_t o = 0; o < tr->n_occlusions; o++)
       if (t >= tr->occlusions[o].t0_s && t < tr->occlusions[o].t1_s) occl = true;
+    if (motion) {
+      sm += e2; nm++;
+      int cat = occl ? AW_SIMSCORE_CAT_OCCLUDED
+              : (p->flags[i] & AW_FUSED_IMU_SATURATED) ? AW_SIMSCORE_CAT_SATURATED
+              : !(p->flags[i] & AW_FUSED_CAM_ACCEPTED) ? AW_SIMSCORE_CAT_NOCAM
+              : AW_SIMSCORE_CAT_VISIBLE;
+      int ph = (int)st.phase - (int)AW_SIM_PHASE_TAKEAWAY;
+      for (int a = 0; a < 3; a++) {
+        double ae = fabs(p->pos_cam_m[i][a] - st.wrist_cam_m[a]);
+        bool in2 = ae <= 2 * p->pos_sigma_cam_m[i][a];
+        covn++;
+        cov += in2;
+        cov1 += ae <= p->pos_sigma_cam_m[i][a];
+        sc->cat_n[cat]++; sc->cat_in2[cat] += in2;
+        sc->phase_n[ph]++; sc->phase_in2[ph] += in2;
+        sc->axis_n[a]++; sc->axis_in2[a] += in2;
+      }
+    }
     if (occl) {
       so += e2; no++;
       /* depth-only baseline: valid frames either side, linear interpolation */
@@ -71,5 +96,6 @@ aw_simscore(const AwSim *sim, const AwFusedPath *p, AwSimScore *sc)
   sc->n_motion = nm;
   sc->n_occl = no;
   sc->coverage2 = covn ? (double)cov / (double)covn : (double)NAN;
+  sc->coverage1 = covn ? (double)cov1 / (double)covn : (double)NAN;
   sc->offset_err_s = p->report.clock_offset_s - tr->clock_offset_s;
 }

@@ -44,7 +44,7 @@ main(int argc, char **argv)
          *rb = calloc((size_t)n, sizeof *rb), *oe = calloc((size_t)n, sizeof *oe);
   if (!rm || !ro || !rb || !oe) return 1;
   int m = 0, no = 0, fails = 0;
-  double cov = 0;
+  double cov = 0, cov1 = 0;
   for (int i = 0; i < n; i++) {
     AwSimLevel L = lv[i % nl];
     AwSimConfig cfg;
@@ -72,6 +72,7 @@ main(int argc, char **argv)
     rm[m] = sc.rmse_motion_m;
     oe[m] = fabs(sc.offset_err_s);
     cov += sc.coverage2;
+    cov1 += sc.coverage1;
     m++;
     if (sc.n_occl) { ro[no] = sc.rmse_occl_m; rb[no] = sc.base_occl_m; no++; }
     aw_fused_path_free(p);
@@ -87,8 +88,9 @@ main(int argc, char **argv)
     double med = rm[m / 2], p90 = rm[(int)floor(0.9 * (m - 1))];
     double omed = ro[no / 2], bmed = rb[no / 2], cmed = oe[m / 2], c2 = cov / m;
     fprintf(stderr, "%s, %d swings: RMSE median %.2f cm, p90 %.2f cm; occluded median %.2f cm, "
-            "ratio %.3f; clock median %.2f ms; 2-sigma %.1f %%\n", levels, m, 100 * med,
-            100 * p90, 100 * omed, omed / bmed, 1e3 * cmed, 100 * c2);
+            "ratio %.3f; clock median %.2f ms; 2-sigma %.1f %% (1-sigma %.1f %%, Gaussian 68.3)\n",
+            levels, m, 100 * med, 100 * p90, 100 * omed, omed / bmed, 1e3 * cmed, 100 * c2,
+            100 * cov1 / m);
     AW_CHECK(med <= 0.015);
     AW_CHECK(p90 <= 0.03);
     AW_CHECK(omed <= 0.02);
