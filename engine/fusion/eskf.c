@@ -551,11 +551,16 @@ bf_update(double L[NS][NS], double l[NS], Upd *u)
 }
 
 AwStatus
-aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam,
+aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau_in, const AwCamPrep *cam,
                    const AwFusionSettings *s, double g, const AwCalib *cal, AwFusedPath *path,
                    AwError *err)
 {
   size_t n = imu->n;
+  /* The IMU grid on the depth clock, moved by the filter's own clock estimate between passes
+   * (see the passes below). */
+  double *tau = malloc(sizeof *tau * (n ? n : 1));
+  if (!tau) return aw_error_set(err, AW_ERR_NO_MEMORY, "fusion", 0, 0, "out of memory");
+  memcpy(tau, tau_in, sizeof *tau * n);
   AwFusionReport *rep = &path->report;
   Model m = { imu, tau, s, { s->lever_arm_body_m[0], s->lever_arm_body_m[1], s->lever_arm_body_m[2] },
               3 * imu->dt_nom_s + 0.02,
@@ -587,31 +592,8 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
   UpdList ul = { 0 };
   AwStatus st = AW_OK;
   if (!fstart || !flist || !fstat || !fdec || !fres || !xs || !Pck || !Pblk || !ustart) { st = AW_ERR_NO_MEMORY; goto out; }
-  {
-    size_t hint = 0, cnt = 0;
-    size_t *fstep = malloc(sizeof *fstep * (cam->n ? cam->n : 1));
-    if (!fstep) { st = AW_ERR_NO_MEMORY; goto out; }
-    for (size_t k = 0; k < cam->n; k++) {
-      fstep[k] = SIZE_MAX;
-      if (!cam->valid[k]) { fstat[k] = FR_MISSING; continue; }
-      double tk = cam->t_s[k];
-      size_t i = aw_fusion_locate(tau, n, tk, &hint);
-      if (i + 1 < n && fabs(tau[i + 1] - tk) < fabs(tk - tau[i])) i++;
-      if (fabs(tk - tau[i]) > imu->dt_nom_s) continue;
-      fstep[k] = i;
-      fstart[i + 1]++;
-    }
-    for (size_t i = 0; i < n; i++) fstart[i + 1] += fstart[i];
-    size_t *fill = calloc(n, sizeof *fill);
-    if (!fill) { free(fstep); st = AW_ERR_NO_MEMORY; goto out; }
-    for (size_t k = 0; k < cam->n; k++)
-      if (fstep[k] != SIZE_MAX) { flist[fstart[fstep[k]] + fill[fstep[k]]++] = k; cnt++; }
-    free(fill);
-    free(fstep);
-    (void)cnt;
-  }
-
-  const double clock_offset_in = rep->clock_offset_s;
+  double clock_moved = 0;   /* shift of the grid made by the last pass (s) */
+  double clock_offset_in = rep->clock_offset_s;
   /* Passes after the first that reselect the camera frames from the smoothed path. */
   enum { AW_FUSION_MAX_REPASS = 4 };
   /* Several passes. A forward filter must judge each camera frame on the past alone: right after
@@ -628,6 +610,7 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
    * pass left out more of them, tens of metres in the end), so the last pass's result stands. */
   const int n_pass = use_cam ? 1 + AW_FUSION_MAX_REPASS : 1;
   size_t prev_changed = SIZE_MAX;
+  double c_mid = 0;
   for (int pass = 0; pass < n_pass; pass++) {
   if (pass > 0) {
     /* Only if the smoothed path disagrees with a forward decision, or the first pass had to
@@ -639,7 +622,7 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
       bool keep = (double)fres[k] <= s->gate_chi2;
       if (keep != (fstat[k] == FR_ACCEPTED)) changed++;
     }
-    if (changed == 0 && rep->gate_recoveries == 0) break;
+    if (changed == 0 && rep->gate_recoveries == 0 && clock_moved == 0) break;
     if (pass > 1 && (double)changed > 2.0 * (double)prev_changed + 1.0 / cam->dt_nom_s) break;
     prev_changed = changed;
     rep->clock_offset_s = clock_offset_in;
@@ -652,6 +635,33 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
       if (fstat[k] == FR_NONE) continue;   /* not on the IMU grid: not used either way */
       fdec[k] = (double)fres[k] <= s->gate_chi2 ? 2 : 1;
       fstat[k] = FR_NONE;
+    }
+  }
+  /* Camera frames mapped to their nearest IMU sample (again after the grid moved). */
+  if (pass == 0 || clock_moved != 0) {
+    memset(fstart, 0, sizeof *fstart * (n + 1));
+    {
+      size_t hint = 0, cnt = 0;
+      size_t *fstep = malloc(sizeof *fstep * (cam->n ? cam->n : 1));
+      if (!fstep) { st = AW_ERR_NO_MEMORY; goto out; }
+      for (size_t k = 0; k < cam->n; k++) {
+        fstep[k] = SIZE_MAX;
+        if (!cam->valid[k]) { fstat[k] = FR_MISSING; continue; }
+        double tk = cam->t_s[k];
+        size_t i = aw_fusion_locate(tau, n, tk, &hint);
+        if (i + 1 < n && fabs(tau[i + 1] - tk) < fabs(tk - tau[i])) i++;
+        if (fabs(tk - tau[i]) > imu->dt_nom_s) continue;
+        fstep[k] = i;
+        fstart[i + 1]++;
+      }
+      for (size_t i = 0; i < n; i++) fstart[i + 1] += fstart[i];
+      size_t *fill = calloc(n, sizeof *fill);
+      if (!fill) { free(fstep); st = AW_ERR_NO_MEMORY; goto out; }
+      for (size_t k = 0; k < cam->n; k++)
+        if (fstep[k] != SIZE_MAX) { flist[fstart[fstep[k]] + fill[fstep[k]]++] = k; cnt++; }
+      free(fill);
+      free(fstep);
+      (void)cnt;
     }
   }
   for (size_t k = 0; k < cam->n; k++) fres[k] = INFINITY;
@@ -899,6 +909,7 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
         memcpy(rep->gyro_bias_rad_s, xsm.bg, sizeof xsm.bg);
         memcpy(rep->lever_arm_body_m, xsm.l, sizeof xsm.l);
         rep->clock_offset_s += xsm.c;
+        c_mid = xsm.c;
         double gn = aw_v3_norm(xsm.g);
         double up[3], ex[3] = { 1, 0, 0 }, xg[3], yg[3], Rg[3][3];
         aw_v3_scale(up, xsm.g, -1.0 / (gn > 0 ? gn : 1));
@@ -923,6 +934,20 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
       }
     }
     free(L);
+  }
+  /* The camera model extrapolates the IMU state at a sample by the frame's time offset minus
+   * the clock correction c (cam_predict), with constant acceleration: good for a few
+   * milliseconds, poor for tens in a downswing, where the linearisation then biases c itself.
+   * So when the smoothed c is more than a quarter of an IMU interval, the grid moves by it and
+   * the next pass starts from there with c = 0 (Gauss-Newton relinearisation, as in the
+   * iterated Kalman smoother: B. M. Bell, "The iterated Kalman smoother as a Gauss-Newton
+   * method", SIAM J. Optim. 4(3), 1994; here only the clock is relinearised and its prior
+   * recentred, a simplification). */
+  clock_moved = 0;
+  if (use_cam && pass + 1 < n_pass && fabs(c_mid) > 0.25 * imu->dt_nom_s && fabs(c_mid) < 0.5) {
+    for (size_t i = 0; i < n; i++) tau[i] += c_mid;
+    clock_offset_in += c_mid;
+    clock_moved = c_mid;
   }
   }   /* passes */
 
@@ -957,6 +982,7 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam
   }
 out:
   free(fstart); free(flist); free(fstat); free(fdec); free(fres); free(xs); free(Pck); free(Pblk); free(ustart);
+  free(tau);
   free(ul.v);
   if (st == AW_ERR_NO_MEMORY) aw_error_set(err, st, "fusion", 0, 0, "out of memory");
   return st;
