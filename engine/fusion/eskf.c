@@ -240,7 +240,16 @@ typedef struct {
   double lever[3];
   double gap_dt;
   double sa2, sg2, sba2, sbg2;   /* noise densities squared */
+  unsigned freeze;               /* AW_ESKF_FREEZE_* */
 } Model;
+
+/* Known attitude or clock (AW_ESKF_FREEZE_*): their error states get no process noise. */
+static void
+freeze_noise(const Model *m, Trans *T)
+{
+  if (m->freeze & AW_ESKF_FREEZE_ATTITUDE) { T->qth = 0; T->qbg = 0; }
+  if (m->freeze & AW_ESKF_FREEZE_CLOCK) T->qc = 0;
+}
 
 /* Nominal propagation from sample i to i+1 and the transition of the error state. */
 static void
@@ -264,6 +273,7 @@ nominal_step(const Model *m, size_t i, const Nom *in, Nom *out, Trans *T)
     T->qba = m->sba2 * dt;
     T->qbg = m->sbg2 * dt;
     T->qc = 1e-10 * dt;
+    freeze_noise(m, T);
     return;
   }
   double w0[3], w1[3], wm[3], f0[3], f1[3];
@@ -323,6 +333,7 @@ nominal_step(const Model *m, size_t i, const Nom *in, Nom *out, Trans *T)
   T->qbg = m->sbg2 * dt;
   /* The clock offset wanders by at most ~10 us per sqrt(s) beyond the fitted drift. */
   T->qc = 1e-10 * dt;
+  freeze_noise(m, T);
 }
 
 static bool
@@ -555,6 +566,14 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau_in, const AwCamPrep *
                    const AwFusionSettings *s, double g, const AwCalib *cal, AwFusedPath *path,
                    AwError *err)
 {
+  return aw_fusion_eskf_run_ext(imu, tau_in, cam, s, g, cal, 0, path, err);
+}
+
+AwStatus
+aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPrep *cam,
+                       const AwFusionSettings *s, double g, const AwCalib *cal, unsigned freeze,
+                       AwFusedPath *path, AwError *err)
+{
   size_t n = imu->n;
   /* The IMU grid on the depth clock, moved by the filter's own clock estimate between passes
    * (see the passes below). */
@@ -567,7 +586,7 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau_in, const AwCamPrep *
               s->accel_noise_density_m_s2_rthz * s->accel_noise_density_m_s2_rthz,
               s->gyro_noise_density_rad_s_rthz * s->gyro_noise_density_rad_s_rthz,
               s->accel_bias_walk_m_s3_rthz * s->accel_bias_walk_m_s3_rthz,
-              s->gyro_bias_walk_rad_s2_rthz * s->gyro_bias_walk_rad_s2_rthz };
+              s->gyro_bias_walk_rad_s2_rthz * s->gyro_bias_walk_rad_s2_rthz, freeze };
   bool use_cam = s->mask != AW_FUSION_CAMERA_MASKED;
   /* A recording's own still periods show its sensor noise; never assume it quieter than the
    * datasheet figure. */
@@ -711,6 +730,9 @@ aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau_in, const AwCamPrep *
     /* Clock: three times the correlation peak's spread plus 20 ms: asymmetric swing shapes and
      * sensor filter delays bias the peak by more than its width suggests. */
     P[IC][IC] = 9 * rep->clock_offset_sigma_s * rep->clock_offset_sigma_s + 0.02 * 0.02;
+    if (freeze & AW_ESKF_FREEZE_ATTITUDE)
+      for (int a = 0; a < 3; a++) P[IT + a][IT + a] = P[IBG + a][IBG + a] = 0;
+    if (freeze & AW_ESKF_FREEZE_CLOCK) P[IC][IC] = 0;
   }
 
   /* Forward pass. */

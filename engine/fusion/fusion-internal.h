@@ -119,6 +119,14 @@ void aw_fusion_wahba(double B[3][3], double q_out[4]);
 AwStatus aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam,
                             const AwFusionSettings *s, double g, const AwCalib *cal,
                             AwFusedPath *path, AwError *err);
+/* The same with error states held at zero (no prior uncertainty, no process noise): a known
+ * attitude (attitude and gyro bias; the IMU's rotation is then taken as exact) or a known clock
+ * offset. With both, a fixed attitude and camera frames on IMU sample times the filter is
+ * linear-Gaussian, which is what tests/fusion/test-eskf-reference.py checks it on. */
+enum { AW_ESKF_FREEZE_ATTITUDE = 1u << 0, AW_ESKF_FREEZE_CLOCK = 1u << 1 };
+AwStatus aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam,
+                                const AwFusionSettings *s, double g, const AwCalib *cal,
+                                unsigned freeze, AwFusedPath *path, AwError *err);
 
 /* Camera-only smoother with a white-jerk motion model on the IMU grid tau: smoothed keypoint
  * position, velocity and sigma; per-sample gating status of frames. jerk_psd <= 0: estimated
