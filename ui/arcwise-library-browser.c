@@ -480,6 +480,7 @@ on_swing_changed(ArcwiseSwingItem *it, GtkListItem *li)
 }
 
 static void on_edit_clicked(GtkButton *b, ArcwiseLibraryBrowser *self);
+void arcwise_library_browser_edit_player(ArcwiseLibraryBrowser *self, gint64 id);
 
 static void
 row_bind(GtkSignalListItemFactory *f, GtkListItem *li, ArcwiseLibraryBrowser *self)
@@ -520,9 +521,9 @@ row_bind(GtkSignalListItemFactory *f, GtkListItem *li, ArcwiseLibraryBrowser *se
     show_swing(self, it, r);
     handler = g_signal_connect(it, "changed", G_CALLBACK(on_swing_changed), li);
   }
-  g_object_set_data(G_OBJECT(li), "watched", item);
+  /* Our own reference: a reload can drop the model's before the row is unbound. */
+  g_object_set_data_full(G_OBJECT(li), "watched", item, g_object_unref);
   g_object_set_data(G_OBJECT(li), "handler", GSIZE_TO_POINTER((gsize)handler));
-  g_object_unref(item);   /* the row keeps the item alive while bound */
 }
 
 static void
@@ -546,8 +547,14 @@ player_saved(gpointer data)
 static void
 on_edit_clicked(GtkButton *b, ArcwiseLibraryBrowser *self)
 {
-  gint64 id = (gint64)GPOINTER_TO_SIZE(g_object_get_data(G_OBJECT(b), "player-id"));
-  if (self->source == NULL || id <= 0)
+  arcwise_library_browser_edit_player(
+      self, (gint64)GPOINTER_TO_SIZE(g_object_get_data(G_OBJECT(b), "player-id")));
+}
+
+void
+arcwise_library_browser_edit_player(ArcwiseLibraryBrowser *self, gint64 id)
+{
+  if (self->source == NULL || id <= 0 || self->readonly)
     return;
   GtkRoot *root = gtk_widget_get_root(GTK_WIDGET(self));
   /* The editor is transient for our window and calls back once, after a save. */

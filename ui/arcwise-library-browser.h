@@ -42,6 +42,8 @@ gboolean arcwise_library_browser_select_swing(ArcwiseLibraryBrowser *self, Arcwi
 gboolean arcwise_library_browser_select_nth(ArcwiseLibraryBrowser *self, guint n);
 /* The next (d > 0) or previous (d < 0) swing the filters let through. */
 void arcwise_library_browser_step(ArcwiseLibraryBrowser *self, int d);
+/* Opens the player editor for a player, as the edit button of its row does. */
+void arcwise_library_browser_edit_player(ArcwiseLibraryBrowser *self, gint64 player_id);
 /* How many swings the filters let through (all when none is set). */
 guint arcwise_library_browser_get_n_matching(ArcwiseLibraryBrowser *self);
 

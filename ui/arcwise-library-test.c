@@ -142,6 +142,59 @@ next_step(LibTest *t)
     g_string_append_printf(t->report, "stage_duration=%.3f\n", arcwise_window_get_duration(t->win));
     later(t);
     break;
+  case 5: {
+    /* The player editor from the first player's row. */
+    g_autofree char *first_rows = arcwise_library_browser_describe_rows(b);
+    gint64 pid = g_ascii_strtoll(first_rows + 2, NULL, 10);   /* "P\tID..." */
+    g_string_append_printf(t->report, "edit_player=%" G_GINT64_FORMAT "\n", pid);
+    arcwise_library_browser_edit_player(b, pid);
+    later(t);
+    break;
+  }
+  case 6: {
+    GtkWindow *editor = NULL;
+    GListModel *tops = gtk_window_get_toplevels();   /* borrowed */
+    for (guint i = 0; i < g_list_model_get_n_items(tops); i++) {
+      g_autoptr(GtkWindow) w = g_list_model_get_item(tops, i);
+      if (g_str_equal(G_OBJECT_TYPE_NAME(w), "ArcwisePlayerEditor"))
+        editor = w;
+    }
+    g_string_append_printf(t->report, "editor_shown=%d\n", editor != NULL);
+    if (editor == NULL) {
+      finish(t);
+      return;
+    }
+    /* Fill it in as a coach would: a longer name, a height, and press Save. */
+    GtkWidget *name = NULL, *height = NULL, *save = NULL;
+    GPtrArray *stack = g_ptr_array_new();
+    g_ptr_array_add(stack, editor);
+    while (stack->len > 0) {
+      GtkWidget *w = g_ptr_array_steal_index(stack, stack->len - 1);
+      if (GTK_IS_ENTRY(w) && name == NULL && !GTK_IS_SPIN_BUTTON(w))
+        name = w;
+      else if (GTK_IS_SPIN_BUTTON(w))
+        height = w;
+      else if (GTK_IS_BUTTON(w) && g_strcmp0(gtk_button_get_label(GTK_BUTTON(w)), "_Save") == 0)
+        save = w;
+      for (GtkWidget *c = gtk_widget_get_last_child(w); c; c = gtk_widget_get_prev_sibling(c))
+        g_ptr_array_add(stack, c);
+    }
+    g_ptr_array_unref(stack);
+    g_string_append_printf(t->report, "editor_fields=%d\n", name && height && save);
+    if (name && height && save) {
+      g_autofree char *n = g_strdup_printf("%s (edited)", gtk_editable_get_text(GTK_EDITABLE(name)));
+      gtk_editable_set_text(GTK_EDITABLE(name), n);
+      gtk_spin_button_set_value(GTK_SPIN_BUTTON(height), 177);
+      g_string_append_printf(t->report, "edited_name=%s\n", n);
+      g_signal_emit_by_name(save, "clicked");
+    }
+    later(t);
+    break;
+  }
+  case 7:
+    rows(t, "edited");
+    later(t);
+    break;
   default:
     finish(t);
     break;

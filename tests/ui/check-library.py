@@ -44,7 +44,11 @@ others += db.execute("SELECT count(*) FROM player WHERE instr(lower(name), ?) > 
 others += db.execute("SELECT count(*) FROM session WHERE instr(lower(place), ?) > 0", (tag,)).fetchone()[0]
 check(others == 0, "the tag appears in no name, place or note")
 
-players = sorted({(s["pname"], s["player"]) for s in swings.values()})
+# The test renames the first player at its end (NAME -> "NAME (edited)"); earlier steps
+# showed the old name.
+EDITED = " (edited)"
+players = sorted({(s["pname"][:-len(EDITED)] if s["pname"].endswith(EDITED) else s["pname"],
+                   s["player"]) for s in swings.values()})
 player_ids = [p for _, p in players]
 sessions_of = {}
 for pid in player_ids:
@@ -146,5 +150,18 @@ check(report.get("first_selected") == str(first) and report.get("next_selected")
       "selected %s" % (first, second, sel))
 check(float(report.get("stage_duration", 0)) > 0.5, "the selected swing is on the stage (%s s)"
       % report.get("stage_duration"))
+# The player editor from the first player's row: name and height saved in the file, the
+# tree shown again with the new name in place, what was open still open, the swing kept.
+check(report.get("editor_shown") == "1" and report.get("editor_fields") == "1",
+      "the player editor opens from the player row with name, height and Save")
+pid = int(report.get("edit_player", 0))
+row = db.execute("SELECT name, height_m FROM player WHERE id = ?", (pid,)).fetchone()
+check(pid == p1 and row is not None and row[0] == report.get("edited_name")
+      and row[1] is not None and abs(row[1] - 1.77) < 1e-9,
+      "the editor saved player %d as %r, %s m (library: %s)"
+      % (pid, report.get("edited_name"), 1.77, row))
+compare("edited", expected({p1, swings[second]["player"]}, {s1, swings[second]["session"]}),
+        "after the edit")
+check(report.get("edited_selected") == str(second), "the selected swing is kept after the edit")
 check("png_error" not in report, "window pictures saved (%s)" % report.get("png_error", "all"))
 sys.exit(1 if failed else 0)
