@@ -158,21 +158,11 @@ drag_begin(GtkGestureDrag *gesture, double x, double y, ArcwiseStage *self)
 static void
 drag_update(GtkGestureDrag *gesture, double dx, double dy, ArcwiseStage *self)
 {
-  double h = MAX(1, gtk_widget_get_height(GTK_WIDGET(self)));
-  if (self->pan) {
-    /* Move the target in the view plane by as much as the pointer moved on screen. */
-    double m_per_px = 2.0 * (double)self->drag_start.distance_m * tan((double)self->drag_start.fov_y_rad / 2) / h;
-    float yaw = self->drag_start.yaw_rad, pitch = self->drag_start.pitch_rad;
-    float right[3] = { cosf(yaw), sinf(yaw), 0 };
-    float up[3] = { -sinf(pitch) * sinf(yaw), sinf(pitch) * cosf(yaw), cosf(pitch) };
-    for (int k = 0; k < 3; k++)
-      self->cam.target_m[k] = self->drag_start.target_m[k] -
-                              (float)(dx * m_per_px) * right[k] + (float)(dy * m_per_px) * up[k];
-  } else {
-    self->cam.yaw_rad = self->drag_start.yaw_rad - (float)(dx / h * 3.0);
-    float p = self->drag_start.pitch_rad + (float)(dy / h * 3.0);
-    self->cam.pitch_rad = CLAMP(p, -0.15f, 1.55f);
-  }
+  double h = gtk_widget_get_height(GTK_WIDGET(self));
+  if (self->pan)
+    arcwise_camera_pan(&self->cam, &self->drag_start, dx, dy, h);
+  else
+    arcwise_camera_orbit(&self->cam, &self->drag_start, dx, dy, h);
   go_free(self);
   gtk_widget_queue_draw(GTK_WIDGET(self));
 }
@@ -180,7 +170,8 @@ drag_update(GtkGestureDrag *gesture, double dx, double dy, ArcwiseStage *self)
 static void
 zoom_by(ArcwiseStage *self, double factor)
 {
-  self->cam.distance_m = CLAMP(self->cam.distance_m * (float)factor, 0.8f, 15.0f);
+  ArcwiseCamera now = self->cam;
+  arcwise_camera_zoom(&self->cam, &now, factor);
   go_free(self);
   gtk_widget_queue_draw(GTK_WIDGET(self));
 }
@@ -206,7 +197,9 @@ pinch_changed(GtkGestureZoom *g, double scale, ArcwiseStage *self)
 {
   if (scale <= 0)
     return;
-  self->cam.distance_m = CLAMP((float)(self->zoom_start_distance / scale), 0.8f, 15.0f);
+  ArcwiseCamera start = self->cam;
+  start.distance_m = (float)self->zoom_start_distance;
+  arcwise_camera_zoom(&self->cam, &start, 1.0 / scale);
   go_free(self);
   gtk_widget_queue_draw(GTK_WIDGET(self));
 }

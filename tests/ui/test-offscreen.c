@@ -126,9 +126,46 @@ project(const ArcwiseCamera *cam, const float p[3], int *px, int *py)
   return *px >= 0 && *px < W && *py >= 0 && *py < H;
 }
 
+/* Mouse and touchpad camera moves (ui/arcwise-stage.c uses exactly these). Pan: the point
+ * that was at the centre of the view (the orbit target) lands where the pointer went, by the
+ * pinhole projection above; orbit keeps the target and the distance; zoom scales the distance
+ * within its limits. */
+static void
+check_camera_moves(void)
+{
+  for (int v = 0; v < 2; v++) {
+    ArcwiseCamera start, cam;
+    arcwise_camera_preset(&start, v == 0 ? ARCWISE_VIEW_FACE_ON : ARCWISE_VIEW_FREE, 1, NULL);
+    const double moves[3][2] = { { 40, -25 }, { -120, 60 }, { 0, 90 } };
+    for (int k = 0; k < 3; k++) {
+      arcwise_camera_pan(&cam, &start, moves[k][0], moves[k][1], H);
+      int px, py;
+      AW_CHECK(project(&cam, start.target_m, &px, &py));
+      AW_CHECK(abs(px - (W / 2 + (int)moves[k][0])) <= 1 && abs(py - (H / 2 + (int)moves[k][1])) <= 1);
+      AW_CHECK_NEAR(cam.distance_m, start.distance_m, 0.0);
+    }
+    arcwise_camera_orbit(&cam, &start, 100, 0, H);
+    AW_CHECK_NEAR(cam.yaw_rad, (double)start.yaw_rad - 3.0 * 100 / H, 1e-6);
+    AW_CHECK_NEAR(cam.distance_m, start.distance_m, 0.0);
+    for (int i = 0; i < 3; i++)
+      AW_CHECK_NEAR(cam.target_m[i], start.target_m[i], 0.0);
+    int px, py;   /* the target stays at the centre of the view whatever the orbit */
+    AW_CHECK(project(&cam, start.target_m, &px, &py) && abs(px - W / 2) <= 1 && abs(py - H / 2) <= 1);
+    arcwise_camera_orbit(&cam, &start, 0, 10.0 * H, H);
+    AW_CHECK_NEAR(cam.pitch_rad, 1.55, 1e-6);   /* never over the top */
+    arcwise_camera_zoom(&cam, &start, 0.5);
+    AW_CHECK_NEAR(cam.distance_m, 0.5 * (double)start.distance_m, 1e-6);
+    arcwise_camera_zoom(&cam, &start, 0.01);
+    AW_CHECK_NEAR(cam.distance_m, 0.8, 1e-6);
+    arcwise_camera_zoom(&cam, &start, 100.0);
+    AW_CHECK_NEAR(cam.distance_m, 15.0, 1e-6);
+  }
+}
+
 int
 main(void)
 {
+  check_camera_moves();
   g_autoptr(GError) err = NULL;
   ArcwiseOffscreen *off = arcwise_offscreen_new(W, H, 4, &err);
   if (off == NULL) {

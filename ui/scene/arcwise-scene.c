@@ -175,6 +175,41 @@ arcwise_camera_preset(ArcwiseCamera *cam, ArcwiseView view, int handed, const fl
   }
 }
 
+void
+arcwise_camera_orbit(ArcwiseCamera *cam, const ArcwiseCamera *start, double dx_px, double dy_px,
+                     double height_px)
+{
+  double h = height_px > 1 ? height_px : 1;
+  *cam = *start;
+  cam->yaw_rad = start->yaw_rad - (float)(dx_px / h * 3.0);
+  float p = start->pitch_rad + (float)(dy_px / h * 3.0);
+  cam->pitch_rad = p < -0.15f ? -0.15f : p > 1.55f ? 1.55f : p;
+}
+
+void
+arcwise_camera_pan(ArcwiseCamera *cam, const ArcwiseCamera *start, double dx_px, double dy_px,
+                   double height_px)
+{
+  double h = height_px > 1 ? height_px : 1;
+  /* Metres per pixel at the target's depth, then along the camera's right and up axes. */
+  double m_per_px = 2.0 * (double)start->distance_m * tan((double)start->fov_y_rad / 2) / h;
+  float yaw = start->yaw_rad, pitch = start->pitch_rad;
+  float right[3] = { cosf(yaw), sinf(yaw), 0 };
+  float up[3] = { -sinf(pitch) * sinf(yaw), sinf(pitch) * cosf(yaw), cosf(pitch) };
+  *cam = *start;
+  for (int k = 0; k < 3; k++)
+    cam->target_m[k] = start->target_m[k] - (float)(dx_px * m_per_px) * right[k] +
+                       (float)(dy_px * m_per_px) * up[k];
+}
+
+void
+arcwise_camera_zoom(ArcwiseCamera *cam, const ArcwiseCamera *start, double factor)
+{
+  float d = start->distance_m * (float)(factor > 0 ? factor : 1.0);
+  *cam = *start;
+  cam->distance_m = d < 0.8f ? 0.8f : d > 15.0f ? 15.0f : d;
+}
+
 static void
 camera_eye(const ArcwiseCamera *cam, vec3 eye)
 {

@@ -97,6 +97,16 @@ void arcwise_camera_preset(ArcwiseCamera *cam, ArcwiseView view, int handed,
 ArcwiseScene *arcwise_scene_new(GError **error);
 
 /* Deletes every GL name; the creating context must be current. NULL does nothing. */
+/* Mouse and touchpad moves of the camera, each from the camera as the gesture began. Orbit
+ * turns the eye around the target (3 rad per view height; pitch kept between just below the
+ * horizon and nearly straight down); pan moves the target in the view plane so that the
+ * scene at the target's depth follows the pointer; zoom scales the distance (0.8-15 m). */
+void arcwise_camera_orbit(ArcwiseCamera *cam, const ArcwiseCamera *start, double dx_px,
+                          double dy_px, double height_px);
+void arcwise_camera_pan(ArcwiseCamera *cam, const ArcwiseCamera *start, double dx_px,
+                        double dy_px, double height_px);
+void arcwise_camera_zoom(ArcwiseCamera *cam, const ArcwiseCamera *start, double factor);
+
 void arcwise_scene_free(ArcwiseScene *scene);
 
 /* Replaces the swing in `slot` (0 = the swing under study, 1 = the comparison swing). A NULL
