@@ -16,8 +16,8 @@
  * the stored gains, and needs no covariance inverse at all, so between camera frames a backward
  * step costs two structured products.
  *
- * The transition F = I + (sparse 3x3 blocks) is never formed: F*M and F^T*M are written out
- * block by block (see apply_F and apply_Ft), which is what makes a 100 Hz step cheap. */
+ * The transition F = I + (sparse 3x3 blocks) is never formed: G*M and F^T*M are written out
+ * block by block (see apply_G and apply_Ft), which is what makes a 100 Hz step cheap. */
 #include "fusion-internal.h"
 
 #include "arcwise/math3.h"
@@ -113,31 +113,6 @@ rows_axpy(double M[][NS], int r0, double s, int s0)
     for (int c = 0; c < NS; c++) M[r0 + r][c] += s * M[s0 + r][c];
 }
 
-/* M <- F M (M is NS x NS). Rows are rewritten in an order that reads only old rows. */
-static void
-apply_F(const Trans *T, double M[NS][NS])
-{
-  double dt = T->dt;
-  if (T->gap) {
-    rows_axpy(M, IP, dt, IV);
-    return;
-  }
-  double Pth[3][3], Pba[3][3], oth[3][NS], oba[3][NS], obg[3][NS];
-  for (int r = 0; r < 3; r++)
-    for (int c = 0; c < 3; c++) { Pth[r][c] = 0.5 * dt * T->Vth[r][c]; Pba[r][c] = 0.5 * dt * T->Vba[r][c]; }
-  memcpy(oth, &M[IT], sizeof oth);
-  memcpy(oba, &M[IBA], sizeof oba);
-  memcpy(obg, &M[IBG], sizeof obg);
-  rows_axpy(M, IP, dt, IV);
-  rows_addmul(M, IP, &Pth[0][0], oth);
-  rows_addmul(M, IP, &Pba[0][0], oba);
-  rows_axpy(M, IP, 0.5 * dt * dt, IDG);
-  rows_addmul(M, IV, &T->Vth[0][0], oth);
-  rows_addmul(M, IV, &T->Vba[0][0], oba);
-  rows_axpy(M, IV, dt, IDG);
-  rows_addmul(M, IT, &T->Tbg[0][0], obg);
-}
-
 /* M <- F^T M. */
 static void
 apply_Ft(const Trans *T, double M[NS][NS])
@@ -212,14 +187,62 @@ symmetrize(double M[NS][NS])
     for (int c = r + 1; c < NS; c++) { double a = 0.5 * (M[r][c] + M[c][r]); M[r][c] = a; M[c][r] = a; }
 }
 
-/* P <- F P F^T + Q */
+/* out (9 x ncol, rows p, v, theta) = G M, F = I + G, M's rows the state's (row stride ld). G is
+ * non-zero only in the p, v and theta rows. */
+static void
+apply_G(const Trans *T, const double *M, int ld, int ncol, double *out)
+{
+  double dt = T->dt;
+  const double *Mv = M + IV * ld, *Mt = M + IT * ld, *Mba = M + IBA * ld, *Mbg = M + IBG * ld,
+               *Mg = M + IDG * ld;
+  if (T->gap) {
+    for (int r = 0; r < 3; r++)
+      for (int c = 0; c < ncol; c++) {
+        out[(IP + r) * ncol + c] = dt * Mv[r * ld + c];
+        out[(IV + r) * ncol + c] = 0;
+        out[(IT + r) * ncol + c] = 0;
+      }
+    return;
+  }
+  double h = 0.5 * dt, h2 = 0.5 * dt * dt;
+  for (int r = 0; r < 3; r++) {
+    const double *a = T->Vth[r], *b = T->Vba[r], *e = T->Tbg[r];
+    for (int c = 0; c < ncol; c++) {
+      /* W = Vth M_theta + Vba M_ba; G_v M = W + dt M_dg; G_p M = dt M_v + dt/2 W + dt^2/2 M_dg */
+      double w = a[0] * Mt[c] + a[1] * Mt[ld + c] + a[2] * Mt[2 * ld + c] +
+                 b[0] * Mba[c] + b[1] * Mba[ld + c] + b[2] * Mba[2 * ld + c];
+      double gd = Mg[r * ld + c];
+      out[(IV + r) * ncol + c] = w + dt * gd;
+      out[(IP + r) * ncol + c] = dt * Mv[r * ld + c] + h * w + h2 * gd;
+      out[(IT + r) * ncol + c] = e[0] * Mbg[c] + e[1] * Mbg[ld + c] + e[2] * Mbg[2 * ld + c];
+    }
+  }
+}
+
+/* P <- F P F^T + Q with F = I + G: F P F^T = P + A + A^T + G A^T, A = G P. Only the p, v and
+ * theta rows and columns change; they are written once and mirrored (P stays exactly
+ * symmetric). */
 static void
 propagate_cov(const Trans *T, double P[NS][NS])
 {
-  apply_F(T, P);          /* F P */
-  transpose_sq(P);        /* P F^T */
-  apply_F(T, P);          /* F P F^T */
-  symmetrize(P);
+  enum { NG = 9 };
+  double A[NG][NS], At[NS][NG], B[NG][NG];
+  apply_G(T, &P[0][0], NS, NS, &A[0][0]);
+  for (int r = 0; r < NG; r++)
+    for (int c = 0; c < NS; c++) At[c][r] = A[r][c];
+  apply_G(T, &At[0][0], NG, NG, &B[0][0]);
+  for (int r = 0; r < NG; r++) {
+    for (int c = r; c < NG; c++) {
+      double v = P[r][c] + A[r][c] + A[c][r] + B[r][c];
+      P[r][c] = v;
+      P[c][r] = v;
+    }
+    for (int c = NG; c < NS; c++) {
+      double v = P[r][c] + A[r][c];
+      P[r][c] = v;
+      P[c][r] = v;
+    }
+  }
   for (int r = 0; r < 3; r++) {
     P[IP + r][IP + r] += T->qp;
     P[IV + r][IV + r] += T->qv;
