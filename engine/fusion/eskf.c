@@ -886,10 +886,11 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
       double (*Pk)[NS] = Pblk[ii - b * B];
       /* Smoothed error and covariance at this sample. */
       double d[NS];
-      for (int r = 0; r < NS; r++) {
-        double acc = 0;
-        for (int c = 0; c < NS; c++) acc += Pk[r][c] * lam[c];
-        d[r] = -acc;
+      /* d = -P lambda as a sum of P's rows (P is exactly symmetric). */
+      memset(d, 0, sizeof d);
+      for (int k = 0; k < NS; k++) {
+        double lk = -lam[k];
+        for (int c = 0; c < NS; c++) d[c] += lk * Pk[k][c];
       }
       Nom xsm = xs[ii];
       inject(&xsm, d);
@@ -917,12 +918,16 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
             for (int k = 0; k < 3; k++) acc += -S[r][k] * Pk[IT + k][c] + R[r][k] * Pk[IL + k][c];
             JP[r][c] = acc;
           }
-        for (int r = 0; r < 3; r++)
+        /* X = JP L, accumulated over L's rows (contiguous, vectorisable). */
+        memset(X, 0, sizeof X);
+        for (int k = 0; k < NS; k++) {
+          double j0 = JP[0][k], j1 = JP[1][k], j2 = JP[2][k];
           for (int c = 0; c < NS; c++) {
-            double acc = 0;
-            for (int k = 0; k < NS; k++) acc += JP[r][k] * L[k][c];
-            X[r][c] = acc;
+            X[0][c] += j0 * L[k][c];
+            X[1][c] += j1 * L[k][c];
+            X[2][c] += j2 * L[k][c];
           }
+        }
         for (int r = 0; r < 3; r++) {
           double jpj = JP[r][IP + r];
           for (int k = 0; k < 3; k++) jpj += -S[r][k] * JP[r][IT + k] + R[r][k] * JP[r][IL + k];
