@@ -664,7 +664,7 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
       bool keep = (double)fres[k] <= s->gate_chi2;
       if (keep != (fstat[k] == FR_ACCEPTED)) changed++;
     }
-    if (changed == 0 && rep->gate_recoveries == 0 && clock_moved == 0) break;
+    if (changed == 0 && rep->gate_recoveries == 0) break;
     if (pass > 1 && (double)changed > 2.0 * (double)prev_changed + 1.0 / cam->dt_nom_s) break;
     prev_changed = changed;
     rep->clock_offset_s = clock_offset_in;
@@ -992,7 +992,8 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
    * the next pass starts from there with c = 0 (Gauss-Newton relinearisation, as in the
    * iterated Kalman smoother: B. M. Bell, "The iterated Kalman smoother as a Gauss-Newton
    * method", SIAM J. Optim. 4(3), 1994; here only the clock is relinearised and its prior
-   * recentred, a simplification). */
+   * recentred, a simplification). The move rides on a pass the frame selection makes anyway:
+   * forcing passes for it doubled the filter's cost on the bench swing for no clear gain. */
   clock_moved = 0;
   if (use_cam && pass + 1 < n_pass && fabs(c_mid) > 0.25 * imu->dt_nom_s && fabs(c_mid) < 0.5) {
     for (size_t i = 0; i < n; i++) tau[i] += c_mid;
