@@ -34,6 +34,7 @@ struct _ArcwiseLibraryNode {
   guint n_total;       /* swings under the node */
   guint n_match;       /* ... that the filters let through */
   guint n_sessions;    /* player: sessions */
+  gboolean name_match; /* player without swings: the search matches the name */
   GListStore *children;  /* player: ArcwiseLibraryNode sessions; session: ArcwiseSwingItem */
 };
 
@@ -161,7 +162,10 @@ static gboolean
 node_visible(gpointer item, gpointer data)
 {
   ArcwiseLibraryBrowser *self = data;
-  return !self->filtering || ARCWISE_LIBRARY_NODE(item)->n_match > 0;
+  ArcwiseLibraryNode *n = ARCWISE_LIBRARY_NODE(item);
+  /* A player with no swings yet (just added, nothing imported) has nothing a filter could
+   * pass: shown with no filter, or when the search names them. */
+  return !self->filtering || n->n_match > 0 || (n->n_total == 0 && n->name_match);
 }
 
 static gboolean
@@ -256,6 +260,10 @@ refilter(ArcwiseLibraryBrowser *self)
       g_object_unref(s);
     }
     node_set_match(p, pm);
+    if (p->n_total == 0) {
+      g_autofree char *name = g_utf8_casefold(p->name, -1);
+      p->name_match = f.needle != NULL && strstr(name, f.needle) != NULL;
+    }
     shown += pm;
     g_object_unref(p);
   }
@@ -967,6 +975,20 @@ arcwise_library_browser_reload(ArcwiseLibraryBrowser *self, GError **error)
     s->n_match++;
     p->n_total++;
     p->n_match++;
+  }
+  /* Players with no swings yet still have a row, with 0 counts, to edit or import into. */
+  g_autoptr(GPtrArray) all = self->source ? arcwise_library_source_list_players(self->source, NULL)
+                                          : NULL;
+  for (guint i = 0; all != NULL && i < all->len; i++) {
+    ArcwisePlayerRecord *r = g_ptr_array_index(all, i);
+    if (g_hash_table_lookup(pmap, &r->id) != NULL)
+      continue;
+    ArcwiseLibraryNode *p = node_new(NODE_PLAYER, r->id, r->name, NULL);
+    p->handed = r->handed < 0 ? -1 : 1;
+    g_object_set_data(G_OBJECT(p), "index", GUINT_TO_POINTER(player_sessions->len));
+    g_ptr_array_add(players, p);
+    g_ptr_array_add(player_sessions, g_ptr_array_new());
+    g_hash_table_insert(pmap, &p->id, p);
   }
   for (guint i = 0; i < sessions->len; i++) {
     ArcwiseLibraryNode *s = g_ptr_array_index(sessions, i);

@@ -29,3 +29,5 @@ void arcwise_library_store_import_async(ArcwiseLibrarySource *src, GFile **files
                                         ArcwiseLibraryProgress progress, gpointer progress_data,
                                         GAsyncReadyCallback callback, gpointer user_data);
 void arcwise_library_store_close(ArcwiseLibrarySource *src);
+GPtrArray *arcwise_library_store_list_players(ArcwiseLibrarySource *src, GError **error);
+void arcwise_player_record_free(gpointer p);

@@ -181,6 +181,25 @@ arcwise_library_store_list(ArcwiseLibrarySource *src, GError **error)
   return items;
 }
 
+GPtrArray *
+arcwise_library_store_list_players(ArcwiseLibrarySource *src, GError **error)
+{
+  g_autoptr(GPtrArray) players = arcwise_store_list_players(STORE(src), error);
+  if (players == NULL)
+    return NULL;
+  GPtrArray *out = g_ptr_array_new_with_free_func(arcwise_player_record_free);
+  for (guint i = 0; i < players->len; i++) {
+    ArcwisePlayer *p = g_ptr_array_index(players, i);
+    ArcwisePlayerRecord *r = g_new0(ArcwisePlayerRecord, 1);
+    r->id = p->id;
+    r->name = g_strdup(p->name);
+    r->handed = p->handedness == ARCWISE_HAND_LEFT ? -1 : 1;
+    r->height_m = p->height_m;
+    g_ptr_array_add(out, r);
+  }
+  return out;
+}
+
 gboolean
 arcwise_library_store_save_marks(ArcwiseLibrarySource *src, ArcwiseSwingItem *item, GError **error)
 {

@@ -16,6 +16,13 @@ arcwise_player_record_clear(ArcwisePlayerRecord *p)
   g_clear_pointer(&p->clubs, g_free);
 }
 
+void
+arcwise_player_record_free(gpointer p)
+{
+  arcwise_player_record_clear(p);
+  g_free(p);
+}
+
 /* ---- the invented demo library ------------------------------------------------------------ */
 
 typedef struct {
@@ -175,6 +182,23 @@ arcwise_library_source_list(ArcwiseLibrarySource *src, GError **error)
   if (src->kind == ARCWISE_SOURCE_STORE)
     return arcwise_library_store_list(src, error);
   return demo_list(src, error);
+}
+
+GPtrArray *
+arcwise_library_source_list_players(ArcwiseLibrarySource *src, GError **error)
+{
+  if (src->kind == ARCWISE_SOURCE_STORE)
+    return arcwise_library_store_list_players(src, error);
+  GPtrArray *out = g_ptr_array_new_with_free_func(arcwise_player_record_free);
+  for (guint i = 0; i < G_N_ELEMENTS(demo_players); i++) {
+    ArcwisePlayerRecord *r = g_new0(ArcwisePlayerRecord, 1);
+    r->id = (gint64)i + 1;
+    r->name = g_strdup(demo_players[i].name);
+    r->handed = demo_players[i].handed;
+    r->height_m = demo_players[i].height_m;
+    g_ptr_array_add(out, r);
+  }
+  return out;
 }
 
 const char *

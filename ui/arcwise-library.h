@@ -51,6 +51,9 @@ typedef struct {
 } ArcwisePlayerRecord;
 
 void arcwise_player_record_clear(ArcwisePlayerRecord *p);
+/* Every player of the library, with swings or not (a player just added has none yet), as
+ * ArcwisePlayerRecord * (id, name and handedness filled); the array frees its records. */
+GPtrArray *arcwise_library_source_list_players(ArcwiseLibrarySource *src, GError **error);
 gboolean arcwise_library_source_get_player(ArcwiseLibrarySource *src, gint64 id,
                                            ArcwisePlayerRecord *out, GError **error);
 gboolean arcwise_library_source_save_player(ArcwiseLibrarySource *src,

@@ -7,7 +7,8 @@ module and none of the program's code.
 Expected tree (ui/arcwise-library-browser.h): players by name; a player's sessions newest date
 first (then newest session id, the store's list order); a session's swings by recording and
 index. A filter shows a player or session only while some of its swings pass, and keeps open
-what the coach opened. Camera gaps are the analysis's quality-note bits AW_NOTE_TOP_HIDDEN (1)
+what the coach opened; every player of the file has a row, one with no swings too (0 counts,
+hidden while a filter is on unless the search matches the name). Camera gaps are the analysis's quality-note bits AW_NOTE_TOP_HIDDEN (1)
 and AW_NOTE_FOLLOW_HIDDEN (2) (engine/include/arcwise/analysis.h: the camera lost the hands
 around the top or in the follow-through), stored as the metric "quality_notes"; practice
 swings are the metric "practice" = 1 (app/store.h).
@@ -47,8 +48,13 @@ check(others == 0, "the tag appears in no name, place or note")
 # The test renames the first player at its end (NAME -> "NAME (edited)"); earlier steps
 # showed the old name.
 EDITED = " (edited)"
-players = sorted({(s["pname"][:-len(EDITED)] if s["pname"].endswith(EDITED) else s["pname"],
-                   s["player"]) for s in swings.values()})
+# Every player of the file has a row, those with no swings too (0 counts): the test adds one.
+players = sorted((name[:-len(EDITED)] if name.endswith(EDITED) else name, pid)
+                 for pid, name in db.execute("SELECT id, name FROM player"))
+empty = [pid for pid, in db.execute(
+    "SELECT p.id FROM player p WHERE NOT EXISTS (SELECT 1 FROM session se JOIN swing s "
+    "ON s.session_id = se.id WHERE se.player_id = p.id)")]
+check(len(empty) > 0, "the test library has a player with no swings (%d)" % len(empty))
 player_ids = [p for _, p in players]
 sessions_of = {}
 for pid in player_ids:
@@ -78,6 +84,8 @@ def expected(open_p, open_s, f=None):
     for p in player_ids:
         pw = [w for se in sessions_of[p] for w in swings_of[se]]
         pm = [w for w in pw if f is None or f(swings[w], w)]
+        # A filter hides a player none of whose swings pass; one with no swings at all is
+        # hidden by any filter (the search step's tag is in no player's name, checked above).
         if f is not None and not pm:
             continue
         rows.append(("P", p, len(pm), len(pw)))

@@ -21,6 +21,8 @@ for id in $ids; do
   "$exe" library annotate "$id" --tags towel-drill,tempo --rating 4 --library "$lib" >/dev/null || exit 1
 done
 first=${ids%% *}
+# A player just added, with nothing imported yet (invented name; sorts after the demo's).
+"$exe" library add-player "Zara Quint" --library "$lib" >/dev/null || exit 1
 "$exe" library annotate "$first" --reference yes --library "$lib" >/dev/null || exit 1
 mkdir "$out/run"
 GSETTINGS_SCHEMA_DIR=$schemas GSETTINGS_BACKEND=memory ARCWISE_LIBRARY_TEST_DIR="$out/run" \
