@@ -239,11 +239,28 @@ arcwise_application_handle_local_options(GApplication *gapp, GVariantDict *optio
   return -1;
 }
 
+/* The studio's dark style from the first theme parse. GTK 4.8 makes one GtkSettings per
+ * display when the display opens (inside gtk_init) and parses the theme there, from each
+ * property's default, then the settings.ini files; asking for dark afterwards parses the whole
+ * theme a second time (about 80 M instructions, callgrind). So before gtk_init the default of
+ * gtk-application-prefer-dark-theme becomes TRUE (a public field of GParamSpecBoolean). A
+ * user's GTK_THEME still wins (GTK reads it first) and a settings.ini still sets the value. */
+static void
+start_dark(void)
+{
+  GObjectClass *klass = g_type_class_ref(GTK_TYPE_SETTINGS);
+  GParamSpec *p = g_object_class_find_property(klass, "gtk-application-prefer-dark-theme");
+  if (p != NULL && G_IS_PARAM_SPEC_BOOLEAN(p))
+    G_PARAM_SPEC_BOOLEAN(p)->default_value = TRUE;
+  g_type_class_unref(klass);
+}
+
 static void
 arcwise_application_startup(GApplication *gapp)
 {
   ArcwiseApplication *app = ARCWISE_APPLICATION(gapp);
   launch_mark(app, "startup");
+  start_dark();
   G_APPLICATION_CLASS(arcwise_application_parent_class)->startup(gapp);
   launch_mark(app, "gtk-initialised");
 
@@ -251,7 +268,13 @@ arcwise_application_startup(GApplication *gapp)
   gtk_css_provider_load_from_resource(css, "/org/arcwise/Workbench/style.css");
   gtk_style_context_add_provider_for_display(gdk_display_get_default(), GTK_STYLE_PROVIDER(css),
                                              GTK_STYLE_PROVIDER_PRIORITY_APPLICATION);
-  g_object_set(gtk_settings_get_default(), "gtk-application-prefer-dark-theme", TRUE, NULL);
+  /* Set only if still light (a settings.ini said so): GTK parses the theme again on every
+   * change notice, even to the same value. */
+  GtkSettings *gs = gtk_settings_get_default();
+  gboolean dark = FALSE;
+  g_object_get(gs, "gtk-application-prefer-dark-theme", &dark, NULL);
+  if (!dark)
+    g_object_set(gs, "gtk-application-prefer-dark-theme", TRUE, NULL);
 
   app->settings = open_settings();
   g_action_map_add_action_entries(G_ACTION_MAP(app), app_entries, G_N_ELEMENTS(app_entries), app);
