@@ -268,6 +268,42 @@ find_contact(const AwAnWork *w, size_t i_lo, size_t i_hi, size_t r_lo, size_t r_
   return ok;
 }
 
+/* The watch at rest at sample i, from its own readings: turning slower than a hand held
+ * still can (still_speed_m_s at the end of a lead arm of about 0.6 m: 0.25 rad/s; a consumer
+ * gyro's bias of a few deg/s is far below that, REFERENCES.md §8), and the specific force
+ * within the change a still hand allows of its value one still_min_s later (a hand that stays
+ * below still_speed_m_s for still_min_s averages under still_speed_m_s / still_min_s of
+ * acceleration; twice that, 1.2 m/s^2 by default, leaves room for noise). */
+static bool
+imu_still_at(const AwAnWork *w, size_t i)
+{
+  const AwAnalysisSettings *set = w->set;
+  const double (*g)[3] = w->traj->gyro_body_rad_s, (*a)[3] = w->traj->accel_body_m_s2;
+  if (g == NULL || a == NULL || i >= w->n)
+    return false;
+  double rate_max = set->still_speed_m_s / 0.6;
+  double df_max = 2.0 * set->still_speed_m_s / fmax(set->still_min_s, 0.05);
+  size_t j = aw_an_index_at(w->traj->t_s, w->n, w->traj->t_s[i] + set->still_min_s);
+  double d[3];
+  aw_v3_sub(d, a[j], a[i]);
+  return aw_v3_norm(g[i]) < rate_max && aw_v3_norm(d) < df_max;
+}
+
+/* The watch at rest over still_min_s from sample i on (every sample of that stretch). */
+static bool
+imu_still_from(const AwAnWork *w, size_t i)
+{
+  const double *t = w->traj->t_s;
+  if (w->traj->gyro_body_rad_s == NULL || w->traj->accel_body_m_s2 == NULL)
+    return false;
+  if (t[w->n - 1] - t[i] < 2.0 * w->set->still_min_s)
+    return false;
+  for (size_t k = i; k < w->n && t[k] - t[i] <= w->set->still_min_s; k++)
+    if (!imu_still_at(w, k))
+      return false;
+  return true;
+}
+
 /* Tries to build a swing around the downswing speed peak at ipk. */
 static CandResult
 try_swing(const AwAnWork *w, size_t ipk, AwSwing *s, size_t *next_i)
@@ -442,14 +478,25 @@ try_swing(const AwAnWork *w, size_t ipk, AwSwing *s, size_t *next_i)
         t_take = t0;
     }
   }
-  /* Top height and minimal rise. */
-  double rise = -INFINITY;
+  /* Top height and reach. The hands' straight-line distance from address (reach) needs no
+   * direction of gravity: a waggle moves the hands a few cm while the club head swings, a
+   * fiddle with the watch stays near the body and far below swing speed, and any swing takes
+   * the hands at least min_top_rise_m away (a lead arm of about 0.6 m turned by 20 degrees
+   * already moves them 0.2 m). The top must also lie above address, by at least half that
+   * distance: a gravity direction off by up to 14 degrees (asin(0.1 / 0.4) for a half swing's
+   * 0.4 m reach) then still passes, where judging the height alone would drop a half swing
+   * on the first few degrees of tilt. Walking carries the hands level. */
+  double rise = -INFINITY, reach = 0;
   for (size_t k = k_on; k <= ipk; k++) {
     double h = height_above(w, k, p0);
     if (h > rise)
       rise = h;
+    double r = aw_v3_dist(w->traj->pos_m[k], p0);
+    if (r > reach)
+      reach = r;
   }
-  if (rise < set->min_top_rise_m || vpk < set->min_peak_speed_m_s)
+  if (reach < set->min_top_rise_m || rise < 0.5 * set->min_top_rise_m ||
+      vpk < set->min_peak_speed_m_s)
     return CAND_NOT_SWING;
 
   /* Top time: the hands reverse. The extreme of the position along the backswing's direction
@@ -526,13 +573,20 @@ try_swing(const AwAnWork *w, size_t ipk, AwSwing *s, size_t *next_i)
   if (iimp + 1 >= n)
     return CAND_CUT_END;
 
-  /* Finish: after the follow-through the hands come to rest. */
+  /* Finish: after the follow-through the hands come to rest, on the path or in the watch's
+   * own readings (a fused path that has lost the camera can drift on at a few tenths of m/s
+   * through a held finish, while the watch says plainly that it is still). */
   size_t ifin = iimp;
-  bool rest = false;
+  bool rest = false, rest_imu = false;
   for (size_t k = iimp; k < n; k++) {
     if (t[k] - t_imp_path > 0.15 && sp[k] < set->still_speed_m_s) {
       ifin = k;
       rest = true;
+      break;
+    }
+    if (t[k] - t_imp_path > 0.15 && imu_still_from(w, k)) {
+      ifin = k;
+      rest = rest_imu = true;
       break;
     }
     if (t[k] - t_imp_path > 4.0)
@@ -551,11 +605,12 @@ try_swing(const AwAnWork *w, size_t ipk, AwSwing *s, size_t *next_i)
       }
   }
   double t_fin = ifin > 0 ? cross_time(t, sp, ifin - 1, set->still_speed_m_s) : t[ifin];
-  if (!rest)
+  if (!rest || rest_imu)
     t_fin = t[ifin];
   /* End of the held finish: until the hands move again, at most 2 s. */
   size_t iend = ifin;
-  while (iend + 1 < n && sp[iend + 1] < set->still_speed_m_s && t[iend + 1] - t_fin <= 2.0)
+  while (iend + 1 < n && t[iend + 1] - t_fin <= 2.0 &&
+         (rest_imu ? imu_still_at(w, iend + 1) : sp[iend + 1] < set->still_speed_m_s))
     iend++;
 
   /* Contact: search the accelerometer near the path estimate, through the downswing. */

@@ -141,7 +141,7 @@ aw_analysis_settings_default(AwAnalysisSettings *out)
   /* A full swing brings the lead hand to about shoulder height: some 0.6 m or more above the
    * hands at address for an adult; a half swing (hands to chest height) stays lower. */
   out->full_top_rise_m = 0.55;
-  /* Hands less than 0.2 m above address are a waggle or a fiddle, not a swing. */
+  /* Hands less than 0.2 m from address at the top are a waggle or a fiddle, not a swing. */
   out->min_top_rise_m = 0.20;
   /* Walking moves the hands at 1-2 m/s; a practice half swing still reaches 2.5 m/s or more. */
   out->min_peak_speed_m_s = 2.5;

@@ -117,7 +117,8 @@ typedef struct {
   double still_speed_m_s;        /* hands counted still below this speed */
   double still_min_s;            /* a still set-up / finish lasts at least this long */
   double full_top_rise_m;        /* top at least this far above address: a full swing */
-  double min_top_rise_m;         /* a swing's top rises at least this far, else not a swing */
+  double min_top_rise_m;         /* a swing's hands reach at least this far from address (and
+                                    rise above it by at least half that), else not a swing */
   double min_peak_speed_m_s;     /* a swing's downswing reaches at least this hand speed */
   double impact_snr;             /* accelerometer transient / local noise needed for contact */
   double contact_min_loss;       /* a contact transient is a velocity change of at least this
