@@ -51,6 +51,11 @@ guint arcwise_library_browser_get_n_matching(ArcwiseLibraryBrowser *self);
  * 0 closes every row) and then that player's session `session` (1-based; 0 none); returns the
  * number of swing rows then shown. */
 guint arcwise_library_browser_open(ArcwiseLibraryBrowser *self, guint player, guint session);
+/* For the scripted tests: selects the row at `pos` (0-based, among the rows shown). */
+void arcwise_library_browser_select_row(ArcwiseLibraryBrowser *self, guint pos);
+/* The player an import goes into: the player of the selected row (a player row itself, a
+ * session's player, a swing's player), NULL when no row is selected. Borrowed. */
+const char *arcwise_library_browser_get_import_player(ArcwiseLibraryBrowser *self);
 /* Sets a filter as a coach would with the controls: "search" (text), "club" (a club kind, or
  * "" for any), "rating" (index of the rating choice), "kind" (0 any, 1 struck, 2 practice),
  * "data" (0 any, 1 camera gaps, 2 quality notes, 3 no notes), "reference" and "tagged" ("1" on).
