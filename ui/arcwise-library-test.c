@@ -13,15 +13,16 @@ typedef struct {
 } LibTest;
 
 gboolean
-arcwise_window_save_png(GtkWidget *win, const char *path, GError **error)
+arcwise_widget_save_png(GtkWidget *widget, const char *path, GError **error)
 {
-  int w = gtk_widget_get_width(win), h = gtk_widget_get_height(win);
-  GdkPaintable *p = gtk_widget_paintable_new(win);
+  int w = gtk_widget_get_width(widget), h = gtk_widget_get_height(widget);
+  GdkPaintable *p = gtk_widget_paintable_new(widget);
   GtkSnapshot *snap = gtk_snapshot_new();
   gdk_paintable_snapshot(p, GDK_SNAPSHOT(snap), w, h);
   GskRenderNode *node = gtk_snapshot_free_to_node(snap);
   g_object_unref(p);
-  GskRenderer *r = gtk_native_get_renderer(GTK_NATIVE(win));
+  GtkNative *native = gtk_widget_get_native(widget);
+  GskRenderer *r = native ? gtk_native_get_renderer(native) : NULL;
   if (node == NULL || r == NULL) {
     g_set_error(error, G_IO_ERROR, G_IO_ERROR_FAILED, "nothing drawn yet");
     g_clear_pointer(&node, gsk_render_node_unref);
@@ -61,7 +62,7 @@ picture_then_next(gpointer data)
   LibTest *t = data;
   g_autofree char *path = g_strdup_printf("%s/step%d.png", t->dir, t->step);
   g_autoptr(GError) error = NULL;
-  if (!arcwise_window_save_png(GTK_WIDGET(t->win), path, &error))
+  if (!arcwise_widget_save_png(GTK_WIDGET(t->win), path, &error))
     g_string_append_printf(t->report, "png_error=%s\n", error->message);
   next_step(t);
 }

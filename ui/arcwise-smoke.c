@@ -1,6 +1,7 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
 /* The scripted smoke session (see arcwise-smoke.h). */
 #include "arcwise-smoke.h"
+#include "arcwise-library-test.h"
 
 #include <math.h>
 #include <string.h>
@@ -68,22 +69,12 @@ static void
 snap_window(Smoke *s, const char *name)
 {
   GtkWidget *w = GTK_WIDGET(s->win);
-  int width = gtk_widget_get_width(w), height = gtk_widget_get_height(w);
-  GdkPaintable *p = gtk_widget_paintable_new(w);
-  GtkSnapshot *snapshot = gtk_snapshot_new();
-  gdk_paintable_snapshot(p, GDK_SNAPSHOT(snapshot), width, height);
-  GskRenderNode *node = gtk_snapshot_free_to_node(snapshot);
-  g_object_unref(p);
-  if (node == NULL)
-    return;
-  GskRenderer *r = gtk_native_get_renderer(GTK_NATIVE(w));
-  GdkTexture *tex = gsk_renderer_render_texture(r, node, &GRAPHENE_RECT_INIT(0, 0, width, height));
   g_autofree char *path = g_strdup_printf("%s/win-%s.png", s->dir, name);
-  if (!gdk_texture_save_to_png(tex, path))
-    g_printerr("smoke: cannot write %s\n", path);
-  g_string_append_printf(s->report, "window=%s %d %d\n", name, width, height);
-  g_object_unref(tex);
-  gsk_render_node_unref(node);
+  g_autoptr(GError) error = NULL;
+  if (!arcwise_widget_save_png(w, path, &error))
+    g_printerr("smoke: %s\n", error->message);
+  g_string_append_printf(s->report, "window=%s %d %d\n", name, gtk_widget_get_width(w),
+                         gtk_widget_get_height(w));
 }
 
 static void
@@ -343,21 +334,10 @@ dump_numbers(Smoke *s, const char *tag)
 static void
 snap_widget(Smoke *s, GtkWidget *w, const char *name)
 {
-  int width = gtk_widget_get_width(w), height = gtk_widget_get_height(w);
-  GdkPaintable *p = gtk_widget_paintable_new(w);
-  GtkSnapshot *snapshot = gtk_snapshot_new();
-  gdk_paintable_snapshot(p, GDK_SNAPSHOT(snapshot), width, height);
-  GskRenderNode *node = gtk_snapshot_free_to_node(snapshot);
-  g_object_unref(p);
-  if (node == NULL)
-    return;
-  GskRenderer *r = gtk_native_get_renderer(GTK_NATIVE(s->win));
-  GdkTexture *tex = gsk_renderer_render_texture(r, node, &GRAPHENE_RECT_INIT(0, 0, width, height));
   g_autofree char *path = g_strdup_printf("%s/%s.png", s->dir, name);
-  if (!gdk_texture_save_to_png(tex, path))
-    g_printerr("smoke: cannot write %s\n", path);
-  g_object_unref(tex);
-  gsk_render_node_unref(node);
+  g_autoptr(GError) error = NULL;
+  if (!arcwise_widget_save_png(w, path, &error))
+    g_printerr("smoke: %s\n", error->message);
 }
 
 static void
