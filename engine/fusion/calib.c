@@ -95,20 +95,29 @@ horn_fast(const double N[4][4], const double B[3][3], double *lambda, double q[4
   return true;
 }
 
-void
-aw_fusion_wahba(double B[3][3], double q[4])
+/* B. K. P. Horn, "Closed-form solution of absolute orientation using unit quaternions",
+ * J. Opt. Soc. Am. A 4(4):629-642 (1987): the symmetric 4x4 matrix N built from S = sum b a^T,
+ * whose eigenvector of the largest eigenvalue is the best rotation's quaternion. */
+static void
+horn_matrix(const double B[3][3], double N[4][4])
 {
-  /* B. K. P. Horn, "Closed-form solution of absolute orientation using unit quaternions",
-   * J. Opt. Soc. Am. A 4(4):629-642 (1987), eq. for N with S = sum b a^T. */
   double Sxx = B[0][0], Sxy = B[0][1], Sxz = B[0][2];
   double Syx = B[1][0], Syy = B[1][1], Syz = B[1][2];
   double Szx = B[2][0], Szy = B[2][1], Szz = B[2][2];
-  double N[4][4] = {
+  const double M[4][4] = {
     { Sxx + Syy + Szz, Syz - Szy, Szx - Sxz, Sxy - Syx },
     { Syz - Szy, Sxx - Syy - Szz, Sxy + Syx, Szx + Sxz },
     { Szx - Sxz, Sxy + Syx, -Sxx + Syy - Szz, Syz + Szy },
     { Sxy - Syx, Szx + Sxz, Syz + Szy, -Sxx - Syy + Szz },
   };
+  memcpy(N, M, sizeof M);
+}
+
+void
+aw_fusion_wahba(double B[3][3], double q[4])
+{
+  double N[4][4];
+  horn_matrix((const double (*)[3])B, N);
   double lam;
   if (!horn_fast((const double (*)[4])N, (const double (*)[3])B, &lam, q)) eig4_max(N, q);
   if (q[0] < 0) for (int k = 0; k < 4; k++) q[k] = -q[k];
@@ -457,15 +466,8 @@ rot_fit(const double (*F)[3], const double (*A)[3], const unsigned char *use, si
     ac[r] = sa[r] / n;
     for (int c = 0; c < 3; c++) B[r][c] -= sf[r] * sa[c] / n;
   }
-  double Sxx = B[0][0], Sxy = B[0][1], Sxz = B[0][2];
-  double Syx = B[1][0], Syy = B[1][1], Syz = B[1][2];
-  double Szx = B[2][0], Szy = B[2][1], Szz = B[2][2];
-  double N[4][4] = {
-    { Sxx + Syy + Szz, Syz - Szy, Szx - Sxz, Sxy - Syx },
-    { Syz - Szy, Sxx - Syy - Szz, Sxy + Syx, Szx + Sxz },
-    { Szx - Sxz, Sxy + Syx, -Sxx + Syy - Szz, Syz + Szy },
-    { Sxy - Syx, Szx + Sxz, Syz + Szy, -Sxx - Syy + Szz },
-  };
+  double N[4][4];
+  horn_matrix((const double (*)[3])B, N);
   double lam;
   if (!horn_fast((const double (*)[4])N, (const double (*)[3])B, &lam, q)) {
     aw_fusion_wahba(B, q);
