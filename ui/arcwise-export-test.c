@@ -5,6 +5,7 @@
 #include <glib/gstdio.h>
 
 #include "arcwise-export.h"
+#include "arcwise-test-script.h"
 
 typedef struct {
   ArcwiseWindow *win;
@@ -50,14 +51,9 @@ static void
 finish(ExportTest *t)
 {
   g_autofree char *path = target(t, "export-report.txt");
-  g_autoptr(GError) error = NULL;
-  if (!g_file_set_contents(path, t->report->str, -1, &error))
-    g_printerr("export test: %s\n", error->message);
-  GApplication *app = G_APPLICATION(gtk_window_get_application(GTK_WINDOW(t->win)));
-  g_string_free(t->report, TRUE);
+  arcwise_test_finish(t->win, path, t->report, "export test");
   g_free(t->dir);
   g_free(t);
-  g_application_quit(app);
 }
 
 /* With a stored library (ARCWISE_EXPORT_TEST_STORE=1): numbers and the report through the
@@ -65,16 +61,11 @@ finish(ExportTest *t)
 /* Both scripts start the same way: wait for the stage's first frame (or its error text),
  * answer the first-run caution, select the first swing. FALSE while the stage is not ready. */
 static gboolean
-ready_first_swing(ExportTest *t, ArcwiseStage *stage)
+ready_first_swing(ExportTest *t)
 {
-  if (arcwise_stage_get_frames(stage) == 0 && arcwise_stage_get_error_text(stage) == NULL)
+  if (!arcwise_test_stage_ready(t->win))
     return FALSE;
-  if (t->caution != NULL) {
-    GtkWidget *def = gtk_window_get_default_widget(t->caution);
-    if (def != NULL)
-      g_signal_emit_by_name(def, "clicked");
-    t->caution = NULL;
-  }
+  arcwise_test_answer_caution(&t->caution);
   arcwise_window_select_index(t->win, 0);
   return TRUE;
 }
@@ -84,7 +75,6 @@ tick_store(gpointer data)
 {
   ExportTest *t = data;
   ArcwiseExporter *ex = arcwise_window_get_exporter(t->win);
-  ArcwiseStage *stage = arcwise_window_get_stage(t->win);
   if (t->step > 0 && g_get_monotonic_time() - t->step_started_us > 120 * G_USEC_PER_SEC) {
     g_string_append_printf(t->report, "timeout_step=%d\n", t->step);
     finish(t);
@@ -95,7 +85,7 @@ tick_store(gpointer data)
   g_autofree char *p = NULL;
   switch (t->step) {
   case 0:
-    if (!ready_first_swing(t, stage))
+    if (!ready_first_swing(t))
       return G_SOURCE_CONTINUE;
     p = target(t, "session.csv");
     act(t, "win.export-numbers", g_variant_new("(sss)", "csv", "session", p));
@@ -133,7 +123,6 @@ tick(gpointer data)
 {
   ExportTest *t = data;
   ArcwiseExporter *ex = arcwise_window_get_exporter(t->win);
-  ArcwiseStage *stage = arcwise_window_get_stage(t->win);
   /* However slow the machine (sanitizers, software GL): give up after two minutes a step. */
   if (t->step > 0 && g_get_monotonic_time() - t->step_started_us > 120 * G_USEC_PER_SEC) {
     g_string_append_printf(t->report, "timeout_step=%d\n", t->step);
@@ -142,7 +131,7 @@ tick(gpointer data)
   }
   switch (t->step) {
   case 0:
-    if (!ready_first_swing(t, stage))
+    if (!ready_first_swing(t))
       return G_SOURCE_CONTINUE;
     act(t, "win.export-still-size", g_variant_new_string("640x360"));
     export_to(t, "win.export-still", "still.png");

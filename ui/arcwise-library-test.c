@@ -1,6 +1,7 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
 /* The scripted library browser session (see arcwise-library-test.h). */
 #include "arcwise-library-test.h"
+#include "arcwise-test-script.h"
 
 #include "arcwise-library-browser.h"
 
@@ -77,14 +78,9 @@ static void
 finish(LibTest *t)
 {
   g_autofree char *path = g_strdup_printf("%s/library-report.txt", t->dir);
-  g_autoptr(GError) error = NULL;
-  if (!g_file_set_contents(path, t->report->str, -1, &error))
-    g_printerr("library test: %s\n", error->message);
-  GApplication *app = G_APPLICATION(gtk_window_get_application(GTK_WINDOW(t->win)));
-  g_string_free(t->report, TRUE);
+  arcwise_test_finish(t->win, path, t->report, "library test");
   g_free(t->dir);
   g_free(t);
-  g_application_quit(app);
 }
 
 static void
@@ -95,12 +91,7 @@ next_step(LibTest *t)
   const char *search = g_getenv("ARCWISE_LIBRARY_TEST_SEARCH");
   switch (t->step++) {
   case 0:
-    if (t->caution != NULL) {
-      GtkWidget *def = gtk_window_get_default_widget(t->caution);
-      if (def != NULL)
-        g_signal_emit_by_name(def, "clicked");
-      t->caution = NULL;
-    }
+    arcwise_test_answer_caution(&t->caution);
     rows(t, "start");
     g_string_append_printf(t->report, "closed_swing_rows=%u\n",
                            arcwise_library_browser_open(b, 0, 0));
@@ -213,8 +204,7 @@ static gboolean
 wait_first_frame(gpointer data)
 {
   LibTest *t = data;
-  ArcwiseStage *stage = arcwise_window_get_stage(t->win);
-  if (arcwise_stage_get_frames(stage) == 0 && arcwise_stage_get_error_text(stage) == NULL)
+  if (!arcwise_test_stage_ready(t->win))
     return G_SOURCE_CONTINUE;
   next_step(t);
   return G_SOURCE_REMOVE;

@@ -2,6 +2,7 @@
 /* The scripted smoke session (see arcwise-smoke.h). */
 #include "arcwise-smoke.h"
 #include "arcwise-library-test.h"
+#include "arcwise-test-script.h"
 
 #include <math.h>
 #include <string.h>
@@ -88,15 +89,10 @@ static void
 finish(Smoke *s)
 {
   g_autofree char *path = g_strdup_printf("%s/report.txt", s->dir);
-  g_autoptr(GError) error = NULL;
-  if (!g_file_set_contents(path, s->report->str, -1, &error))
-    g_printerr("smoke: %s\n", error->message);
-  GApplication *app = G_APPLICATION(gtk_window_get_application(GTK_WINDOW(s->win)));
-  g_string_free(s->report, TRUE);
+  arcwise_test_finish(s->win, path, s->report, "smoke");
   g_free(s->pending);
   g_free(s->dir);
   g_free(s);
-  g_application_quit(app);
 }
 
 static gboolean
@@ -151,13 +147,7 @@ next_step(Smoke *s)
   case 0:
     g_string_append_printf(s->report, "caution_shown=%d\n", s->caution != NULL &&
                            gtk_widget_get_visible(GTK_WIDGET(s->caution)));
-    if (s->caution != NULL) {
-      /* Press the caution's button as a user would. */
-      GtkWidget *def = gtk_window_get_default_widget(s->caution);
-      if (def != NULL)
-        g_signal_emit_by_name(def, "clicked");
-      s->caution = NULL;
-    }
+    arcwise_test_answer_caution(&s->caution);
     g_string_append_printf(s->report, "swings=%u\n", arcwise_window_get_n_visible(s->win));
     /* The library tree: the first player open (sessions only), then that player's first
      * session open too (its swings), then every row closed; swing rows shown each time. */
@@ -347,12 +337,7 @@ store_step(Smoke *s)
   switch (s->step++) {
   case 0:
     g_string_append_printf(s->report, "caution_shown=%d\nswings=%u\n", s->caution != NULL, n);
-    if (s->caution != NULL) {
-      GtkWidget *def = gtk_window_get_default_widget(s->caution);
-      if (def != NULL)
-        g_signal_emit_by_name(def, "clicked");
-      s->caution = NULL;
-    }
+    arcwise_test_answer_caution(&s->caution);
     act(s, "app.units", g_variant_new_string("metric"));
     s->swing = 0;
     G_GNUC_FALLTHROUGH;
@@ -425,8 +410,7 @@ static gboolean
 wait_first_frame(gpointer data)
 {
   Smoke *s = data;
-  ArcwiseStage *stage = arcwise_window_get_stage(s->win);
-  if (arcwise_stage_get_frames(stage) == 0 && arcwise_stage_get_error_text(stage) == NULL)
+  if (!arcwise_test_stage_ready(s->win))
     return G_SOURCE_CONTINUE;
   if (s->store)
     store_step(s);
