@@ -8,6 +8,7 @@
  * Goals (issue 6): open + list <= 100 ms, filter <= 20 ms. */
 #include "arcwise-config.h"
 #include "cli.h"
+#include "bench-score.h"
 #include "store-private.h"
 
 #include "arcwise/sim.h"
@@ -34,20 +35,6 @@ cpu_ms(void)
   struct timespec ts;
   clock_gettime(CLOCK_THREAD_CPUTIME_ID, &ts);
   return (double)ts.tv_sec * 1e3 + (double)ts.tv_nsec * 1e-6;
-}
-
-static int
-cmp_double(const void *a, const void *b)
-{
-  double x = *(const double *)a, y = *(const double *)b;
-  return x < y ? -1 : x > y;
-}
-
-static double
-median(double *v, int n)
-{
-  qsort(v, (size_t)n, sizeof *v, cmp_double);
-  return n % 2 ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
 }
 
 static gboolean
@@ -288,7 +275,8 @@ arcwise_bench_library(int argc, char **argv)
   printf("machine load average %.1f on %u cores: wall times include other programs, CPU times "
          "do not\n", load[0], g_get_num_processors());
   printf("open + list all %u swings: median %.1f ms wall, %.1f ms CPU (first %.1f ms wall)   "
-         "[goal <= 100 ms]\n", listed, median(v, 7), median(c, 7), first_open);
+         "[goal <= 100 ms]\n", listed, arcwise_bench_quantile(v, 7, 0.5),
+         arcwise_bench_quantile(c, 7, 0.5), first_open);
 
   /* 4. Filters on the open library. */
   struct { const char *what; ArcwiseSwingFilter f; } fl[6];
@@ -325,7 +313,7 @@ arcwise_bench_library(int argc, char **argv)
       if (got != NULL)
         g_ptr_array_unref(got);
     }
-    double m = median(v, 7), mc = median(c, 7);
+    double m = arcwise_bench_quantile(v, 7, 0.5), mc = arcwise_bench_quantile(c, 7, 0.5);
     worst = MAX(worst, m);
     worst_cpu = MAX(worst_cpu, mc);
     printf("filter %-30s %6u swings  median %.2f ms wall, %.2f ms CPU\n", fl[k].what, n, m, mc);

@@ -4,6 +4,7 @@
  * markers on; and `arcwise bench launch`: time from starting the workbench to its first drawn
  * 3-D frame. Figures only: goals are read by people, never asserted in tests. */
 #include "cli.h"
+#include "bench-score.h"
 
 #include <epoxy/gl.h>
 #include <glib.h>
@@ -137,20 +138,6 @@ arcwise_bench_render(int argc, char **argv)
   return 0;
 }
 
-static int
-cmp_double(const void *a, const void *b)
-{
-  double x = *(const double *)a, y = *(const double *)b;
-  return x < y ? -1 : x > y;
-}
-
-static double
-median_of(double *v, int n)
-{
-  qsort(v, (size_t)n, sizeof *v, cmp_double);
-  return n % 2 ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
-}
-
 static void
 print_load(const char *what)
 {
@@ -272,9 +259,9 @@ arcwise_bench_launch(int argc, char **argv)
                                                   : "everyday (caution acknowledged before)");
   printf("runs                  %d\n", runs);
   printf("launch-to-drawn-best  %.3f s\n", best);
-  printf("launch-to-drawn-median %.3f s\n", median_of(wall, runs));
+  printf("launch-to-drawn-median %.3f s\n", arcwise_bench_quantile(wall, (size_t)runs, 0.5));
   printf("launch-cpu-best       %.3f s\n", best_cpu);
-  printf("launch-cpu-median     %.3f s\n", median_of(cpu, runs));
+  printf("launch-cpu-median     %.3f s\n", arcwise_bench_quantile(cpu, (size_t)runs, 0.5));
   printf("goal                  under 1 s (best): %s\n", best < 1.0 ? "met" : "NOT met");
   return 0;
 }
