@@ -20,20 +20,7 @@ arcwise_out_refuse(const char *path, bool force, char *err, size_t err_size)
 char *
 arcwise_out_tmp_path(const char *path)
 {
-  /* Same directory, so the rename is atomic; the suffix keeps the extension last for tools
-   * that pick a format from it. */
-  const char *slash = strrchr(path, '/');
-  size_t dir_len = slash ? (size_t)(slash - path) + 1 : 0;
-  const char *base = path + dir_len;
-  const char *dot = strrchr(base, '.');
-  const char *ext = dot ? dot : "";
-  size_t n = strlen(path) + 48;
-  char *t = malloc(n);
-  if (t == NULL)
-    return NULL;
-  snprintf(t, n, "%.*s.%.*s.part-%ld%s", (int)dir_len, path, (int)(strlen(base) - strlen(ext)),
-           base, (long)getpid(), ext);
-  return t;
+  return arcwise_out_tmp_path_pid(path, (long)getpid());
 }
 
 bool

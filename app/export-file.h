@@ -8,6 +8,8 @@
 #include <stdbool.h>
 #include <stddef.h>
 #include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
 
 typedef struct {
   char *path;   /* target */
@@ -32,6 +34,27 @@ bool arcwise_out_refuse(const char *path, bool force, char *err, size_t err_size
 /* A temporary path beside `path` (malloc'd; the caller unlinks and frees it), for encoders that
  * open files themselves (libavformat, cairo). */
 char *arcwise_out_tmp_path(const char *path);
+
+/* The temporary path process `pid` uses for `path`: ".NAME.part-PID.EXT" in the same directory
+ * (so the rename is atomic; the extension stays last for tools that pick a format from it).
+ * malloc'd, NULL when out of memory. Inline so that the workbench, which runs the exporters as
+ * child processes and removes a killed child's file, names it without linking the exporters. */
+static inline char *
+arcwise_out_tmp_path_pid(const char *path, long pid)
+{
+  const char *slash = strrchr(path, '/');
+  size_t dir_len = slash ? (size_t)(slash - path) + 1 : 0;
+  const char *base = path + dir_len;
+  const char *dot = strrchr(base, '.');
+  const char *ext = dot ? dot : "";
+  size_t n = strlen(path) + 48;
+  char *t = malloc(n);
+  if (t == NULL)
+    return NULL;
+  snprintf(t, n, "%.*s.%.*s.part-%ld%s", (int)dir_len, path, (int)(strlen(base) - strlen(ext)),
+           base, pid, ext);
+  return t;
+}
 
 /* Renames tmp onto path, re-checking `force` first; removes tmp on failure. */
 bool arcwise_out_rename(const char *tmp, const char *path, bool force, char *err,

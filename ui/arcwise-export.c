@@ -4,11 +4,13 @@
 
 #include <errno.h>
 #include <math.h>
+#include <stdlib.h>
 #include <stdatomic.h>
 #include <string.h>
 
 #include <glib/gstdio.h>
 
+#include "export-file.h"
 #include "export-scene-models.h"
 
 typedef struct _Job Job;
@@ -239,16 +241,11 @@ child_start(Job *j, GError **error)
   g_ptr_array_unref(argv);
   if (j->proc == NULL)
     return FALSE;
-  /* The exporters write beside the target as ".NAME.part-PID.EXT" (export-file.c). */
+  /* The exporters write beside the target under the name export-file.h gives. */
   const char *pid = g_subprocess_get_identifier(j->proc);
-  g_autofree char *dir = g_path_get_dirname(j->path);
-  g_autofree char *base = g_path_get_basename(j->path);
-  char *dot = strrchr(base, '.');
-  g_autofree char *ext = g_strdup(dot ? dot : "");
-  if (dot)
-    *dot = '\0';
-  g_autofree char *name = g_strdup_printf(".%s.part-%s%s", base, pid ? pid : "0", ext);
-  j->child_tmp = g_build_filename(dir, name, NULL);
+  char *tmp = arcwise_out_tmp_path_pid(j->path, pid ? atol(pid) : 0);
+  j->child_tmp = g_strdup(tmp);
+  free(tmp);
   g_subprocess_communicate_utf8_async(j->proc, NULL, NULL, child_done, j);
   return TRUE;
 }
