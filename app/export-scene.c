@@ -44,7 +44,7 @@ static ArcwiseSwingModel *
 model_of(const AwFusedPath *path, const AwSwing *s, char *err, size_t n)
 {
   ArcwiseSwingEvents ev = {
-    .address_s = s->events[AW_EVENT_TAKEAWAY].t_s, .top_s = s->events[AW_EVENT_TOP].t_s,
+    .takeaway_s = s->events[AW_EVENT_TAKEAWAY].t_s, .top_s = s->events[AW_EVENT_TOP].t_s,
     .impact_s = s->events[AW_EVENT_IMPACT].t_s, .finish_s = s->events[AW_EVENT_FINISH].t_s,
   };
   ArcwiseSwingPlacement pl;

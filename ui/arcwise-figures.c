@@ -21,19 +21,19 @@ void
 arcwise_figures_for_model(const ArcwiseSwingModel *m, ArcwiseFigure out[ARCWISE_N_FIGURES])
 {
   const ArcwiseSwingEvents *e = &m->events;
-  double back = e->top_s - e->address_s, down = e->impact_s - e->top_s;
+  double back = e->top_s - e->takeaway_s, down = e->impact_s - e->top_s;
   double peak = 0, at_impact = NAN, rise = NAN, length = 0;
   for (size_t i = 0; i < m->n; i++)
     peak = fmax(peak, (double)m->speed_m_s[i]);
   if (isfinite(e->impact_s))
     at_impact = m->speed_m_s[arcwise_swing_model_index_at(m, e->impact_s)];
-  if (isfinite(e->top_s) && isfinite(e->address_s)) {
+  if (isfinite(e->top_s) && isfinite(e->takeaway_s)) {
     float top[3], adr[3];
     arcwise_swing_model_position_at(m, e->top_s, top);
-    arcwise_swing_model_position_at(m, e->address_s, adr);
+    arcwise_swing_model_position_at(m, e->takeaway_s, adr);
     rise = (double)(top[2] - adr[2]);
   }
-  double t0 = isfinite(e->address_s) ? e->address_s : 0;
+  double t0 = isfinite(e->takeaway_s) ? e->takeaway_s : 0;
   double t1 = isfinite(e->finish_s) ? e->finish_s : (double)m->t_s[m->n - 1];
   for (size_t i = 1; i < m->n; i++)
     if ((double)m->t_s[i] > t0 && (double)m->t_s[i] <= t1) {
@@ -268,7 +268,7 @@ arcwise_draw_speed_chart(cairo_t *cr, double w, double h, const ArcwiseSwingMode
   pango_cairo_show_layout(cr, layout);
 
   /* Event marks. */
-  const double ev[4] = { a->events.address_s, a->events.top_s, a->events.impact_s,
+  const double ev[4] = { a->events.takeaway_s, a->events.top_s, a->events.impact_s,
                          a->events.finish_s };
   cairo_set_source_rgba(cr, 1, 1, 1, 0.45);
   for (int k = 0; k < 4; k++)

@@ -78,7 +78,7 @@ store_loader(ArcwiseSwingItem *item, gpointer data, GError **error)
   }
   ArcwiseSwingEvents ev = { NAN, NAN, NAN, NAN };
   if (d->analysis != NULL) {
-    ev.address_s = arcwise_swing_analysis_event(d->analysis, "takeaway");
+    ev.takeaway_s = arcwise_swing_analysis_event(d->analysis, "takeaway");
     ev.top_s = arcwise_swing_analysis_event(d->analysis, "top");
     ev.impact_s = arcwise_swing_analysis_event(d->analysis, "impact");
     ev.finish_s = arcwise_swing_analysis_event(d->analysis, "finish");

@@ -78,7 +78,7 @@ draw(ArcwiseTimeline *self, cairo_t *cr, double w, double h)
     if (m->phase[i] == ARCWISE_SCENE_PHASE_ADDRESS)
       address_t = m->t_s[i];
   const struct { double t; const char *label; } ev[] = {
-    { address_t, "address" }, { m->events.address_s, "takeaway" }, { m->events.top_s, "top" },
+    { address_t, "address" }, { m->events.takeaway_s, "takeaway" }, { m->events.top_s, "top" },
     { m->events.impact_s, "impact" }, { m->events.finish_s, "finish" },
   };
   PangoLayout *layout = pango_cairo_create_layout(cr);

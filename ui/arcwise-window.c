@@ -408,8 +408,8 @@ update_compare(ArcwiseWindow *self)
   self->other = it;
   /* Share the hands' address position so the paths start together. */
   float pa[3], pb[3], off[3];
-  arcwise_swing_model_position_at(m, m->events.address_s, pa);
-  arcwise_swing_model_position_at(b, b->events.address_s, pb);
+  arcwise_swing_model_position_at(m, m->events.takeaway_s, pa);
+  arcwise_swing_model_position_at(b, b->events.takeaway_s, pb);
   for (int k = 0; k < 3; k++)
     off[k] = pa[k] - pb[k];
   self->other_shifted = arcwise_swing_model_copy_shifted(b, off);

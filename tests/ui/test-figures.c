@@ -115,8 +115,8 @@ main(void)
    * backswing onto the midpoint of b's); lined up at one event, time is only shifted. */
   {
     ArcwiseSwingModel *b = arcwise_swing_model_new_demo(1, 1);
-    const double ea[4] = { m->events.address_s, m->events.top_s, m->events.impact_s, m->events.finish_s };
-    const double eb[4] = { b->events.address_s, b->events.top_s, b->events.impact_s, b->events.finish_s };
+    const double ea[4] = { m->events.takeaway_s, m->events.top_s, m->events.impact_s, m->events.finish_s };
+    const double eb[4] = { b->events.takeaway_s, b->events.top_s, b->events.impact_s, b->events.finish_s };
     AW_CHECK(fabs(ea[1] - eb[1]) > 0.01);   /* the two demo swings differ in timing */
     for (int k = 0; k < 4; k++)
       AW_CHECK_NEAR(arcwise_swing_sync_time(m, b, ea[k], -1), eb[k], 1e-9);

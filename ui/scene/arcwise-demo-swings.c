@@ -74,7 +74,7 @@ arcwise_demo_swing_new(uint64_t seed, bool left_handed, GError **error)
     }
   }
   ArcwiseSwingEvents ev = {
-    .address_s = sw->t_takeaway_s, .top_s = sw->t_top_s, .impact_s = sw->t_impact_s,
+    .takeaway_s = sw->t_takeaway_s, .top_s = sw->t_top_s, .impact_s = sw->t_impact_s,
     .finish_s = sw->t_finish_s,
   };
   double t0 = sw->t_address_s - 0.25, t1 = sw->t_end_s;

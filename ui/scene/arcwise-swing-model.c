@@ -34,7 +34,7 @@ model_alloc(size_t n, bool with_club)
   m->handed = 1;
   for (int k = 0; k < 3; k++)
     m->R_scene_cam[k][k] = 1.0;
-  m->events.address_s = m->events.top_s = m->events.impact_s = m->events.finish_s = NAN;
+  m->events.takeaway_s = m->events.top_s = m->events.impact_s = m->events.finish_s = NAN;
   return m;
 }
 
@@ -118,7 +118,7 @@ arcwise_swing_model_update_phases(ArcwiseSwingModel *m)
     double t = (double)m->t_s[i];
     ArcwiseScenePhase ph = ARCWISE_SCENE_PHASE_ADDRESS;
     /* A missing event leaves the previous phase running, never invents a boundary. */
-    if (isfinite(e->address_s) && t >= e->address_s)
+    if (isfinite(e->takeaway_s) && t >= e->takeaway_s)
       ph = ARCWISE_SCENE_PHASE_BACKSWING;
     if (isfinite(e->top_s) && t >= e->top_s)
       ph = ARCWISE_SCENE_PHASE_DOWNSWING;
@@ -281,7 +281,7 @@ arcwise_swing_model_new_from_fused(const AwFusedPath *path, double t0_s, double 
     }
   }
   if (events != NULL) {
-    m->events.address_s = events->address_s - t_base;
+    m->events.takeaway_s = events->takeaway_s - t_base;
     m->events.top_s = events->top_s - t_base;
     m->events.impact_s = events->impact_s - t_base;
     m->events.finish_s = events->finish_s - t_base;
@@ -420,7 +420,7 @@ arcwise_swing_model_new_demo(int variant, int handed)
     double tt = fmin(u, w);
     m->band_m[i] = (float)(0.012 + 0.5 * 0.6 * tt * tt + 0.02 * gap);
   }
-  m->events.address_s = t_hold;
+  m->events.takeaway_s = t_hold;
   m->events.top_s = t_hold + t_back;
   m->events.impact_s = t_hold + t_back + t_down;
   m->events.finish_s = t_hold + t_back + t_down + t_follow;
@@ -468,9 +468,9 @@ double
 arcwise_swing_sync_time(const ArcwiseSwingModel *a, const ArcwiseSwingModel *b, double t,
                         int only_event)
 {
-  const double ea[4] = { a->events.address_s, a->events.top_s, a->events.impact_s,
+  const double ea[4] = { a->events.takeaway_s, a->events.top_s, a->events.impact_s,
                          a->events.finish_s };
-  const double eb[4] = { b->events.address_s, b->events.top_s, b->events.impact_s,
+  const double eb[4] = { b->events.takeaway_s, b->events.top_s, b->events.impact_s,
                          b->events.finish_s };
   if (only_event >= 0 && only_event < 4) {
     if (isfinite(ea[only_event]) && isfinite(eb[only_event]))

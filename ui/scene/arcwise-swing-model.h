@@ -16,7 +16,7 @@ G_BEGIN_DECLS
 
 /* Events in seconds on the model's own clock (t_s[] below); NaN where unknown. */
 typedef struct {
-  double address_s;   /* start of the takeaway */
+  double takeaway_s;  /* start of the takeaway (the hands leave the address position) */
   double top_s;       /* end of the backswing */
   double impact_s;
   double finish_s;    /* hands come to rest after the follow-through */
