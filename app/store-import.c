@@ -531,10 +531,29 @@ arcwise_store_import(ArcwiseStore *store, const ArcwiseImportTarget *target, GPt
                      GCancellable *cancellable, ArcwiseProgressFunc progress, gpointer user_data,
                      GError **error)
 {
-  if (target == NULL || target->player_name == NULL || pairs == NULL || pairs->len == 0) {
+  if (target == NULL || (target->player_id == 0 && target->player_name == NULL) ||
+      pairs == NULL || pairs->len == 0) {
     g_set_error(error, ARCWISE_STORE_ERROR, ARCWISE_STORE_ERROR_INVALID,
                 "an import needs a player and at least one capture pair");
     return NULL;
+  }
+  /* Swings of an existing player are analysed with that player's handedness unless the caller
+   * names one; a player given by id must exist. */
+  ArcwiseImportTarget resolved = *target;
+  target = &resolved;
+  gint64 known = resolved.player_id;
+  if (known == 0) {
+    known = arcwise_store_find_player(store, resolved.player_name, error);
+    if (known == 0 && error != NULL && *error != NULL)
+      return NULL;
+  }
+  if (known != 0) {
+    ArcwisePlayer *p = arcwise_store_get_player(store, known, error);
+    if (p == NULL)
+      return NULL;
+    if (resolved.handedness == ARCWISE_HAND_UNKNOWN)
+      resolved.handedness = p->handedness;
+    arcwise_player_free(p);
   }
   guint n = pairs->len;
   /* Step 1: read every file and drop pairs whose bytes are already stored (or repeated within

@@ -1920,12 +1920,26 @@ arcwise_store_commit_import(ArcwiseStore *store, const ArcwiseImportTarget *t,
   g_autofree char *now = now_utc();
   g_autofree char *today = NULL;
   gboolean ok = TRUE;
-  gint64 player_id = arcwise_store_find_player(store, t->player_name, error);
-  if (player_id == 0 && error != NULL && *error != NULL)
-    ok = FALSE;
-  if (ok && player_id == 0)
-    ok = (player_id = insert_player(store, t->player_name, t->handedness, t->lead_wrist,
-                                    t->height_m, "", error)) != 0;
+  gint64 player_id = 0;
+  g_autofree char *player_name = NULL;
+  if (t->player_id != 0) {
+    /* Looked up again inside the transaction: the player may have been removed meanwhile. */
+    ArcwisePlayer *p = arcwise_store_get_player(store, t->player_id, error);
+    ok = p != NULL;
+    if (ok) {
+      player_id = p->id;
+      player_name = g_strdup(p->name);
+      arcwise_player_free(p);
+    }
+  } else {
+    player_name = g_strdup(t->player_name);
+    player_id = arcwise_store_find_player(store, t->player_name, error);
+    if (player_id == 0 && error != NULL && *error != NULL)
+      ok = FALSE;
+    if (ok && player_id == 0)
+      ok = (player_id = insert_player(store, t->player_name, t->handedness, t->lead_wrist,
+                                      t->height_m, "", error)) != 0;
+  }
   const char *date = t->session_date;
   if (date == NULL) {
     g_autoptr(GDateTime) local = g_date_time_new_now_local();
@@ -1988,7 +2002,7 @@ arcwise_store_commit_import(ArcwiseStore *store, const ArcwiseImportTarget *t,
     g_autofree char *detail = g_strdup_printf("%s: %u recording%s, %u swing%s for %s, %s",
                                               journal_detail != NULL ? journal_detail : "import",
                                               rec_added, rec_added == 1 ? "" : "s", swings_added,
-                                              swings_added == 1 ? "" : "s", t->player_name, date);
+                                              swings_added == 1 ? "" : "s", player_name, date);
     ok = insert_journal(store, "import", detail, error);
   }
   if (!finish_write(store, ok, error)) {

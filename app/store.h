@@ -300,8 +300,11 @@ GPtrArray *arcwise_store_list_journal(ArcwiseStore *store, GError **error);
 /* What to import. Inputs: capture pairs (IMU CSV + depth CSV). Each pair is one recording; it
  * is fused and analysed and split into its swings (one or many). */
 typedef struct {
-  const char *player_name;  /* existing player, or created with the fields below */
-  ArcwiseHandedness handedness;
+  gint64 player_id;         /* an existing player by id (a rename while an import runs must not make a new player); 0: by
+                               player_name below */
+  const char *player_name;  /* with player_id 0: existing player of that name, or created with
+                               the fields below */
+  ArcwiseHandedness handedness; /* UNKNOWN: the existing player's own */
   AwWrist lead_wrist;       /* UNKNOWN: taken from the IMU file's "wrist" metadata */
   double height_m;
   const char *session_date; /* session of this player on that date and place (found or made);

@@ -1129,20 +1129,20 @@ arcwise_library_browser_select_row(ArcwiseLibraryBrowser *self, guint pos)
   select_position(self, pos);
 }
 
-const char *
+gint64
 arcwise_library_browser_get_import_player(ArcwiseLibraryBrowser *self)
 {
   GtkTreeListRow *row = gtk_single_selection_get_selected_item(self->selection);   /* borrowed */
   if (row == NULL)
-    return NULL;
+    return 0;
   g_autoptr(GObject) item = gtk_tree_list_row_get_item(row);
   if (ARCWISE_IS_SWING_ITEM(item))
-    return ARCWISE_SWING_ITEM(item)->player;   /* the model keeps the item */
+    return ARCWISE_SWING_ITEM(item)->player_id;
   if (!ARCWISE_IS_LIBRARY_NODE(item))
-    return NULL;
+    return 0;
   ArcwiseLibraryNode *n = ARCWISE_LIBRARY_NODE(item);
   ArcwiseLibraryNode *p = n->kind == NODE_PLAYER ? n : player_of(self, n->player_id);
-  return p ? p->name : NULL;
+  return p ? p->id : 0;
 }
 
 gboolean

@@ -54,8 +54,9 @@ guint arcwise_library_browser_open(ArcwiseLibraryBrowser *self, guint player, gu
 /* For the scripted tests: selects the row at `pos` (0-based, among the rows shown). */
 void arcwise_library_browser_select_row(ArcwiseLibraryBrowser *self, guint pos);
 /* The player an import goes into: the player of the selected row (a player row itself, a
- * session's player, a swing's player), NULL when no row is selected. Borrowed. */
-const char *arcwise_library_browser_get_import_player(ArcwiseLibraryBrowser *self);
+ * session's player, a swing's player) by its id (a rename while an import runs must not make a new player), 0 when no row
+ * is selected. */
+gint64 arcwise_library_browser_get_import_player(ArcwiseLibraryBrowser *self);
 /* Sets a filter as a coach would with the controls: "search" (text), "club" (a club kind, or
  * "" for any), "rating" (index of the rating choice), "kind" (0 any, 1 struck, 2 practice),
  * "data" (0 any, 1 camera gaps, 2 quality notes, 3 no notes), "reference" and "tagged" ("1" on).

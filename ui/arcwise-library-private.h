@@ -25,7 +25,7 @@ gboolean arcwise_library_store_get_player(ArcwiseLibrarySource *src, gint64 id,
 gboolean arcwise_library_store_save_player(ArcwiseLibrarySource *src,
                                            const ArcwisePlayerRecord *p, GError **error);
 void arcwise_library_store_import_async(ArcwiseLibrarySource *src, GFile **files, guint n,
-                                        const char *player_name, GCancellable *cancellable,
+                                        gint64 player_id, GCancellable *cancellable,
                                         ArcwiseLibraryProgress progress, gpointer progress_data,
                                         GAsyncReadyCallback callback, gpointer user_data);
 void arcwise_library_store_close(ArcwiseLibrarySource *src);

@@ -375,7 +375,7 @@ fail:
 
 void
 arcwise_library_store_import_async(ArcwiseLibrarySource *src, GFile **files, guint n,
-                                   const char *player_name, GCancellable *cancellable, ArcwiseLibraryProgress progress,
+                                   gint64 player_id, GCancellable *cancellable, ArcwiseLibraryProgress progress,
                                    gpointer progress_data, GAsyncReadyCallback callback,
                                    gpointer user_data)
 {
@@ -389,8 +389,9 @@ arcwise_library_store_import_async(ArcwiseLibrarySource *src, GFile **files, gui
   }
   ArcwiseImportTarget target;
   arcwise_import_target_init(&target);
-  /* Into the player on screen, or a new player the coach renames in the player editor. */
-  target.player_name = player_name ? player_name : "New player";
+  /* Into the player on screen by id, or a new player the coach renames in the player editor. */
+  target.player_id = player_id;
+  target.player_name = player_id != 0 ? NULL : "New player";
   ProgressRelay *relay = g_new0(ProgressRelay, 1);
   relay->progress = progress;
   relay->data = progress_data;

@@ -98,13 +98,13 @@ next_step(LibTest *t)
     rows(t, "closed");
     /* Where a drop would import: the selected player row's player, then a session row's. */
     arcwise_library_browser_select_row(b, 4);
-    g_string_append_printf(t->report, "import_into_player_row=%s\n",
+    g_string_append_printf(t->report, "import_into_player_row=%" G_GINT64_FORMAT "\n",
                            arcwise_library_browser_get_import_player(b));
     g_string_append_printf(t->report, "opened_swing_rows=%u\n",
                            arcwise_library_browser_open(b, 1, 1));
     rows(t, "opened");
     arcwise_library_browser_select_row(b, 1);
-    g_string_append_printf(t->report, "import_into_session_row=%s\n",
+    g_string_append_printf(t->report, "import_into_session_row=%" G_GINT64_FORMAT "\n",
                            arcwise_library_browser_get_import_player(b));
     later(t);
     break;

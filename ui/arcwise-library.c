@@ -249,12 +249,12 @@ arcwise_library_source_save_player(ArcwiseLibrarySource *src, const ArcwisePlaye
 
 void
 arcwise_library_source_import_async(ArcwiseLibrarySource *src, GFile **files, guint n,
-                                    const char *player_name, GCancellable *cancellable, ArcwiseLibraryProgress progress,
-                                    gpointer progress_data, GAsyncReadyCallback callback,
-                                    gpointer user_data)
+                                    gint64 player_id, GCancellable *cancellable,
+                                    ArcwiseLibraryProgress progress, gpointer progress_data,
+                                    GAsyncReadyCallback callback, gpointer user_data)
 {
   if (src->kind == ARCWISE_SOURCE_STORE) {
-    arcwise_library_store_import_async(src, files, n, player_name, cancellable, progress,
+    arcwise_library_store_import_async(src, files, n, player_id, cancellable, progress,
                                        progress_data, callback, user_data);
     return;
   }

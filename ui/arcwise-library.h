@@ -30,11 +30,12 @@ const char *arcwise_library_source_describe(ArcwiseLibrarySource *src);
 gboolean arcwise_library_source_save_marks(ArcwiseLibrarySource *src, ArcwiseSwingItem *item,
                                            GError **error);
 
-/* Imports capture files or folders in a worker thread (GTask). progress runs in the main
- * context. The finish returns a one-line summary, or NULL with *error (the library is then
- * unchanged). */
+/* Imports capture files or folders in a worker thread (GTask) into the player with id
+ * player_id (0: a new player the coach renames in the player editor). progress runs in the
+ * main context. The finish returns a one-line summary, or NULL with *error (the library is
+ * then unchanged). */
 void arcwise_library_source_import_async(ArcwiseLibrarySource *src, GFile **files, guint n,
-                                         const char *player_name, GCancellable *cancellable,
+                                         gint64 player_id, GCancellable *cancellable,
                                          ArcwiseLibraryProgress progress, gpointer progress_data,
                                          GAsyncReadyCallback callback, gpointer user_data);
 char *arcwise_library_source_import_finish(ArcwiseLibrarySource *src, GAsyncResult *res,

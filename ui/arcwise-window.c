@@ -1042,9 +1042,9 @@ arcwise_window_import_files(ArcwiseWindow *self, GFile **files, guint n)
   gtk_progress_bar_set_fraction(self->import_progress, 0);
   gtk_revealer_set_reveal_child(self->import_revealer, TRUE);
   /* Into the player of the selected row (player, session or swing), else the swing shown. */
-  const char *into = arcwise_library_browser_get_import_player(self->library_box);
-  if (into == NULL && self->current != NULL)
-    into = self->current->player;
+  gint64 into = arcwise_library_browser_get_import_player(self->library_box);
+  if (into == 0 && self->current != NULL)
+    into = self->current->player_id;
   arcwise_library_source_import_async(self->source, files, n, into,
                                       self->import_cancellable,
                                       import_progress, self, import_done, g_object_ref(self));
