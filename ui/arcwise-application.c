@@ -7,6 +7,7 @@
 
 #include "arcwise-library.h"
 #include "arcwise-export-test.h"
+#include "arcwise-import-test.h"
 #include "arcwise-smoke.h"
 #include "arcwise-library-test.h"
 #include "arcwise-window.h"
@@ -216,6 +217,9 @@ arcwise_application_activate(GApplication *gapp)
   const char *library_test = g_getenv("ARCWISE_LIBRARY_TEST_DIR");
   if (library_test != NULL && *library_test != '\0')
     arcwise_library_test_start(win, library_test, caution);
+  const char *import_test = g_getenv("ARCWISE_IMPORT_TEST_DIR");
+  if (import_test != NULL && *import_test != '\0')
+    arcwise_import_test_start(win, import_test, caution);
   const char *export_test = g_getenv("ARCWISE_EXPORT_TEST_DIR");
   if (export_test != NULL && *export_test != '\0')
     arcwise_export_test_start(win, export_test, caution);

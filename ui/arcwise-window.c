@@ -29,6 +29,7 @@ struct _ArcwiseWindow {
   GtkLabel *export_label;
   GtkProgressBar *export_progress;
   GtkButton *export_cancel;
+  GtkButton *import_cancel;
   GtkPaned *outer_paned;
   GtkPaned *inner_paned;
   ArcwiseLibraryBrowser *library_box;
@@ -998,10 +999,13 @@ static void
 import_progress(guint done, guint total, const char *what, gpointer data)
 {
   ArcwiseWindow *self = data;
-  gtk_progress_bar_set_fraction(self->import_progress, total ? (double)done / total : 0.0);
+  /* After Stop the workers only skip what is left: say so instead of filling the bar. */
+  if (self->import_cancellable != NULL && g_cancellable_is_cancelled(self->import_cancellable))
+    return;
   g_autofree char *txt = g_strdup_printf("Bringing in captures: %u of %u — %s", done, total,
                                          what ? what : "");
   gtk_label_set_text(self->import_label, txt);
+  gtk_progress_bar_set_fraction(self->import_progress, total ? (double)done / total : 0.0);
 }
 
 static gboolean
@@ -1020,14 +1024,22 @@ import_done(GObject *src, GAsyncResult *res, gpointer data)
   g_autoptr(GError) error = NULL;
   g_autofree char *summary = arcwise_library_source_import_finish(self->source, res, &error);
   g_clear_object(&self->import_cancellable);
+  /* The import is over: the bar's button now only puts the bar away. */
+  gtk_widget_set_sensitive(GTK_WIDGET(self->import_cancel), TRUE);
+  gtk_button_set_label(self->import_cancel, "Close");
   if (summary == NULL) {
-    g_autofree char *txt = g_strdup_printf("Nothing was brought in: %s", error->message);
+    /* The store writes an import in one transaction at the end: nothing of it was kept. */
+    g_autofree char *txt =
+      g_error_matches(error, G_IO_ERROR, G_IO_ERROR_CANCELLED)
+        ? g_strdup("Stopped: nothing was brought in, the library is as it was.")
+        : g_strdup_printf("Nothing was brought in: %s", error->message);
     gtk_label_set_text(self->import_label, txt);
+    gtk_progress_bar_set_fraction(self->import_progress, 0.0);
   } else {
     gtk_label_set_text(self->import_label, summary);
+    gtk_progress_bar_set_fraction(self->import_progress, 1.0);
     arcwise_window_reload(self);
   }
-  gtk_progress_bar_set_fraction(self->import_progress, 1.0);
   g_timeout_add_seconds_full(G_PRIORITY_DEFAULT, 8, hide_import, g_object_ref(self), g_object_unref);
   g_object_unref(self);
 }
@@ -1035,9 +1047,10 @@ import_done(GObject *src, GAsyncResult *res, gpointer data)
 void
 arcwise_window_import_files(ArcwiseWindow *self, GFile **files, guint n)
 {
-  if (self->source == NULL || self->import_cancellable != NULL)
+  if (self->source == NULL || self->readonly || self->import_cancellable != NULL)
     return;
   self->import_cancellable = g_cancellable_new();
+  gtk_button_set_label(self->import_cancel, "Stop");
   gtk_label_set_text(self->import_label, "Reading the captures…");
   gtk_progress_bar_set_fraction(self->import_progress, 0);
   gtk_revealer_set_reveal_child(self->import_revealer, TRUE);
@@ -1053,10 +1066,18 @@ arcwise_window_import_files(ArcwiseWindow *self, GFile **files, guint n)
 static void
 on_import_cancel(ArcwiseWindow *self)
 {
-  if (self->import_cancellable)
+  if (self->import_cancellable) {
     g_cancellable_cancel(self->import_cancellable);
-  else
+    gtk_label_set_text(self->import_label, "Stopping…");
+    gtk_widget_set_sensitive(GTK_WIDGET(self->import_cancel), FALSE);
+  } else
     gtk_revealer_set_reveal_child(self->import_revealer, FALSE);
+}
+
+gboolean
+arcwise_window_is_importing(ArcwiseWindow *self)
+{
+  return self->import_cancellable != NULL;
 }
 
 static gboolean
@@ -1064,13 +1085,17 @@ on_drop(GtkDropTarget *t, const GValue *value, double x, double y, ArcwiseWindow
 {
   if (!G_VALUE_HOLDS(value, GDK_TYPE_FILE_LIST))
     return FALSE;
-  GSList *list = g_value_get_boxed(value);
+  GSList *list = gdk_file_list_get_files(g_value_get_boxed(value));   /* files borrowed */
   GPtrArray *files = g_ptr_array_new();
   for (GSList *l = list; l; l = l->next)
     g_ptr_array_add(files, l->data);
-  arcwise_window_import_files(self, (GFile **)files->pdata, files->len);
+  g_slist_free(list);
+  gboolean taken = files->len > 0 && self->source != NULL && !self->readonly &&
+                   self->import_cancellable == NULL;
+  if (taken)
+    arcwise_window_import_files(self, (GFile **)files->pdata, files->len);
   g_ptr_array_unref(files);
-  return TRUE;
+  return taken;
 }
 
 static void
@@ -1152,6 +1177,7 @@ arcwise_window_set_source(ArcwiseWindow *self, ArcwiseLibrarySource *source)
                        "read-only: every swing can be viewed, but notes, ratings, imports and "
                        "player changes are not saved.");
     gtk_widget_set_visible(GTK_WIDGET(self->import_progress), FALSE);
+    gtk_button_set_label(self->import_cancel, "Close");
     gtk_revealer_set_reveal_child(self->import_revealer, TRUE);
   }
   set_action_enabled(self, "import", !self->readonly);
@@ -1240,7 +1266,7 @@ arcwise_window_class_init(ArcwiseWindowClass *klass)
 #define BIND(x) gtk_widget_class_bind_template_child(widget_class, ArcwiseWindow, x)
   BIND(subtitle_label); BIND(library_toggle); BIND(compare_toggle); BIND(import_revealer);
   BIND(export_revealer); BIND(export_label); BIND(export_progress); BIND(export_cancel);
-  BIND(import_label); BIND(import_progress); BIND(outer_paned); BIND(inner_paned);
+  BIND(import_label); BIND(import_progress); BIND(import_cancel); BIND(outer_paned); BIND(inner_paned);
   BIND(library_box); BIND(stage); BIND(view_bar); BIND(legend_label);
   BIND(stage_overlay); BIND(layer_bar); BIND(numbers_scroller); BIND(overlay_scroller);
   BIND(empty_label); BIND(transport); BIND(play_button); BIND(speed_dropdown); BIND(time_label); BIND(timeline);

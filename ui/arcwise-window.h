@@ -35,6 +35,8 @@ double arcwise_window_get_time(ArcwiseWindow *self);
 /* Length of the selected swing's model (s), 0 without one. */
 double arcwise_window_get_duration(ArcwiseWindow *self);
 gboolean arcwise_window_is_playing(ArcwiseWindow *self);
+/* TRUE from a drop or Bring In until the import's result is shown. */
+gboolean arcwise_window_is_importing(ArcwiseWindow *self);
 guint arcwise_window_get_compare_rows(ArcwiseWindow *self);
 void arcwise_window_set_speed_index(ArcwiseWindow *self, guint i);
 /* Layout checks for the smoke test: how many cells of the visible sheet page's table reach
