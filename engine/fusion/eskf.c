@@ -40,6 +40,7 @@ typedef struct {
   double Vba[3][3];  /* F[v][ba] */
   double Tbg[3][3];  /* F[theta][bg] */
   double qv, qp, qpv, qth, qba, qbg, qc;
+  double qvj[3];     /* velocity noise per camera axis from the stamps' jitter (see nominal_step) */
 } Trans;
 
 /* One measurement (or covariance inflation) applied at a step. H is non-zero only on the
@@ -244,10 +245,11 @@ propagate_cov(const Trans *T, double P[NS][NS])
     }
   }
   for (int r = 0; r < 3; r++) {
-    P[IP + r][IP + r] += T->qp;
-    P[IV + r][IV + r] += T->qv;
-    P[IP + r][IV + r] += T->qpv;
-    P[IV + r][IP + r] += T->qpv;
+    double dt = T->dt, qj = T->qvj[r];
+    P[IP + r][IP + r] += T->qp + qj * dt * dt / 3.0;
+    P[IV + r][IV + r] += T->qv + qj;
+    P[IP + r][IV + r] += T->qpv + qj * dt / 2.0;
+    P[IV + r][IP + r] += T->qpv + qj * dt / 2.0;
     P[IT + r][IT + r] += T->qth;
     P[IBA + r][IBA + r] += T->qba;
     P[IBG + r][IBG + r] += T->qbg;
@@ -264,6 +266,7 @@ typedef struct {
   double gap_dt;
   double sa2, sg2, sba2, sbg2;   /* noise densities squared */
   unsigned freeze;               /* AW_ESKF_FREEZE_* */
+  double sj2;                    /* variance of the IMU stamps' jitter (s^2) */
 } Model;
 
 /* Known attitude or clock (AW_ESKF_FREEZE_*): their error states get no process noise. */
@@ -350,6 +353,14 @@ nominal_step(const Model *m, size_t i, const Nom *in, Nom *out, Trans *T)
     double e = fmax((double)imu->gyr_excess[i], (double)imu->gyr_excess[i + 1]) * dt;
     T->qth += e * e;
   }
+  /* Jittered stamps (sample k measured at its grid time, stamped j_k off it): the velocity
+   * integrated with the stamped intervals is off by sum_k 1/2 (a_k + a_k+1) (j_k+1 - j_k)
+   * = sum_k j_k (a_k-1 - a_k+1) / 2 plus a term at the current sample only, a random walk whose
+   * step has variance sigma_j^2 (a_k+1 - a_k-1)^2 / 4 per axis, about sigma_j^2 (a1 - a0)^2 for
+   * acceleration varying smoothly over a step. The term at the current sample (the state
+   * belongs to the sample's true time, stamp minus j) enters the camera update and the output
+   * (timing_noise). */
+  for (int a = 0; a < 3; a++) T->qvj[a] = m->sj2 * (a1[a] - a0[a]) * (a1[a] - a0[a]);
   T->qp = T->qv * dt * dt / 3.0;
   T->qpv = T->qv * dt / 2.0;
   T->qba = m->sba2 * dt;
@@ -486,6 +497,17 @@ cam_predict(const Model *m, const Nom *x, size_t i, double delta, double h[3], d
   }
 }
 
+/* The IMU sample a camera frame is compared with belongs to its true time, the stamp minus the
+ * stamp's jitter j: the prediction is off by v j, v the predicted velocity at the frame time
+ * (minus the clock column of Hb). Adds sigma_j^2 v v^T to the camera noise R. */
+static void
+timing_noise(const Model *m, double Hb[3][NH], double R[3][3])
+{
+  if (!(m->sj2 > 0)) return;
+  for (int r = 0; r < 3; r++)
+    for (int c = 0; c < 3; c++) R[r][c] += m->sj2 * Hb[r][IC] * Hb[c][IC];
+}
+
 /* Kalman update; returns NIS, and applies only when apply is set. */
 static double
 kf_update(double P[NS][NS], Nom *x, double Hb[3][NH], double R[3][3],
@@ -609,7 +631,8 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
               s->accel_noise_density_m_s2_rthz * s->accel_noise_density_m_s2_rthz,
               s->gyro_noise_density_rad_s_rthz * s->gyro_noise_density_rad_s_rthz,
               s->accel_bias_walk_m_s3_rthz * s->accel_bias_walk_m_s3_rthz,
-              s->gyro_bias_walk_rad_s2_rthz * s->gyro_bias_walk_rad_s2_rthz, freeze };
+              s->gyro_bias_walk_rad_s2_rthz * s->gyro_bias_walk_rad_s2_rthz, freeze,
+              imu->t_jitter_s * imu->t_jitter_s };
   bool use_cam = s->mask != AW_FUSION_CAMERA_MASKED;
   /* A recording's own still periods show its sensor noise; never assume it quieter than the
    * datasheet figure. */
@@ -803,6 +826,7 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
         double h[3], Hb[3][NH], R[3][3], y[3];
         cam_predict(&m, &x, i, delta, h, Hb);
         cam_noise(s, cam->noise_scale, cam->pos_m[k], cam->conf ? cam->conf[k] : 1, R);
+        timing_noise(&m, Hb, R);
         for (int a = 0; a < 3; a++) y[a] = cam->pos_m[k][a] - h[a];
         Upd *u = upd_push(&ul);
         if (!u) { st = AW_ERR_NO_MEMORY; goto out; }
@@ -938,8 +962,10 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
            * variance is the honest bound, never a near-zero sigma. */
           double var = jpj - red;
           if (!(var > 1e-12) || !isfinite(var)) var = jpj;
-          path->pos_sigma_cam_m[ii][r] = sqrt(fmax(var, 1e-12));
           ksig2[r] = fmax(var, 1e-12);
+          /* Reported at the sample's stamp, which is off its true time by the jitter. */
+          double vr = path->vel_cam_m_s[ii][r];
+          path->pos_sigma_cam_m[ii][r] = sqrt(ksig2[r] + m.sj2 * vr * vr);
         }
       }
       if (use_cam && pass + 1 < n_pass)
@@ -948,6 +974,7 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
           double h[3], Hb[3][NH], Rc[3][3], r2 = 0;
           cam_predict(&m, &xsm, ii, cam->t_s[k] - tau[ii], h, Hb);
           cam_noise(s, cam->noise_scale, cam->pos_m[k], cam->conf ? cam->conf[k] : 1, Rc);
+          timing_noise(&m, Hb, Rc);
           for (int a = 0; a < 3; a++) {
             double e = cam->pos_m[k][a] - h[a];
             r2 += e * e / (Rc[a][a] + ksig2[a]);

@@ -51,6 +51,7 @@ typedef struct {
   const double (*w)[3];       /* angular rate, body (borrowed) */
   double (*cumf)[3];          /* trapezoid integral of f over t (t_s[0] = 0) */
   double dt_nom_s;            /* median interval */
+  double t_jitter_s;          /* 1-sigma jitter of the stamps about a regular grid (0 = exact) */
   unsigned char *sat_acc;     /* sample has an accelerometer axis at full scale */
   unsigned char *sat_gyr;
   unsigned char *still;       /* inside a still window */

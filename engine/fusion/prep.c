@@ -32,6 +32,32 @@ median_interval(const double *t, size_t n)
   return r;
 }
 
+/* Timestamp jitter of a nominally regular stream: for stamps t_k = k dt + j_k with white j of
+ * standard deviation sigma, the second difference t_{k+1} - 2 t_k + t_{k-1} has variance
+ * 6 sigma^2 (and is 0 for exact stamps, whatever the rate). A robust scale (1.4826 times the
+ * median absolute value, the normal-consistent MAD) keeps gaps and the odd late sample from
+ * counting; triples that span a gap (an interval of nearly two nominal ones or more) are left out. */
+static double
+timestamp_jitter(const double *t, size_t n, double dt_nom)
+{
+  if (n < 3 || !(dt_nom > 0)) return 0;
+  size_t m = n - 2, stride = m > 8192 ? m / 8192 : 1, k = 0;
+  double *d = malloc(sizeof *d * (m / stride + 1));
+  if (!d) return 0;
+  for (size_t i = 1; i + 1 < n; i += stride) {
+    double h0 = t[i] - t[i - 1], h1 = t[i + 1] - t[i];
+    if (h0 > 1.9 * dt_nom || h1 > 1.9 * dt_nom) continue;
+    d[k++] = fabs(h1 - h0);
+  }
+  double r = 0;
+  if (k >= 20) {
+    qsort(d, k, sizeof *d, cmp_double);
+    r = 1.4826 * d[k / 2] / sqrt(6.0);
+  }
+  free(d);
+  return r;
+}
+
 /* Weights of the local quadratic's second derivative (2 c2) for taps at u[0..m). */
 static bool
 quad_acc_weights(const double *u, size_t m, double *w)
@@ -428,6 +454,7 @@ aw_fusion_prep_imu(const AwImuStream *imu, const AwFusionSettings *s, double g, 
   }
   m->dt_nom_s = median_interval(imu->t_s, n);
   if (!(m->dt_nom_s > 0)) m->dt_nom_s = 0.01;
+  m->t_jitter_s = timestamp_jitter(imu->t_s, n, m->dt_nom_s);
   m->acc_range = detect_range(m->f, n, imu->meta.accel_range_m_s2);
   m->gyr_range = detect_range(m->w, n, imu->meta.gyro_range_rad_s);
   m->f_own = malloc(sizeof *m->f_own * (n ? n : 1));
