@@ -7,7 +7,12 @@
  * sigma_z = 1.6e-3 z^2: REFERENCES.md section 7), 0.4 s occlusion gaps every 6 s, and the
  * camera clock 0.25 s ahead. The fused path is scored against the optical truth: RMSE at most
  * half the depth-only baseline's (valid frames linearly interpolated), 2-sigma coverage
- * 90..99 %, and the orientation error is reported. Skips (77) where ../shared is absent. */
+ * 90..99 % (Gaussian 95.45 %, standard normal table, Abramowitz & Stegun 26.2), 1-sigma
+ * coverage 55..85 % (Gaussian 68.27 %; the margin is our choice, see test-fusion-simfloors.c),
+ * and the orientation error is reported. Skips (77) where ../shared is absent.
+ * An optional argument multiplies every reported sigma and checks the coverage bands alone:
+ * meson runs it with 0.5 as a test that must fail (the coverage check catches a sigma half
+ * the size on real data). */
 #include "testutil.h"
 
 #include "arcwise/capture.h"
@@ -103,6 +108,8 @@ gauss(uint64_t *s)
   return sqrt(-2 * log(u)) * cos(2 * AW_PI * v);
 }
 
+static double sig_scale = 1.0;
+
 static void
 run_trial(const char *dir, const char *name)
 {
@@ -188,7 +195,9 @@ run_trial(const char *dir, const char *name)
   if (st != AW_OK) fprintf(stderr, "%s: %s\n", name, err.message);
   if (fp) {
     double se = 0, sb = 0, qs[4] = { 0 };
-    size_t n = 0, cov = 0, h2 = 0, kb = 0;
+    size_t n = 0, cov = 0, cov1 = 0, h2 = 0, kb = 0;
+    for (size_t i = 0; i < fp->n; i++)
+      for (int a = 0; a < 3; a++) fp->pos_sigma_cam_m[i][a] *= sig_scale;
     /* constant misalignment between the optical body frame and the IMU: mean of the
      * relative rotation, then the residual angle */
     double (*rel)[4] = malloc(sizeof *rel * fp->n);
@@ -201,6 +210,7 @@ run_trial(const char *dir, const char *name)
         double e = fp->pos_cam_m[i][a] - tr[a];
         e2 += e * e;
         if (fabs(e) <= 2 * fp->pos_sigma_cam_m[i][a]) cov++;
+        if (fabs(e) <= fp->pos_sigma_cam_m[i][a]) cov1++;
       }
       /* depth-only baseline */
       while (kb + 1 < dep->n && dep->t_s[kb + 1] <= fp->t_s[i]) kb++;
@@ -245,19 +255,23 @@ run_trial(const char *dir, const char *name)
     }
     free(rel);
     free(rok);
-    double rmse = sqrt(se / (double)n), base = sqrt(sb / (double)n), covr = (double)cov / (3.0 * (double)n);
+    double rmse = sqrt(se / (double)n), base = sqrt(sb / (double)n), covr = (double)cov / (3.0 * (double)n),
+           covr1 = (double)cov1 / (3.0 * (double)n);
     fprintf(stderr, "%s: fused RMSE %.4f m, depth-only baseline %.4f m (ratio %.3f), 2-sigma "
-            "coverage %.3f, orientation error %.2f deg rms (after the constant marker-to-IMU "
-            "rotation), clock offset %.4f s (true %.4f)\n", name, rmse, base, rmse / base, covr,
+            "coverage %.3f (1-sigma %.3f), orientation error %.2f deg rms (after the constant marker-to-IMU "
+            "rotation), clock offset %.4f s (true %.4f)\n", name, rmse, base, rmse / base, covr, covr1,
             sqrt(sa / (double)(na ? na : 1)) * AW_DEG_PER_RAD, fp->report.clock_offset_s, shift);
     if (getenv("AW_VERBOSE"))
       fprintf(stderr, "  report: still %d lever %.3f %.3f %.3f used %zu rejected %zu recoveries %zu zupt %zu nis %.2f ba %.3f %.3f %.3f bg %.4f %.4f %.4f\n",
               fp->report.still_found, fp->report.lever_arm_body_m[0], fp->report.lever_arm_body_m[1], fp->report.lever_arm_body_m[2],
               fp->report.cam_frames_used, fp->report.cam_frames_rejected, fp->report.gate_recoveries, fp->report.zupt_samples, fp->report.cam_nis_mean,
               fp->report.accel_bias_m_s2[0], fp->report.accel_bias_m_s2[1], fp->report.accel_bias_m_s2[2], fp->report.gyro_bias_rad_s[0], fp->report.gyro_bias_rad_s[1], fp->report.gyro_bias_rad_s[2]);
-    AW_CHECK(rmse <= 0.5 * base);
+    if (sig_scale == 1.0) {
+      AW_CHECK(rmse <= 0.5 * base);
+      AW_CHECK_NEAR(fp->report.clock_offset_s, shift, 0.01);
+    }
     AW_CHECK(covr >= 0.90 && covr <= 0.99);
-    AW_CHECK_NEAR(fp->report.clock_offset_s, shift, 0.01);
+    AW_CHECK(covr1 >= 0.55 && covr1 <= 0.85);
     aw_fused_path_free(fp);
   }
   aw_depth_stream_free(dep);
@@ -266,8 +280,9 @@ run_trial(const char *dir, const char *name)
 }
 
 int
-main(void)
+main(int argc, char **argv)
 {
+  if (argc > 1) sig_scale = atof(argv[1]);
   char dir[1024];
   snprintf(dir, sizeof dir, "%s/data/broad", aw_test_shared_dir());
   FILE *f;
