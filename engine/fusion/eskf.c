@@ -791,9 +791,19 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
       P[IDG + a][IDG + a] = 0.15 * 0.15;
       P[IL + a][IL + a] = s->lever_arm_sigma_m * s->lever_arm_sigma_m;
     }
-    /* Clock: three times the correlation peak's spread plus 20 ms: asymmetric swing shapes and
-     * sensor filter delays bias the peak by more than its width suggests. */
-    P[IC][IC] = 9 * rep->clock_offset_sigma_s * rep->clock_offset_sigma_s + 0.02 * 0.02;
+    /* Clock: after the calibration's vector fit refined the offset, its own sigma (from that
+     * fit's cost curvature) with one IMU interval added in quadrature: the fit compares the
+     * streams sample by sample and cannot vouch for the offset below that. Without the
+     * refinement, three times the correlation peak's spread plus 20 ms: asymmetric swing
+     * shapes and sensor filter delays bias the peak by more than its width suggests. (The
+     * stage-1 prior kept after the refinement was 2-3 times wider than the calibration's
+     * sigma on hard swings and let the clock state wander; with this one held-out coverage
+     * and RMSE p90 both improved: seeds 9000 up, 150 swings, 92.4 -> 93.5 %, 3.30 -> 3.01 cm.) */
+    double cs = cal->clock_sigma_s;
+    if (cs > 0)
+      P[IC][IC] = cs * cs + imu->dt_nom_s * imu->dt_nom_s;
+    else
+      P[IC][IC] = 9 * rep->clock_offset_sigma_s * rep->clock_offset_sigma_s + 0.02 * 0.02;
     if (freeze & AW_ESKF_FREEZE_ATTITUDE)
       for (int a = 0; a < 3; a++) P[IT + a][IT + a] = P[IBG + a][IBG + a] = 0;
     if (freeze & AW_ESKF_FREEZE_CLOCK) P[IC][IC] = 0;
