@@ -827,6 +827,14 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
   size_t mu = 0;
   for (size_t i = 0; i < m; i++) if (use[i]) { ss += res[i] * res[i]; mu++; }
   out->resid_rms_m_s2 = sqrt(ss / (double)(mu ? mu : 1));
+  /* Gravity is the fit's constant term: its standard error per axis is the residual's per
+   * component over the square root of the independent residuals, one per camera fit window
+   * (frames inside a window share positions; as for the clock's sigma above). */
+  {
+    double per_window = fmax(1.0, 2.0 * cam->fit_half_s / cam->dt_nom_s);
+    out->gravity_fit_sigma_m_s2 =
+      mu ? out->resid_rms_m_s2 / sqrt(3.0) * sqrt(per_window / (double)mu) : out->resid_rms_m_s2;
+  }
   if (out->have_joint) {
     double ng = aw_v3_norm(out->g_cam_m_s2);
     if (ng > 0.5 * g) aw_v3_scale(out->g_cam_m_s2, out->g_cam_m_s2, g / ng);

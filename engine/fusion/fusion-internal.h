@@ -100,6 +100,7 @@ typedef struct {
   double gyro_bias_rad_s[3];
   bool still_found;
   double resid_rms_m_s2;      /* rms of the Wahba fit residual */
+  double gravity_fit_sigma_m_s2; /* standard error of the fitted gravity per axis (noise only) */
   double clock_shift_s;       /* refinement of the clock offset found here (add to it) */
   double clock_sigma_s;       /* sigma_t: 1-sigma of the clock offset after that refinement,
                                  from the curvature of the vector-fit cost at its minimum with

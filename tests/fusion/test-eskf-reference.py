@@ -14,7 +14,8 @@ bias ba, gravity error dg; camera frame) form a linear-Gaussian system:
 The process noise and the prior are the ones eskf.c states: white acceleration noise integrated
 over the step (qv = sa^2 dt, qp = qv dt^2/3, qpv = qv dt/2), bias random walk sba^2 dt, 1e-12 m^2
 per step on the lever arm, none on gravity; prior sigma_p^2 = trace(R_cam(z0)) + 1e-4, sigma_v =
-0.05 (still) or 1.5 m/s, sigma_dg = 0.15 m/s^2. The case is random (fixed seed), not a recording:
+0.05 (still) or 1.5 m/s, sigma_dg^2 = sigma_ba^2 + the calibration's gravity standard error^2
+(0 here: no calibration ran). The case is random (fixed seed), not a recording:
 only the algebra is checked. Smoothed keypoint position p + R l, velocity, keypoint sigma and the
 accelerometer bias at the middle sample must agree to 1e-9 relative (floating-point
 reassociation only). Exit 77 when numpy is absent."""
@@ -116,7 +117,7 @@ xx = np.zeros(15)
 xx[0:3] = zc[0]
 R0 = cam_R(zc[0])
 P = np.diag([np.trace(R0) + 1e-4] * 3 + [0.05 ** 2 if still[0] else 1.5 ** 2] * 3 + [ls * ls] * 3
-            + [ba_init ** 2] * 3 + [0.15 ** 2] * 3)
+            + [ba_init ** 2] * 3 + [ba_init ** 2] * 3)
 zupt_every = max(1, round(0.02 / dt))
 xf, Pf, xp, Pp = [], [], [None], [None]
 for i in range(n):
