@@ -175,11 +175,30 @@ apply_Ft_vec(const Trans *T, double x[NS])
   for (int c = 0; c < 3; c++) x[IV + c] += dt * x[IP + c];
 }
 
+/* L <- F^T L F for a symmetric L (the smoother's information matrix stepped back). F^T acting
+ * on the left changes only the rows of C = {v, theta, ba, bg, dg} and F acting on the right
+ * only those columns, so with L1 = F^T L: (L1 F)[C][U] = L1[C][U] for the other states U =
+ * {p, lever, clock}, (L1 F)[U][C] is its mirror and the U block is unchanged. Only the 15 rows
+ * of C are multiplied by F from the right; the result is mirrored, exactly symmetric. */
 static void
-transpose_sq(double M[NS][NS])
+congruence_Ft(const Trans *T, double L[NS][NS])
 {
-  for (int r = 0; r < NS; r++)
-    for (int c = r + 1; c < NS; c++) { double t = M[r][c]; M[r][c] = M[c][r]; M[c][r] = t; }
+  static const int crow[] = { IV, IV + 1, IV + 2, IT, IT + 1, IT + 2, IBA, IBA + 1, IBA + 2,
+                              IBG, IBG + 1, IBG + 2, IDG, IDG + 1, IDG + 2 };
+  static const int urow[] = { IP, IP + 1, IP + 2, IL, IL + 1, IL + 2, IC };
+  enum { NC = sizeof crow / sizeof crow[0], NU = sizeof urow / sizeof urow[0] };
+  apply_Ft(T, L);
+  for (int a = 0; a < NC; a++) apply_Ft_vec(T, L[crow[a]]);
+  for (int a = 0; a < NC; a++) {
+    int r = crow[a];
+    for (int b = 0; b < NU; b++) L[urow[b]][r] = L[r][urow[b]];
+    for (int b = a + 1; b < NC; b++) {
+      int c = crow[b];
+      double v = 0.5 * (L[r][c] + L[c][r]);
+      L[r][c] = v;
+      L[c][r] = v;
+    }
+  }
 }
 
 static void
@@ -426,23 +445,28 @@ innov_cov(double P[NS][NS], double Hb[3][NH], double R[3][3],
 }
 
 /* Joseph-equivalent covariance update for any gain K:
- * P <- (I-KH) P (I-KH)^T + K R K^T = P - K HP - (K HP)^T + K S K^T. */
+ * P <- (I-KH) P (I-KH)^T + K R K^T = P - K HP - (K HP)^T + K S K^T
+ *    = P - K HP + W K^T,  W = K S - (HP)^T
+ * (the same identity regrouped: two 3-term products per entry instead of three; W vanishes
+ * for the optimal gain up to rounding, and is kept so that the form holds for any K). The
+ * upper triangle is computed and mirrored: P stays exactly symmetric. */
 static void
 cov_update(double P[NS][NS], double HP[3][NS], double K[NS][3], double S[3][3])
 {
-  double KS[NS][3];
+  double W[NS][3];
   for (int r = 0; r < NS; r++)
     for (int c = 0; c < 3; c++)
-      KS[r][c] = K[r][0] * S[0][c] + K[r][1] * S[1][c] + K[r][2] * S[2][c];
-  for (int r = 0; r < NS; r++)
+      W[r][c] = K[r][0] * S[0][c] + K[r][1] * S[1][c] + K[r][2] * S[2][c] - HP[c][r];
+  for (int r = 0; r < NS; r++) {
+    double k0 = K[r][0], k1 = K[r][1], k2 = K[r][2];
+    double w0 = W[r][0], w1 = W[r][1], w2 = W[r][2];
     for (int c = r; c < NS; c++) {
-      double khp = K[r][0] * HP[0][c] + K[r][1] * HP[1][c] + K[r][2] * HP[2][c];
-      double khpT = K[c][0] * HP[0][r] + K[c][1] * HP[1][r] + K[c][2] * HP[2][r];
-      double ksk = KS[r][0] * K[c][0] + KS[r][1] * K[c][1] + KS[r][2] * K[c][2];
-      double v = P[r][c] - khp - khpT + ksk;
+      double v = P[r][c] - (k0 * HP[0][c] + k1 * HP[1][c] + k2 * HP[2][c]) +
+                 (w0 * K[c][0] + w1 * K[c][1] + w2 * K[c][2]);
       P[r][c] = v;
       P[c][r] = v;
     }
+  }
 }
 
 static void
@@ -586,12 +610,18 @@ bf_update(double L[NS][NS], double l[NS], Upd *u)
   }
   /* LK = Lambda K (NS x 3); KLK = K^T Lambda K */
   double LK[NS][3], KLK[3][3], M[3][3];
-  for (int r = 0; r < NS; r++)
-    for (int c = 0; c < 3; c++) {
-      double acc = 0;
-      for (int k = 0; k < NS; k++) acc += L[r][k] * u->K[k][c];
-      LK[r][c] = acc;
+  for (int r = 0; r < NS; r++) {
+    double a0 = 0, a1 = 0, a2 = 0;
+    for (int k = 0; k < NS; k++) {
+      double lrk = L[r][k];
+      a0 += lrk * u->K[k][0];
+      a1 += lrk * u->K[k][1];
+      a2 += lrk * u->K[k][2];
     }
+    LK[r][0] = a0;
+    LK[r][1] = a1;
+    LK[r][2] = a2;
+  }
   for (int r = 0; r < 3; r++)
     for (int c = 0; c < 3; c++) {
       double acc = 0;
@@ -939,8 +969,9 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
     size_t imid = n / 2;
     for (size_t ii = n; ii-- > 0;) {
       size_t b = ii / B;
-      if (b != blk_loaded) {
-        /* Recompute the posterior covariances of this block from its checkpoint. */
+      if (B > 1 && b != blk_loaded) {
+        /* Recompute the posterior covariances of this block from its checkpoint (with B = 1
+         * every sample's is stored and read in place). */
         size_t i0 = b * B, i1 = i0 + B < n ? i0 + B : n;
         memcpy(Pblk[0], Pck[b], sizeof Pblk[0]);
         for (size_t i = i0 + 1; i < i1; i++) {
@@ -953,7 +984,7 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
         }
         blk_loaded = b;
       }
-      double (*Pk)[NS] = Pblk[ii - b * B];
+      double (*Pk)[NS] = B > 1 ? Pblk[ii - b * B] : Pck[ii];
       /* Smoothed error and covariance at this sample. */
       double d[NS];
       /* d = -P lambda as a sum of P's rows (P is exactly symmetric). */
@@ -1050,10 +1081,7 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
         Nom xn;
         nominal_step(&m, ii - 1, &xs[ii - 1], &xn, &T);
         apply_Ft_vec(&T, lam);
-        apply_Ft(&T, L);
-        transpose_sq(L);
-        apply_Ft(&T, L);
-        symmetrize(L);
+        congruence_Ft(&T, L);
       }
     }
     free(L);
