@@ -158,7 +158,9 @@ arcwise_bench_launch(int argc, char **argv)
              "Starts the workbench N times (default 10; needs a display, use tests/with-xvfb.sh\n"
              "on a headless machine) and prints the time from the spawn to the end of the first\n"
              "window frame in which the 3-D view has drawn, after a round trip to the display\n"
-             "server; with a stand-in library of N swings (default 1000, rows made in memory)\n"
+             "server (the first paint: the studio scene, the swing's path may still be loading in\n"
+             "its worker thread), and to the first frame with the selected swing drawn;\n"
+             "with a stand-in library of N swings (default 1000, rows made in memory)\n"
              "or a library file (make one with `arcwise bench library --swings 1000 --keep DIR`).\n"
              "Also the process's CPU seconds (every thread) to that frame, which a busy machine\n"
              "changes less than the wall clock. Goal: under 1 s.\n\n"
@@ -201,7 +203,7 @@ arcwise_bench_launch(int argc, char **argv)
   char **env = g_get_environ();
   env = g_environ_setenv(env, "GSETTINGS_BACKEND", "keyfile", TRUE);
   env = g_environ_setenv(env, "XDG_CONFIG_HOME", config, TRUE);
-  double wall[50], cpu[50];
+  double wall[50], cpu[50], swing_wall[50], swing_cpu[50];
   print_load("load-before");
   for (int r = 0; r < runs; r++) {
     g_autofree char *out = NULL;
@@ -224,15 +226,21 @@ arcwise_bench_launch(int argc, char **argv)
       return arcwise_cli_fail("bench launch", "%s", error->message);
     }
     const char *p = out ? strstr(out, "launch-to-drawn-window-s ") : NULL;
+    const char *q = out ? strstr(out, "launch-to-swing-drawn-s ") : NULL;
     const char *c = out ? strstr(out, "launch-phase first-3d-frame-shown") : NULL;
+    const char *d = out ? strstr(out, "launch-phase first-swing-drawn") : NULL;
     c = c ? strstr(c, "(cpu ") : NULL;
-    if (p == NULL || c == NULL) {
+    d = d ? strstr(d, "(cpu ") : NULL;
+    if (p == NULL || q == NULL || c == NULL || d == NULL) {
       g_strfreev(env);
       return arcwise_cli_fail("bench launch", "the workbench did not report a drawn frame");
     }
     wall[r] = g_ascii_strtod(p + strlen("launch-to-drawn-window-s "), NULL);
     cpu[r] = g_ascii_strtod(c + strlen("(cpu "), NULL);
-    printf("run %-2d                %.3f s  (cpu %.3f s)\n", r + 1, wall[r], cpu[r]);
+    swing_wall[r] = g_ascii_strtod(q + strlen("launch-to-swing-drawn-s "), NULL);
+    swing_cpu[r] = g_ascii_strtod(d + strlen("(cpu "), NULL);
+    printf("run %-2d                %.3f s  (cpu %.3f s); swing drawn %.3f s  (cpu %.3f s)\n",
+           r + 1, wall[r], cpu[r], swing_wall[r], swing_cpu[r]);
     if (r == runs - 1)
       for (const char *l = out; (l = strstr(l, "launch-phase ")) != NULL; l++) {
         const char *e = strchr(l, '\n');
@@ -247,10 +255,12 @@ arcwise_bench_launch(int argc, char **argv)
   g_rmdir(glib_dir);
   g_rmdir(config);
   print_load("load-after");
-  double best = INFINITY, best_cpu = INFINITY;
+  double best = INFINITY, best_cpu = INFINITY, best_swing = INFINITY, best_swing_cpu = INFINITY;
   for (int r = 0; r < runs; r++) {
     best = fmin(best, wall[r]);
     best_cpu = fmin(best_cpu, cpu[r]);
+    best_swing = fmin(best_swing, swing_wall[r]);
+    best_swing_cpu = fmin(best_swing_cpu, swing_cpu[r]);
   }
   printf("library               %s\n", library ? library : "stand-in (in memory)");
   if (library == NULL)
@@ -262,6 +272,10 @@ arcwise_bench_launch(int argc, char **argv)
   printf("launch-to-drawn-median %.3f s\n", arcwise_bench_quantile(wall, (size_t)runs, 0.5));
   printf("launch-cpu-best       %.3f s\n", best_cpu);
   printf("launch-cpu-median     %.3f s\n", arcwise_bench_quantile(cpu, (size_t)runs, 0.5));
-  printf("goal                  under 1 s (best): %s\n", best < 1.0 ? "met" : "NOT met");
+  printf("swing-drawn-best      %.3f s\n", best_swing);
+  printf("swing-drawn-median    %.3f s\n", arcwise_bench_quantile(swing_wall, (size_t)runs, 0.5));
+  printf("swing-drawn-cpu-best  %.3f s\n", best_swing_cpu);
+  printf("swing-drawn-cpu-median %.3f s\n", arcwise_bench_quantile(swing_cpu, (size_t)runs, 0.5));
+  printf("goal                  under 1 s (best, first paint): %s\n", best < 1.0 ? "met" : "NOT met");
   return 0;
 }

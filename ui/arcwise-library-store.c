@@ -57,18 +57,22 @@ arcwise_library_store_close(ArcwiseLibrarySource *src)
 
 typedef struct {
   ArcwiseLibrarySource *src;   /* borrowed: the source outlives the window's items */
+  char *path;                  /* the library file, for a worker thread's own connection */
   double club_length_m;
 } LoaderData;
 
-static ArcwiseSwingModel *
-store_loader(ArcwiseSwingItem *item, gpointer data, GError **error)
+static void
+loader_data_free(gpointer data)
 {
   LoaderData *ld = data;
-  if (ld->src->store == NULL) {
-    g_set_error(error, G_IO_ERROR, G_IO_ERROR_CLOSED, "the library is closed");
-    return NULL;
-  }
-  g_autoptr(ArcwiseSwingDetail) d = arcwise_store_load_swing(STORE(ld->src), item->swing_id, error);
+  g_free(ld->path);
+  g_free(ld);
+}
+
+static ArcwiseSwingModel *
+load_model(ArcwiseStore *store, ArcwiseSwingItem *item, const LoaderData *ld, GError **error)
+{
+  g_autoptr(ArcwiseSwingDetail) d = arcwise_store_load_swing(store, item->swing_id, error);
   if (d == NULL)
     return NULL;
   if (d->path == NULL || d->path->n < 2) {
@@ -94,6 +98,29 @@ store_loader(ArcwiseSwingItem *item, gpointer data, GError **error)
   if (m != NULL && d->swing != NULL)
     arcwise_swing_model_set_analysis(m, d->swing);
   return m;
+}
+
+/* On the main thread, through the window's connection. */
+static ArcwiseSwingModel *
+store_loader(ArcwiseSwingItem *item, gpointer data, GError **error)
+{
+  LoaderData *ld = data;
+  if (ld->src->store == NULL) {
+    g_set_error(error, G_IO_ERROR, G_IO_ERROR_CLOSED, "the library is closed");
+    return NULL;
+  }
+  return load_model(STORE(ld->src), item, ld, error);
+}
+
+/* In a worker thread: a read-only connection of its own (SQLite connections here are opened
+ * without a mutex and cache their statements, so the main one is never shared); the window's
+ * connection has already brought the file to the current schema. */
+static ArcwiseSwingModel *
+store_worker_loader(ArcwiseSwingItem *item, gpointer data, GError **error)
+{
+  LoaderData *ld = data;
+  g_autoptr(ArcwiseStore) store = arcwise_store_open(ld->path, ARCWISE_STORE_OPEN_READONLY, error);
+  return store ? load_model(store, item, ld, error) : NULL;
 }
 
 static char *
@@ -170,9 +197,11 @@ arcwise_library_store_list(ArcwiseLibrarySource *src, GError **error)
     it->notes = g_strdup(s->notes);
     LoaderData *ld = g_new0(LoaderData, 1);
     ld->src = src;
+    ld->path = g_strdup(src->path);
     const double *len = g_hash_table_lookup(club_len, &s->club_id);
     ld->club_length_m = len ? *len : (double)NAN;
-    arcwise_swing_item_set_loader(it, store_loader, ld, g_free);
+    arcwise_swing_item_set_loader(it, store_loader, ld, loader_data_free);
+    arcwise_swing_item_set_worker_loader(it, store_worker_loader);
     g_ptr_array_add(items, it);
   }
   g_hash_table_unref(handed);

@@ -111,6 +111,7 @@ demo_list(ArcwiseLibrarySource *src, GError **error)
       it->handed = demo_players[s->player].handed;
       it->title = g_strdup_printf("Swing %u · %s", i + 1, s->club);
       arcwise_swing_item_set_loader(it, demo_loader, GSIZE_TO_POINTER((gsize)(seed + i)), NULL);
+      arcwise_swing_item_set_worker_loader(it, demo_loader); /* the simulator: no shared state */
       g_ptr_array_add(items, it);
     }
     src->demo_items = items;

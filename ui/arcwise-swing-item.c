@@ -63,6 +63,64 @@ arcwise_swing_item_set_loader(ArcwiseSwingItem *item, ArcwiseSwingLoader loader,
   item->loader = loader;
   item->loader_data = data;
   item->loader_destroy = destroy;
+  item->worker_loader = NULL;
+}
+
+void
+arcwise_swing_item_set_worker_loader(ArcwiseSwingItem *item, ArcwiseSwingLoader loader)
+{
+  item->worker_loader = loader;
+}
+
+static const char load_tag = 0; /* the tasks' source tag (a data address, not a function) */
+
+static void
+load_thread(GTask *task, gpointer source, gpointer data, GCancellable *cancellable)
+{
+  ArcwiseSwingItem *item = source;
+  GError *error = NULL;
+  ArcwiseSwingModel *m = item->worker_loader(item, item->loader_data, &error);
+  if (m == NULL)
+    g_task_return_error(task, error);
+  else
+    g_task_return_pointer(task, m, (GDestroyNotify)arcwise_swing_model_free);
+}
+
+void
+arcwise_swing_item_load_model_async(ArcwiseSwingItem *item, GCancellable *cancellable,
+                                    GAsyncReadyCallback callback, gpointer user_data)
+{
+  g_autoptr(GTask) task = g_task_new(item, cancellable, callback, user_data);
+  g_task_set_source_tag(task, (gpointer)&load_tag);
+  if (item->model == NULL && item->worker_loader != NULL) {
+    g_task_run_in_thread(task, load_thread);
+    return;
+  }
+  /* Already loaded, or no thread-safe loader: the finish call loads on the main thread. */
+  g_task_return_pointer(task, NULL, NULL);
+}
+
+const ArcwiseSwingModel *
+arcwise_swing_item_load_model_finish(ArcwiseSwingItem *item, GAsyncResult *result,
+                                     GError **error)
+{
+  g_return_val_if_fail(g_task_is_valid(result, item), NULL);
+  GError *e = NULL;
+  ArcwiseSwingModel *m = g_task_propagate_pointer(G_TASK(result), &e);
+  if (e != NULL) {
+    /* A load done on the main thread meanwhile wins over the thread's failure. */
+    if (item->model != NULL) {
+      g_error_free(e);
+      return item->model;
+    }
+    g_propagate_error(error, e);
+    return NULL;
+  }
+  if (m != NULL && item->model == NULL)
+    item->model = m;
+  else
+    arcwise_swing_model_free(m);
+  return arcwise_swing_item_get_model(item, error);
 }
 
 const ArcwiseSwingModel *

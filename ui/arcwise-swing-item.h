@@ -50,6 +50,9 @@ struct _ArcwiseSwingItem {
   ArcwiseSwingLoader loader;
   gpointer loader_data;
   GDestroyNotify loader_destroy;
+  /* The same load, safe to run in a worker thread (it touches no main-thread connection and
+   * no item field but the immutable ones); NULL where there is none. Shares loader_data. */
+  ArcwiseSwingLoader worker_loader;
 };
 
 ArcwiseSwingItem *arcwise_swing_item_new(void);
@@ -57,6 +60,17 @@ ArcwiseSwingItem *arcwise_swing_item_new(void);
 const ArcwiseSwingModel *arcwise_swing_item_get_model(ArcwiseSwingItem *item, GError **error);
 void arcwise_swing_item_set_loader(ArcwiseSwingItem *item, ArcwiseSwingLoader loader,
                                    gpointer data, GDestroyNotify destroy);
+/* Also a loader that may run in a worker thread with the same data (set after the loader). */
+void arcwise_swing_item_set_worker_loader(ArcwiseSwingItem *item, ArcwiseSwingLoader loader);
+/* Loads the model in a GTask thread when the item has a worker loader (else on the main
+ * thread, from an idle callback); the item is kept alive meanwhile. The finish call stores
+ * the model in the item unless one was loaded there meanwhile (the thread's copy is then
+ * dropped), and returns the item's model, or NULL with the error. */
+void arcwise_swing_item_load_model_async(ArcwiseSwingItem *item, GCancellable *cancellable,
+                                         GAsyncReadyCallback callback, gpointer user_data);
+const ArcwiseSwingModel *arcwise_swing_item_load_model_finish(ArcwiseSwingItem *item,
+                                                              GAsyncResult *result,
+                                                              GError **error);
 /* Whether the item matches a search text (player, session, title, club, tags, notes). */
 gboolean arcwise_swing_item_matches(ArcwiseSwingItem *item, const char *needle_casefolded);
 /* Call after changing the coach's marks (rating, reference, tags, notes): rows showing the

@@ -5,7 +5,9 @@ gboolean
 arcwise_test_stage_ready(ArcwiseWindow *win)
 {
   ArcwiseStage *stage = arcwise_window_get_stage(win);
-  return arcwise_stage_get_frames(stage) > 0 || arcwise_stage_get_error_text(stage) != NULL;
+  /* The first swing's model loads in a worker thread: ready once it is on the stage too. */
+  return (arcwise_stage_get_frames(stage) > 0 && !arcwise_window_is_loading(win)) ||
+         arcwise_stage_get_error_text(stage) != NULL;
 }
 
 void

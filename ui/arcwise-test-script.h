@@ -8,7 +8,8 @@ G_BEGIN_DECLS
 /* Pieces shared by the scripted test hooks (arcwise-smoke.c, arcwise-export-test.c,
  * arcwise-library-test.c). */
 
-/* TRUE once the 3-D view has drawn a frame or failed with an error text. */
+/* TRUE once the 3-D view has drawn a frame and the swing picked is loaded, or the view failed
+ * with an error text. */
 gboolean arcwise_test_stage_ready(ArcwiseWindow *win);
 
 /* Presses the first-run caution's default button as a user would, and clears *caution

@@ -71,6 +71,8 @@ struct _ArcwiseWindow {
   ArcwiseSwingModel *other_shifted;  /* the comparison swing moved to share the address */
   GSettings *settings;
   GCancellable *import_cancellable;
+  GCancellable *load_cancellable;  /* the current swing's model, loading in a worker thread */
+  guint64 path_frames;            /* stage frames drawn when the current model went on it */
   ArcwiseLibrarySource *source;
   double t_s;
   gboolean playing;
@@ -463,21 +465,12 @@ update_compare(ArcwiseWindow *self)
 
 /* ---- selection ------------------------------------------------------------------------------ */
 
+/* Everything that shows the current swing's model (NULL: none, or not loaded yet). */
 static void
-show_item(ArcwiseWindow *self, ArcwiseSwingItem *item)
+show_model(ArcwiseWindow *self, const ArcwiseSwingModel *m)
 {
-  set_playing(self, FALSE);
-  g_set_object(&self->current, item);
-  const ArcwiseSwingModel *m = NULL;
-  if (item != NULL) {
-    g_autoptr(GError) error = NULL;
-    m = arcwise_swing_item_get_model(item, &error);
-    if (m == NULL)
-      gtk_label_set_text(self->empty_label, error->message);
-  } else
-    gtk_label_set_text(self->empty_label, "Pick a swing in the library, or bring in captures "
-                                          "by dropping them here.");
   arcwise_stage_set_swing(self->stage, 0, m);
+  self->path_frames = arcwise_stage_get_frames(self->stage);
   arcwise_timeline_set_model(self->timeline, m);
   self->t_s = 0;
   rebuild_compare_choices(self);
@@ -485,6 +478,80 @@ show_item(ArcwiseWindow *self, ArcwiseSwingItem *item)
   update_notes(self);
   update_compare(self);
   update_all(self);
+}
+
+static void
+model_loaded(GObject *source, GAsyncResult *res, gpointer data)
+{
+  ArcwiseSwingItem *item = ARCWISE_SWING_ITEM(source);
+  g_autoptr(GError) error = NULL;
+  const ArcwiseSwingModel *m = arcwise_swing_item_load_model_finish(item, res, &error);
+  if (g_error_matches(error, G_IO_ERROR, G_IO_ERROR_CANCELLED))
+    return;   /* another swing was picked meanwhile, or the window closed */
+  ArcwiseWindow *self = data;   /* alive: its dispose cancels the load */
+  g_clear_object(&self->load_cancellable);
+  if (item != self->current)
+    return;
+  if (m == NULL)
+    gtk_label_set_text(self->empty_label, error->message);
+  show_model(self, m);
+}
+
+/* A load still under way is finished here on the main thread (the worker's copy is dropped
+ * when it arrives), for callers that need the model now: the scripted tests' accessors. */
+static void
+finish_pending_load(ArcwiseWindow *self)
+{
+  if (self->load_cancellable == NULL)
+    return;
+  g_cancellable_cancel(self->load_cancellable);
+  g_clear_object(&self->load_cancellable);
+  g_autoptr(GError) error = NULL;
+  const ArcwiseSwingModel *m = self->current ? arcwise_swing_item_get_model(self->current, &error)
+                                             : NULL;
+  if (self->current != NULL && m == NULL)
+    gtk_label_set_text(self->empty_label, error->message);
+  show_model(self, m);
+}
+
+static void
+show_item(ArcwiseWindow *self, ArcwiseSwingItem *item)
+{
+  set_playing(self, FALSE);
+  if (self->load_cancellable != NULL) {
+    g_cancellable_cancel(self->load_cancellable);
+    g_clear_object(&self->load_cancellable);
+  }
+  g_set_object(&self->current, item);
+  if (item == NULL) {
+    gtk_label_set_text(self->empty_label, "Pick a swing in the library, or bring in captures "
+                                          "by dropping them here.");
+    show_model(self, NULL);
+    return;
+  }
+  if (item->model != NULL) {
+    show_model(self, item->model);
+    return;
+  }
+  /* The model (the stored fused path, or the demo's simulation) is made in a worker thread:
+   * the studio scene, the swing's name and its marks show at once, the path when it comes. */
+  gtk_label_set_text(self->empty_label, "Loading the swing…");
+  show_model(self, NULL);
+  self->load_cancellable = g_cancellable_new();
+  arcwise_swing_item_load_model_async(item, self->load_cancellable, model_loaded, self);
+}
+
+gboolean
+arcwise_window_is_loading(ArcwiseWindow *self)
+{
+  return self->load_cancellable != NULL;
+}
+
+gboolean
+arcwise_window_swing_drawn(ArcwiseWindow *self)
+{
+  return self->load_cancellable == NULL &&
+         arcwise_stage_get_frames(self->stage) > self->path_frames;
 }
 
 static void
@@ -498,6 +565,7 @@ void
 arcwise_window_select_index(ArcwiseWindow *self, guint index)
 {
   arcwise_library_browser_select_nth(self->library_box, index);
+  finish_pending_load(self);
 }
 
 guint
@@ -1235,6 +1303,10 @@ arcwise_window_dispose(GObject *object)
   }
   if (self->import_cancellable)
     g_cancellable_cancel(self->import_cancellable);
+  if (self->load_cancellable) {
+    g_cancellable_cancel(self->load_cancellable);
+    g_clear_object(&self->load_cancellable);
+  }
   g_clear_pointer(&self->exporter, arcwise_exporter_free);
   if (self->stage) {
     arcwise_stage_set_swing(self->stage, 0, NULL);
@@ -1368,6 +1440,7 @@ arcwise_window_new(ArcwiseApplication *app)
 double
 arcwise_window_get_duration(ArcwiseWindow *self)
 {
+  finish_pending_load(self);
   return duration(self);
 }
 
@@ -1386,6 +1459,7 @@ arcwise_window_get_swing_id(ArcwiseWindow *self)
 const ArcwiseSwingModel *
 arcwise_window_get_model(ArcwiseWindow *self)
 {
+  finish_pending_load(self);
   return current_model(self);
 }
 

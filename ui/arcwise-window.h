@@ -48,7 +48,13 @@ gint64 arcwise_window_get_swing_id(ArcwiseWindow *self);
 /* Every single-key binding of the window, as gtk_accelerator_name() spells it (free with
  * g_strfreev). */
 char **arcwise_window_list_keys(void);
+/* A pending load of the current swing's model is finished first (on the main thread). */
 const ArcwiseSwingModel *arcwise_window_get_model(ArcwiseWindow *self);
+/* The current swing's model is still loading in its worker thread. */
+gboolean arcwise_window_is_loading(ArcwiseWindow *self);
+/* No load is pending and the stage has drawn a frame since the current model (or none) went
+ * on it: what the window shows is the swing picked. */
+gboolean arcwise_window_swing_drawn(ArcwiseWindow *self);
 gboolean arcwise_window_bars_overlap(ArcwiseWindow *self);
 
 G_END_DECLS
