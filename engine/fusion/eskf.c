@@ -188,7 +188,33 @@ congruence_Ft(const Trans *T, double L[NS][NS])
   static const int urow[] = { IP, IP + 1, IP + 2, IL, IL + 1, IL + 2, IC };
   enum { NC = sizeof crow / sizeof crow[0], NU = sizeof urow / sizeof urow[0] };
   apply_Ft(T, L);
-  for (int a = 0; a < NC; a++) apply_Ft_vec(T, L[crow[a]]);
+  if (T->gap) {
+    for (int a = 0; a < NC; a++) apply_Ft_vec(T, L[crow[a]]);
+  } else {
+    /* Each row x of C times F: apply_Ft_vec with the step's blocks formed once. */
+    double dt = T->dt, h2 = 0.5 * dt * dt, Pth[3][3], Pba[3][3];
+    for (int r = 0; r < 3; r++)
+      for (int c = 0; c < 3; c++) { Pth[r][c] = 0.5 * dt * T->Vth[r][c]; Pba[r][c] = 0.5 * dt * T->Vba[r][c]; }
+    for (int a = 0; a < NC; a++) {
+      double *x = L[crow[a]];
+      const double *xp = &x[IP], *xv = &x[IV], *xt = &x[IT];
+      double nt[3], nba[3], nbg[3];
+      for (int c = 0; c < 3; c++) {
+        nt[c] = x[IT + c] + Pth[0][c] * xp[0] + Pth[1][c] * xp[1] + Pth[2][c] * xp[2] +
+                T->Vth[0][c] * xv[0] + T->Vth[1][c] * xv[1] + T->Vth[2][c] * xv[2];
+        nba[c] = x[IBA + c] + Pba[0][c] * xp[0] + Pba[1][c] * xp[1] + Pba[2][c] * xp[2] +
+                 T->Vba[0][c] * xv[0] + T->Vba[1][c] * xv[1] + T->Vba[2][c] * xv[2];
+        nbg[c] = x[IBG + c] + T->Tbg[0][c] * xt[0] + T->Tbg[1][c] * xt[1] + T->Tbg[2][c] * xt[2];
+      }
+      for (int c = 0; c < 3; c++) {
+        x[IDG + c] += h2 * xp[c] + dt * xv[c];
+        x[IBG + c] = nbg[c];
+        x[IBA + c] = nba[c];
+        x[IT + c] = nt[c];
+      }
+      for (int c = 0; c < 3; c++) x[IV + c] += dt * xp[c];
+    }
+  }
   for (int a = 0; a < NC; a++) {
     int r = crow[a];
     for (int b = 0; b < NU; b++) L[urow[b]][r] = L[r][urow[b]];
