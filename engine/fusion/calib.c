@@ -542,6 +542,157 @@ w_cost_rot(const WCtx *w, double shift, double (*F)[3], double (*A)[3], double *
   return J / (double)cnt;
 }
 
+/* Clock drift over a long recording. The rotation-only clock search (w_cost_rot) is repeated
+ * on consecutive windows of at most 20 s of frames near motion, each window with its own
+ * rotation and gravity (closed form), so the gyro chain's slow turning between windows does
+ * not matter; a straight line through the windows' shifts by weighted least squares gives the
+ * drift. Each window is searched around the shift the windows before it predict (a 4 ms grid
+ * over +-(12 ms + 400 ppm of the distance to the last window found), a parabola through the
+ * grid's best, one more at +-1.5 ms); its weight is the inverse of its shift's variance from the
+ * cost's curvature, as in clock_sigma. Windows more than 4 sigma + 2 ms off the line are
+ * dropped and the line refitted (twice). Needs three windows spanning at least 40 s; false
+ * otherwise (the constant shift stands). all: candidate frames in time order. */
+static bool
+calib_drift(const WCtx *w0, const size_t *all, size_t n_all, double best, double *a_out,
+            double *b_out, double *tref_out)
+{
+  const AwCamPrep *cam = w0->cam;
+  if (n_all < 60 || cam->t_s[all[n_all - 1]] - cam->t_s[all[0]] < 45.0) return false;
+  size_t cap = n_all;
+  double (*F)[3] = malloc(sizeof *F * cap), (*A)[3] = malloc(sizeof *A * cap);
+  double *e = malloc(sizeof *e * 2 * cap);
+  unsigned char *use = malloc(cap);
+  size_t nwin_max = (size_t)((cam->t_s[all[n_all - 1]] - cam->t_s[all[0]]) / 20.0) + 2;
+  double *ws = malloc(sizeof *ws * nwin_max), *wt = malloc(sizeof *wt * nwin_max);
+  double *wv = malloc(sizeof *wv * nwin_max);
+  bool ok = false;
+  if (!F || !A || !e || !use || !ws || !wt || !wv) goto done;
+  double per_window = fmax(1.0, 2.0 * cam->fit_half_s / cam->dt_nom_s);
+  size_t nw = 0;
+  double t_last = NAN;
+  for (size_t j0 = 0; j0 < n_all && nw < nwin_max;) {
+    size_t j1 = j0;
+    while (j1 < n_all && cam->t_s[all[j1]] < cam->t_s[all[j0]] + 20.0) j1++;
+    WCtx w = *w0;
+    w.frames = all + j0;
+    w.m = j1 - j0;
+    w.keep = NULL;
+    w.keep_out = NULL;
+    double tc = 0;
+    for (size_t j = j0; j < j1; j++) tc += cam->t_s[all[j]];
+    tc /= (double)(j1 - j0);
+    j0 = j1;
+    if (w.m < 60) continue;
+    /* prediction from the windows found so far: their weighted mean until they span 40 s,
+     * then their line */
+    double pred = best, W = 0, Wt = 0, Wo = 0, tlo = INFINITY, thi = -INFINITY;
+    for (size_t q = 0; q < nw; q++) {
+      W += wv[q]; Wt += wv[q] * wt[q]; Wo += wv[q] * ws[q];
+      tlo = fmin(tlo, wt[q]); thi = fmax(thi, wt[q]);
+    }
+    double dist = 0;
+    if (nw > 0) {
+      double tm = Wt / W, Wtt = 0, Wto = 0;
+      pred = Wo / W;
+      dist = fabs(tc - tm);
+      if (thi - tlo >= 40.0) {
+        for (size_t q = 0; q < nw; q++) {
+          Wtt += wv[q] * (wt[q] - tm) * (wt[q] - tm);
+          Wto += wv[q] * (wt[q] - tm) * ws[q];
+        }
+        if (Wtt > 0) { pred += Wto / Wtt * (tc - tm); dist = fabs(tc - t_last); }
+      }
+    }
+    double r = fmin(0.25, 0.015 + 2.5e-4 * dist);
+    const double h = 0.003;
+    enum { FIT = 4 };
+    int half = (int)ceil(r / h) + FIT;
+    double cost[2 * 90 + 2 * FIT + 1];
+    if (half > 90 + FIT) half = 90 + FIT;
+    int jb = 0;
+    for (int j = -half; j <= half; j++) {
+      cost[j + half] = w_cost_rot(&w, pred + h * j, F, A, e, use);
+      if (cost[j + half] < cost[jb + half] || j == -half) jb = j;
+    }
+    if (!isfinite(cost[jb + half]) || jb - FIT < -half || jb + FIT > half) continue;
+    /* least-squares parabola through the 2 FIT + 1 grid points around the best: the trimmed
+     * cost jumps a little between shifts, which a three-point parabola would follow */
+    double S[5] = { 0 }, T[3] = { 0 };
+    bool fin = true;
+    for (int j = -FIT; j <= FIT; j++) {
+      double x = j, y = cost[jb + j + half];
+      if (!isfinite(y)) { fin = false; break; }
+      double xp = 1;
+      for (int p = 0; p < 5; p++) { S[p] += xp; if (p < 3) T[p] += xp * y; xp *= x; }
+    }
+    if (!fin) continue;
+    /* symmetric points: S1 = S3 = 0, so c1 = T1 / S2 and (c0, c2) from the even equations */
+    double c1 = T[1] / S[2];
+    double det = S[0] * S[4] - S[2] * S[2];
+    double c2 = (S[0] * T[2] - S[2] * T[0]) / det, c0 = (T[0] - c2 * S[2]) / S[0];
+    if (!(c2 > 0)) continue;
+    double xv = -c1 / (2 * c2);
+    if (fabs(xv) > FIT) continue;
+    double sh = pred + h * (jb + xv);
+    double cmin = c0 - c1 * c1 / (4 * c2);
+    double d2 = 2 * c2 / (h * h);
+    /* variance from the curvature: the mean cost's second derivative times the frames (one
+     * independent residual per fit window), residual variance per component cmin / 3 */
+    double var = 2.0 * (fmax(cmin, 1e-6) / 3.0) / ((double)w.m * d2) * per_window + 1e-8;
+    ws[nw] = sh;
+    wt[nw] = tc;
+    wv[nw] = 1.0 / var;
+    nw++;
+    t_last = tc;
+  }
+  if (nw < 3) goto done;
+  /* Outliers (a window locked on a wrong basin) by Siegel's repeated-median line (A. F. Siegel,
+   * "Robust regression using repeated medians", Biometrika 69(1):242-244, 1982; breakdown
+   * point 50 %): windows more than max(3 ms, 3 x 1.4826 x the median absolute residual) off it
+   * are dropped, then the weighted least-squares line through the rest. */
+  double *sl = e, *sl2 = e + nw;   /* scratch: 2 nw <= 2 cap */
+  for (size_t i = 0; i < nw; i++) {
+    size_t k = 0;
+    for (size_t j = 0; j < nw; j++)
+      if (j != i && wt[j] != wt[i]) sl[k++] = (ws[j] - ws[i]) / (wt[j] - wt[i]);
+    sl2[i] = k ? select_kth(sl, k, k / 2) : 0;
+  }
+  double b_rm = select_kth(sl2, nw, nw / 2);
+  for (size_t i = 0; i < nw; i++) sl[i] = ws[i] - b_rm * wt[i];
+  double a_rm = select_kth(sl, nw, nw / 2);
+  for (size_t i = 0; i < nw; i++) sl[i] = fabs(ws[i] - a_rm - b_rm * wt[i]);
+  double lim = fmax(0.003, 3.0 * 1.4826 * select_kth(sl, nw, nw / 2));
+  for (size_t i = 0; i < nw; i++)
+    if (fabs(ws[i] - a_rm - b_rm * wt[i]) > lim) wv[i] = 0;
+  double a = 0, b = 0, tref = 0;
+  bool fit = false;
+  {
+    double W = 0, Wt = 0;
+    size_t used = 0;
+    for (size_t q = 0; q < nw; q++) if (wv[q] > 0) { W += wv[q]; Wt += wv[q] * wt[q]; used++; }
+    if (used >= 3 && W > 0) {
+      tref = Wt / W;
+      double Wo = 0, Wtt = 0, Wto = 0, tlo = INFINITY, thi = -INFINITY;
+      for (size_t q = 0; q < nw; q++) {
+        if (!(wv[q] > 0)) continue;
+        double dt = wt[q] - tref;
+        Wo += wv[q] * ws[q]; Wtt += wv[q] * dt * dt; Wto += wv[q] * dt * ws[q];
+        tlo = fmin(tlo, wt[q]); thi = fmax(thi, wt[q]);
+      }
+      if (Wtt > 0 && thi - tlo >= 40.0) { b = Wto / Wtt; a = Wo / W; fit = true; }
+    }
+  }
+  if (fit && fabs(b) <= 5e-4) {
+    *a_out = a;
+    *b_out = b;
+    *tref_out = tref;
+    ok = true;
+  }
+done:
+  free(F); free(A); free(e); free(use); free(ws); free(wt); free(wv);
+  return ok;
+}
+
 static double
 w_resid(const WCtx *w, double shift, double q_out[4], double g_out[3], double l_out[3])
 {
@@ -637,14 +788,17 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
           t_next[k] = last;
         }
       }
+      /* frames: the first 20 s for the clock search; all_f: every candidate, for the drift */
+      size_t *all_f = malloc(sizeof *all_f * (cam->n ? cam->n : 1)), n_all = 0;
       for (size_t k = 0; k < cam->n; k++) {
         if (!cam->acc_ok[k]) continue;
         double tk = cam->t_s[k];
         if (n_ok < 2 || tk - 0.25 < tau[0] || tk + 0.25 > tau[n_ok - 1] || tk < t_motion) continue;
         if (t_prev && t_next && tk - t_prev[k] > 2.0 && t_next[k] - tk > 2.0) continue;
         if (isnan(t_first0)) t_first0 = tk;
-        if (tk > t_first0 + 20.0) break;
-        frames[m0++] = k;
+        if (all_f) all_f[n_all++] = k;
+        if (tk <= t_first0 + 20.0) frames[m0++] = k;
+        else if (!all_f) break;
       }
       free(t_prev);
       free(t_next);
@@ -713,6 +867,12 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
         w.keep = keep;
         if (jb >= 0 && isfinite(r0)) {
           out->clock_shift_s = best;
+          double da, db, dref;
+          if (all_f && calib_drift(&w, all_f, n_all, best, &da, &db, &dref)) {
+            out->clock_shift_s = da;
+            out->clock_drift = db;
+            out->clock_ref_s = dref;
+          }
           /* The rotation, gravity and lever arm of the joint solution at that shift. */
           double qq[4], gg[3], ll[3];
           if (isfinite(w_resid(&w, best, qq, gg, ll))) {
@@ -728,6 +888,7 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
       }
       w_tables_free(&w);
       free(Rb0);
+      free(all_f);
     }
     free(pb0);
     free(frames);
@@ -750,9 +911,9 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
     double tk = cam->t_s[k];
     if (n_ok < 2 || tk + h > tau[n_ok - 1] || tk < t_motion) continue;
     if (!isnan(t_first) && tk > t_first + 20.0) break;
-    double fm[3];
+    double fm[3], sh_k = out->clock_shift_s + out->clock_drift * (tk - out->clock_ref_s);
     if (!aw_fusion_box_mean(tau, cum, fb0, n_ok,
-                            tk - out->clock_shift_s - h, tk - out->clock_shift_s + h, &hint, fm))
+                            tk - sh_k - h, tk - sh_k + h, &hint, fm))
       continue;
     if (isnan(t_first)) t_first = tk;
     aw_v3_copy(A[m], cam->acc_m_s2[k]);

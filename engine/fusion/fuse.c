@@ -209,9 +209,15 @@ aw_fuse(const AwImuStream *imu, const AwDepthStream *depth, const AwFusionSettin
   if (st != AW_OK) goto fail;
   lap(times, AW_FUSION_STAGE_CALIB, &mark);
   /* The calibration's vector match refines the clock: shift the IMU grid by it. */
-  rep->clock_offset_s += cal.clock_shift_s;
+  /* tau + shift + d (tau - ref) = t_imu (1 + drift)(1 + d) + offset (1 + d) + shift - d ref */
+  rep->clock_offset_s = rep->clock_offset_s * (1 + cal.clock_drift) + cal.clock_shift_s -
+                        cal.clock_drift * cal.clock_ref_s;
+  rep->clock_drift = (1 + rep->clock_drift) * (1 + cal.clock_drift) - 1;
   rep->clock_calib_sigma_s = cal.clock_sigma_s;
-  for (size_t i = 0; i < imu->n; i++) { tau[i] += cal.clock_shift_s; path->t_s[i] = tau[i]; }
+  for (size_t i = 0; i < imu->n; i++) {
+    tau[i] += cal.clock_shift_s + cal.clock_drift * (tau[i] - cal.clock_ref_s);
+    path->t_s[i] = tau[i];
+  }
   rep->still_found = cal.still_found;
   memcpy(rep->q_cam_body0, cal.q_cam_body0, sizeof cal.q_cam_body0);
   memcpy(rep->gyro_bias_rad_s, cal.gyro_bias_rad_s, sizeof cal.gyro_bias_rad_s);

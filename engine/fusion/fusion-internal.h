@@ -106,6 +106,10 @@ typedef struct {
                                  from the curvature of the vector-fit cost at its minimum with
                                  one independent residual per camera fit window; 0 = the
                                  refinement did not run (then the sync's sigma stands) */
+  double clock_drift;         /* refinement of the drift: the shift at depth time t is
+                                 clock_shift_s + clock_drift (t - clock_ref_s); 0 on recordings
+                                 under a minute (or when the windows disagree) */
+  double clock_ref_s;         /* depth time at which clock_shift_s holds */
   double lever_body_m[3];     /* keypoint relative to the IMU from the joint solution */
   bool have_joint;
 } AwCalib;

@@ -596,9 +596,10 @@ fault_never_still(void)
 
 /* Clock drift of +-100 ppm (the issue's range; quartz oscillators are specified to tens of ppm,
  * common practice) on a session of several shots over more than a minute: the simulator's
- * drift is set to 0 and the IMU clock rescaled by hand, so the drift is known exactly. Stage 1
- * must return it within 20 ppm and the offset at mid-recording within 5 ms (100 ppm over the
- * session is several milliseconds end to end, so a drift taken as 0 fails both). */
+ * drift is set to 0 and the IMU clock rescaled by hand, so the drift is known exactly. The
+ * fused report must give it within 20 ppm and the offset at mid-recording within 2 ms (100 ppm
+ * over the session is several milliseconds end to end, so a drift taken as 0 fails both; it
+ * did before the calibration estimated the drift). Stage 1's own figures are printed only. */
 static void
 fault_clock_drift(void)
 {
@@ -634,15 +635,19 @@ fault_clock_drift(void)
             "error %+.2f ms (%s)\n", span, d * 1e6, rep.clock_drift * 1e6,
             1e3 * (off_mid - true_mid), st == AW_OK ? "ok" : err.message);
     AwFusedPath *p = NULL;
-    if (aw_fuse(imu, dep, &s, &p, &err) == AW_OK) {
+    AW_CHECK(aw_fuse(imu, dep, &s, &p, &err) == AW_OK);
+    AW_CHECK(span > 60);
+    if (p != NULL) {
+      /* The pipeline's answer (stage 1's 30 s segment offsets only start it; the calibration's
+       * windowed vector fit sets the drift). Tolerances: 20 ppm is a fifth of the largest drift
+       * the issue names; 2 ms at mid-recording is its clock-offset floor. */
       double fm = p->report.clock_offset_s + p->report.clock_drift * tm;
       fprintf(stderr, "  fused: drift %+.1f ppm, offset at mid-recording error %+.2f ms\n",
               p->report.clock_drift * 1e6, 1e3 * (fm - true_mid));
+      AW_CHECK_NEAR(p->report.clock_drift, d, 20e-6);
+      AW_CHECK_NEAR(fm, true_mid, 0.002);
       aw_fused_path_free(p);
     }
-    AW_CHECK(span > 60);
-    AW_CHECK_NEAR(rep.clock_drift, d, 20e-6);
-    AW_CHECK_NEAR(off_mid, true_mid, 0.005);
     aw_imu_stream_free(imu);
     aw_sim_free(sim);
   }
