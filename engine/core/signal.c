@@ -281,7 +281,7 @@ aw_filtfilt(const double *b, const double *a, int n_coeffs, const double *x, siz
     e[pad + i] = x[i * x_stride];
   for (size_t i = 0; i < pad; i++)
     e[pad + n + i] = 2 * xl - x[(n - 2 - i) * x_stride];
-  double zi[AW_BUTTER_MAX_ORDER], z[AW_BUTTER_MAX_ORDER];
+  double zi[AW_BUTTER_MAX_ORDER] = { 0 }, z[AW_BUTTER_MAX_ORDER] = { 0 };
   AwStatus st = AW_OK;
   if (n_coeffs > 1) {
     st = lfilter_zi(b, a, n_coeffs, zi);
