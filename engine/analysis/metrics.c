@@ -151,7 +151,13 @@ aw_an_swing_metrics(const AwAnWork *w, AwSwing *s)
 
   /* Club head: the lever on the angular rate about the downswing plane's normal. */
   double omega_perp = AN_NAN;
-  if (tr->gyro_body_rad_s != NULL && tr->q_f_body != NULL && have_down) {
+  /* A gyro axis at full scale just before contact reads the rate short: the rate about the
+   * plane's normal is then only a lower bound, and the path's own turning rate is used. */
+  bool gyro_clipped = false;
+  if (tr->gyro_body_rad_s != NULL && tr->gyro_range_rad_s > 0)
+    for (int a = 0; a < 3; a++)
+      gyro_clipped |= fabs(tr->gyro_body_rad_s[i_pre][a]) >= 0.995 * tr->gyro_range_rad_s;
+  if (tr->gyro_body_rad_s != NULL && tr->q_f_body != NULL && have_down && !gyro_clipped) {
     size_t i0 = i_pre, i1 = i_pre;
     double acc = 0;
     size_t c = 0;

@@ -182,6 +182,54 @@ typedef struct {
   size_t n_looked;
 } FindStats;
 
+/* The specific force at sample i in the trajectory frame (with the watch's orientation), or
+ * its magnitude in component 0 when there is none. */
+static void
+force_at(const AwAnWork *w, size_t i, double f[3])
+{
+  const double (*a)[3] = w->traj->accel_body_m_s2;
+  const double (*q)[4] = w->traj->q_f_body;
+  if (q != NULL) {
+    aw_quat_rotate(f, q[i], a[i]);
+  } else {
+    f[0] = aw_v3_norm(a[i]);
+    f[1] = f[2] = 0;
+  }
+}
+
+/* Change of the force's level across sample k: straight lines (least squares) through the
+ * four samples k-5..k-2 and through k+2..k+5, each evaluated at k; the distance between the two
+ * values. Samples k-1..k+1, which a transient at k (or straddling k and a neighbour) occupies,
+ * are left out. NaN when the recording is too short on either side. */
+static double
+force_level_change(const AwAnWork *w, size_t k)
+{
+  const double *t = w->traj->t_s;
+  if (k < 5 || k + 5 >= w->n)
+    return AN_NAN;
+  double lv[2][3];
+  for (int side = 0; side < 2; side++) {
+    size_t i0 = side ? k + 2 : k - 5;
+    double st = 0, stt = 0, sf[3] = { 0, 0, 0 }, stf[3] = { 0, 0, 0 };
+    for (size_t i = i0; i < i0 + 4; i++) {
+      double f[3], u = t[i] - t[k];
+      force_at(w, i, f);
+      st += u;
+      stt += u * u;
+      for (int c = 0; c < 3; c++) {
+        sf[c] += f[c];
+        stf[c] += u * f[c];
+      }
+    }
+    double den = 4 * stt - st * st;
+    for (int c = 0; c < 3; c++) {
+      double slope = den > 0 ? (4 * stf[c] - st * sf[c]) / den : 0;
+      lv[side][c] = (sf[c] - slope * st) / 4; /* the line's value at u = 0 */
+    }
+  }
+  return aw_v3_dist(lv[0], lv[1]);
+}
+
 /* The impact transient: the sample where the specific force departs most sharply from its
  * neighbours (second difference), if it stands well above the local roughness. */
 static bool
@@ -248,6 +296,13 @@ find_contact(const AwAnWork *w, size_t i_lo, size_t i_hi, size_t r_lo, size_t r_
    * 1 % of the hands' speed per sample, where a ball costs several per cent (settings). */
   if (ok && !(best * w->dt_s >= w->set->contact_min_loss * w->speed[kbest]))
     ok = false;
+  /* An impulse, not a change of the motion: the force's level after the transient is the
+   * level before it (settings: contact_level_ratio). */
+  if (ok) {
+    double level = force_level_change(w, kbest);
+    if (isfinite(level) && !(best > w->set->contact_level_ratio * level))
+      ok = false;
+  }
   if (ok) {
     /* A contact of a few ms falls inside one anti-aliased sample or straddles two: centroid of
      * the excess roughness over the peak and its neighbours. */

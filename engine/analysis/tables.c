@@ -110,7 +110,8 @@ static const char *const note_texts[AW_NOTE_NOTE_COUNT_] = {
   "The hand position is uncertain by more than 2 cm on average; move the camera closer or "
   "keep the lead wrist in view.",
   "No ball contact was felt by the watch; impact is estimated from the hand path.",
-  "Club-head speed is estimated from the curve of the hand path, without the watch's rotation.",
+  "Club-head speed is estimated from the curve of the hand path, without the watch's rotation "
+  "(none recorded, or at the limit of its range).",
   "There is no watch data in this swing.",
 };
 
@@ -154,5 +155,14 @@ aw_analysis_settings_default(AwAnalysisSettings *out)
    * missed costs more (impact timed from the path, a struck shot called practice) than a
    * practice swing left unflagged. */
   out->contact_min_loss = 0.02;
+  /* A ball's impulse lasts about half a millisecond (figure from memory): the force on the
+   * wrist departs from its course and returns to it well within one sample, so the level of
+   * the force before and after the transient is the same. A change of level of size S (the
+   * hands' own acceleration changing, as at the low point of a swing without a ball), averaged
+   * by the anti-aliasing over the sample it falls in, leaves a second difference of S/4 (the
+   * step half-way through a sample) to S/2 (on a sample boundary): a transient no larger than a
+   * quarter of the level change across it needs no impulse to explain it. This bound follows
+   * from the sampling alone, not from any set of swings. */
+  out->contact_level_ratio = 0.25;
   out->club_arm_rate_ratio = 2.1;
 }

@@ -107,8 +107,13 @@ check_session(uint64_t seed, AwSimLevel level, bool left)
             AW_CHECK_NEAR(w->events[AW_EVENT_IMPACT].t_s, ts->t_impact_s, 0.02);
           AW_CHECK(w->half == ts->half || !ts->practice);
           AW_CHECK(w->t_start_s <= ts->t_takeaway_s && w->t_end_s >= ts->t_finish_s - 0.2);
-          if (!ts->practice)
-            AW_CHECK(!w->practice);
+          /* The practice flag both ways: a shot is never called practice, and a swing without
+           * a ball (half or full) is (no contact transient; README "Finding swings"). */
+          AW_CHECK(w->practice == ts->practice);
+          if (w->practice != ts->practice)
+            fprintf(stderr, "seed %llu swing %zu (%s%s) at %.2f s flagged %s\n",
+                    (unsigned long long)seed, s, ts->practice ? "practice" : "shot",
+                    ts->half ? ", half" : "", ts->t_impact_s, w->practice ? "practice" : "struck");
         }
       }
       if (hits != 1)

@@ -123,6 +123,9 @@ typedef struct {
   double impact_snr;             /* accelerometer transient / local noise needed for contact */
   double contact_min_loss;       /* a contact transient is a velocity change of at least this
                                     fraction of the hands' speed within one sample */
+  double contact_level_ratio;    /* a transient no larger than this fraction of the change of
+                                    the force's level across it is that level change (the
+                                    motion's own), not a ball's impulse */
   /* Club-head lever: the club's angular rate at impact over the lead arm's (the watch's), the
    * wrist's release on top of the arm's turn. Default 2.1 from segment peak rates (club about
    * 2000-2500 deg/s, lead arm 800-1300 deg/s, REFERENCES.md §6, values from memory). */
@@ -221,7 +224,7 @@ enum {
   AW_NOTE_SYNC_WEAK        = 1u << 4,  /* the two clocks could not be matched with confidence */
   AW_NOTE_LARGE_SIGMA      = 1u << 5,  /* mean position uncertainty above 2 cm */
   AW_NOTE_IMPACT_ESTIMATED = 1u << 6,  /* no ball contact felt: impact estimated from the path */
-  AW_NOTE_CLUB_FROM_PATH   = 1u << 7,  /* club speed from path curvature, no watch rate */
+  AW_NOTE_CLUB_FROM_PATH   = 1u << 7,  /* club speed from path curvature: no watch rate, or clipped */
   AW_NOTE_NO_IMU           = 1u << 8,  /* no watch data in this swing */
   AW_NOTE_NOTE_COUNT_      = 9
 };
