@@ -281,6 +281,35 @@ test_metrics_100hz(void)
   aw_analysis_free(pr);
   path_free(&Pr);
 
+  /* A gyro at full scale just before contact reads the rate short: the club-head speed then
+   * comes from the path's turning rate (on this circular arc exactly omega_imp), with the note
+   * that says so, instead of from the clipped reading (which would give v_imp + 2.1 * 12 * 1 m). */
+  {
+    Path Pc = { 0 };
+    sample_swing(&Pc, &s, I3, Z3, 0.0, 0.0, test_swing_t_end(&s));
+    fill_imu(&Pc, &s, 0.0, test_swing_t_impact(&s));
+    const double range = 12.0; /* rad/s, below the arm's 19.5 rad/s at impact */
+    for (size_t i = 0; i < Pc.n; i++)
+      for (int ax = 0; ax < 3; ax++)
+        Pc.gyro[i][ax] = fmax(-range, fmin(range, Pc.gyro[i][ax]));
+    AwTrajectory trc;
+    traj_of(&Pc, UP, &trc);
+    trc.gyro_range_rad_s = range;
+    AwAnalysis *ac = NULL;
+    AwError errc;
+    AwAnalysisSettings setc = set;
+    setc.club_length_m = 1.0;
+    AW_CHECK(aw_analyze(&trc, &setc, &ac, &errc) == AW_OK);
+    if (ac != NULL && ac->n_swings == 1) {
+      double w_imp_c = 2 * s.top_angle_rad / s.downswing_s, v_imp_c = s.radius_m * w_imp_c;
+      AW_CHECK_NEAR(ac->swings[0].metrics[AW_METRIC_CLUB_SPEED_IMPACT_M_S] /
+                      (v_imp_c + setc.club_arm_rate_ratio * w_imp_c * 1.0), 1.0, 0.05);
+      AW_CHECK(ac->swings[0].quality.notes & AW_NOTE_CLUB_FROM_PATH);
+    }
+    aw_analysis_free(ac);
+    path_free(&Pc);
+  }
+
   /* The motion's own change of the force's level is not a ball (settings:
    * contact_level_ratio): the specific force falls by 300 m/s^2 (about the centripetal force of
    * this 14.6 m/s arc of 0.75 m) in a straight line over 30 ms from impact on and stays there,
