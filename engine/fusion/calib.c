@@ -124,13 +124,6 @@ aw_fusion_wahba(double B[3][3], double q[4])
   aw_quat_normalize(q);
 }
 
-static int
-cmp_dbl(const void *a, const void *b)
-{
-  double x = *(const double *)a, y = *(const double *)b;
-  return (x > y) - (x < y);
-}
-
 /* Camera-fit operator applied to the double integral of f_b0 (exact for f linear between
  * samples), so both sides of a_cam = R f_b0 + g pass through the same linear filter. */
 typedef struct {
@@ -364,8 +357,7 @@ w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[
           ev[j] = aw_v3_norm(e);
           e2[c2++] = ev[j];
         }
-        qsort(e2, c2, sizeof *e2, cmp_dbl);
-        double lim = 3.0 * e2[c2 / 2] + 0.5;
+        double lim = 3.0 * aw_fusion_kth(e2, c2, c2 / 2) + 0.5;
         size_t kept = 0;
         for (size_t j = 0; j < w->m; j++) if (ok[j] && ev[j] <= lim) kept++;
         if (kept >= 10) {
@@ -478,26 +470,6 @@ rot_fit(const double (*F)[3], const double (*A)[3], const unsigned char *use, si
   return fmax(0.0, sff + saa - 2 * lam);
 }
 
-/* k-th smallest of v[0..n) (v reordered; Hoare's selection). */
-static double
-select_kth(double *v, size_t n, size_t k)
-{
-  size_t lo = 0, hi = n - 1;
-  while (lo < hi) {
-    double piv = v[(lo + hi) / 2];
-    size_t i = lo, j = hi;
-    while (i <= j) {
-      while (v[i] < piv) i++;
-      while (v[j] > piv) j--;
-      if (i <= j) { double t = v[i]; v[i] = v[j]; v[j] = t; i++; if (j == 0) break; j--; }
-    }
-    if (k <= j) hi = j;
-    else if (k >= i) lo = i;
-    else break;
-  }
-  return v[k];
-}
-
 /* Rotation-only cost at a clock shift (mean squared residual), closed form, with one trimmed
  * round as in the joint fit (frames beyond 3 medians + 0.5 m/s^2 dropped: snapped or
  * mis-detected keypoints would otherwise pull the basin). INFINITY below 10 frames. Scratch:
@@ -531,7 +503,7 @@ w_cost_rot(const WCtx *w, double shift, double (*F)[3], double (*A)[3], double *
     }
     double *tmp = e + m;   /* second half of the scratch */
     memcpy(tmp, e, sizeof *e * m);
-    double lim = 3.0 * select_kth(tmp, m, m / 2) + 0.5;
+    double lim = 3.0 * aw_fusion_kth(tmp, m, m / 2) + 0.5;
     size_t kept = 0;
     for (size_t j = 0; j < m; j++) kept += e[j] <= lim;
     if (kept >= 10 && kept < m) {
@@ -655,13 +627,13 @@ calib_drift(const WCtx *w0, const size_t *all, size_t n_all, double best, double
     size_t k = 0;
     for (size_t j = 0; j < nw; j++)
       if (j != i && wt[j] != wt[i]) sl[k++] = (ws[j] - ws[i]) / (wt[j] - wt[i]);
-    sl2[i] = k ? select_kth(sl, k, k / 2) : 0;
+    sl2[i] = k ? aw_fusion_kth(sl, k, k / 2) : 0;
   }
-  double b_rm = select_kth(sl2, nw, nw / 2);
+  double b_rm = aw_fusion_kth(sl2, nw, nw / 2);
   for (size_t i = 0; i < nw; i++) sl[i] = ws[i] - b_rm * wt[i];
-  double a_rm = select_kth(sl, nw, nw / 2);
+  double a_rm = aw_fusion_kth(sl, nw, nw / 2);
   for (size_t i = 0; i < nw; i++) sl[i] = fabs(ws[i] - a_rm - b_rm * wt[i]);
-  double lim = fmax(0.003, 3.0 * 1.4826 * select_kth(sl, nw, nw / 2));
+  double lim = fmax(0.003, 3.0 * 1.4826 * aw_fusion_kth(sl, nw, nw / 2));
   for (size_t i = 0; i < nw; i++)
     if (fabs(ws[i] - a_rm - b_rm * wt[i]) > lim) wv[i] = 0;
   double a = 0, b = 0, tref = 0;
@@ -974,11 +946,7 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
       double *tmp = malloc(sizeof *tmp * m);
       if (tmp) {
         memcpy(tmp, res, sizeof *tmp * m);
-        /* median by partial selection sort is fine for a few hundred values; use nth via qsort */
-        for (size_t a = 0; a <= m / 2; a++)
-          for (size_t b = a + 1; b < m; b++)
-            if (tmp[b] < tmp[a]) { double t = tmp[a]; tmp[a] = tmp[b]; tmp[b] = t; }
-        double med = tmp[m / 2];
+        double med = aw_fusion_kth(tmp, m, m / 2);
         free(tmp);
         for (size_t i = 0; i < m; i++) use[i] = res[i] <= 3.0 * med + 0.5;
       }

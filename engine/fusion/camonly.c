@@ -112,13 +112,6 @@ noise_var(const AwFusionSettings *s, const double scale[2], const double p[3], d
   var[2] = sz * sz * w;
 }
 
-static int
-cmp_d(const void *a, const void *b)
-{
-  double x = *(const double *)a, y = *(const double *)b;
-  return (x > y) - (x < y);
-}
-
 static double
 estimate_jerk_psd(const AwCamPrep *cam, const AwFusionSettings *s)
 {
@@ -150,8 +143,7 @@ estimate_jerk_psd(const AwCamPrep *cam, const AwFusionSettings *s)
     double *t = malloc(sizeof *t * m);
     if (t) {
       memcpy(t, e, sizeof *t * m);
-      qsort(t, m, sizeof *t, cmp_d);
-      double med = fabs(t[m / 2]) + 1e-12, acc = 0;
+      double med = fabs(aw_fusion_kth(t, m, m / 2)) + 1e-12, acc = 0;
       size_t c = 0;
       for (size_t i = 0; i < m; i++) if (e[i] < 50 * med) { acc += e[i]; c++; }
       free(t);

@@ -84,6 +84,9 @@ bool aw_fusion_box_mean(const double *t, const void *cum_v, const void *x_v, siz
                         double t0, double t1, size_t *hint, double out[3]);
 /* Index of the last sample with t[i] <= x (0 if x < t[0]); hint as above. */
 size_t aw_fusion_locate(const double *t, size_t n, double x, size_t *hint);
+/* The k-th smallest of v[0..n) (k < n, counted from 0): the value a sort would put at v[k], for
+ * medians without sorting (v is reordered). Average O(n). */
+double aw_fusion_kth(double *v, size_t n, size_t k);
 
 /* Stage 1: clock offset and drift. Also returns a first estimate of gravity in the camera frame
  * (m/s^2, pointing down). */

@@ -4,14 +4,35 @@
 #include "fusion-internal.h"
 
 #include <math.h>
+#include <stddef.h>
 #include <stdlib.h>
 #include <string.h>
 
-static int
-cmp_double(const void *a, const void *b)
+double
+aw_fusion_kth(double *v, size_t n, size_t k)
 {
-  double x = *(const double *)a, y = *(const double *)b;
-  return (x > y) - (x < y);
+  /* Hoare's partition around the current k-th entry, keeping the side that holds k (N. Wirth,
+   * "Algorithms + Data Structures = Programs", 1976, section 2.3.4). Signed indices: j may step
+   * below the range. */
+  ptrdiff_t l = 0, r = (ptrdiff_t)n - 1, kk = (ptrdiff_t)k;
+  while (l < r) {
+    double x = v[kk];
+    ptrdiff_t i = l, j = r;
+    do {
+      while (v[i] < x) i++;
+      while (x < v[j]) j--;
+      if (i <= j) {
+        double t = v[i];
+        v[i] = v[j];
+        v[j] = t;
+        i++;
+        j--;
+      }
+    } while (i <= j);
+    if (j < kk) l = i;
+    if (kk < i) r = j;
+  }
+  return v[kk];
 }
 
 /* Median of the positive successive differences of t (robust nominal interval). */
@@ -26,8 +47,7 @@ median_interval(const double *t, size_t n)
   double *d = malloc(sizeof *d * (m / stride + 1));
   if (!d) return 0;
   for (size_t i = 0; i < m; i += stride) d[k++] = t[i + 1] - t[i];
-  qsort(d, k, sizeof *d, cmp_double);
-  double r = d[k / 2];
+  double r = aw_fusion_kth(d, k, k / 2);
   free(d);
   return r;
 }
@@ -51,8 +71,7 @@ timestamp_jitter(const double *t, size_t n, double dt_nom)
   }
   double r = 0;
   if (k >= 20) {
-    qsort(d, k, sizeof *d, cmp_double);
-    r = 1.4826 * d[k / 2] / sqrt(6.0);
+    r = 1.4826 * aw_fusion_kth(d, k, k / 2) / sqrt(6.0);
   }
   free(d);
   return r;
@@ -318,13 +337,11 @@ aw_fusion_prep_cam(const AwDepthStream *d, const AwFusionSettings *s, AwCamPrep 
         }
       }
       if (nr >= 30) {
-        qsort(r2, nr, sizeof *r2, cmp_double);
-        double sc2 = r2[nr / 2] / 0.455;
+        double sc2 = aw_fusion_kth(r2, nr, nr / 2) / 0.455;
         c->noise_scale[0] = sqrt(fmin(fmax(sc2, 0.25), 25.0));
       }
       if (nz >= 15) {
-        qsort(rz, nz, sizeof *rz, cmp_double);
-        double sc2 = rz[nz / 2] / 0.455;
+        double sc2 = aw_fusion_kth(rz, nz, nz / 2) / 0.455;
         c->noise_scale[1] = sqrt(fmin(fmax(sc2, 0.25), 25.0));
       }
       free(r2);

@@ -8,6 +8,7 @@
 #include "fusion-internal.h"
 
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 
 static void
@@ -28,6 +29,13 @@ check_invariants(const AwFusedPath *p)
   AW_CHECK(bad_q == 0);   /* quaternion stays unit */
   AW_CHECK(bad_s == 0);   /* smoothed covariance positive (sigma > 0) */
   AW_CHECK(bad_x == 0);
+}
+
+static int
+cmp_dbl(const void *a, const void *b)
+{
+  double x = *(const double *)a, y = *(const double *)b;
+  return (x > y) - (x < y);
 }
 
 static double
@@ -69,6 +77,30 @@ main(void)
     double qe[4];
     aw_fusion_wahba(B, qe);
     for (int k = 0; k < 4; k++) AW_CHECK_NEAR(qe[k], q[k], 1e-9);
+  }
+
+  /* The medians' selection (aw_fusion_kth) against the C library's qsort: every rank of
+   * random arrays with many ties, sorted and reversed input, lengths 1 to 300. */
+  {
+    double v[300], w[300], u[300];
+    unsigned long long x = 88172645463325252ULL;
+    size_t bad = 0;
+    for (size_t n = 1; n <= 300; n += (n < 20 ? 1 : 17)) {
+      for (int kind = 0; kind < 4; kind++) {
+        for (size_t i = 0; i < n; i++) {
+          x ^= x << 13; x ^= x >> 7; x ^= x << 17;
+          double r = (double)(x % 1000003ULL) / 1000.0;
+          v[i] = kind == 0 ? r : kind == 1 ? (double)(x % 5ULL) : kind == 2 ? (double)i : -(double)i;
+        }
+        memcpy(w, v, sizeof v[0] * n);
+        qsort(w, n, sizeof w[0], cmp_dbl);
+        for (size_t k = 0; k < n; k++) {
+          memcpy(u, v, sizeof v[0] * n);
+          if (aw_fusion_kth(u, n, k) != w[k]) bad++;
+        }
+      }
+    }
+    AW_CHECK(bad == 0);
   }
 
   AwFusionSettings s;
