@@ -74,16 +74,57 @@ void aw_fusion_prep_imu_free(AwImuPrep *m);
 void aw_fusion_shape_table(const AwCamPrep *cam, size_t shape, const double *t, size_t n,
                            const double (*f)[3], const double (*v)[3], const double (*p)[3],
                            double (*out)[3], unsigned char *ok);
-/* p at time x as above (hint as for aw_fusion_locate); x inside t's span. */
-void aw_fusion_pos_at(const double *t, size_t n, const double (*f)[3], const double (*v)[3],
-                      const double (*p)[3], double x, size_t *hint, double out[3]);
 
 /* Mean of a per-sample vector signal with running integral cum over [t0, t1] of the clock t;
  * hint speeds up monotone queries. Returns false outside the samples' span. */
 bool aw_fusion_box_mean(const double *t, const void *cum_v, const void *x_v, size_t n,
                         double t0, double t1, size_t *hint, double out[3]);
-/* Index of the last sample with t[i] <= x (0 if x < t[0]); hint as above. */
-size_t aw_fusion_locate(const double *t, size_t n, double x, size_t *hint);
+/* Index of the last sample with t[i] <= x (0 if x < t[0]); hint as above. Inline: the stages
+ * call it once per tap and camera frame, tens of thousands of times per fuse, mostly for a
+ * short walk from the hint. */
+static inline size_t
+aw_fusion_locate(const double *t, size_t n, double x, size_t *hint)
+{
+  if (n == 0 || x < t[0]) return 0;
+  if (x >= t[n - 1]) return n - 1;
+  size_t i = hint ? *hint : 0;
+  if (i >= n) i = n - 1;
+  /* Short walks from the hint for monotone queries, bisection otherwise. */
+  if (t[i] <= x && (i + 1 >= n || t[i + 1] > x)) goto done;
+  if (t[i] <= x && i + 8 < n && t[i + 8] > x) {
+    while (t[i + 1] <= x) i++;
+    goto done;
+  }
+  /* and backwards (overlapping windows of successive queries start a little earlier) */
+  if (t[i] > x && i >= 8 && t[i - 8] <= x) {
+    while (t[i] > x) i--;
+    goto done;
+  }
+  {
+    size_t lo = 0, hi = n - 1;
+    while (hi - lo > 1) {
+      size_t mid = lo + (hi - lo) / 2;
+      if (t[mid] <= x) lo = mid; else hi = mid;
+    }
+    i = lo;
+  }
+done:
+  if (hint) *hint = i;
+  return i;
+}
+/* p at time x as above (hint as for aw_fusion_locate); x inside t's span. */
+static inline void
+aw_fusion_pos_at(const double *t, size_t n, const double (*f)[3], const double (*v)[3],
+                 const double (*p)[3], double x, size_t *hint, double out[3])
+{
+  size_t i = aw_fusion_locate(t, n, x, hint);
+  if (i + 1 >= n) i = n - 2;
+  double dt = t[i + 1] - t[i], u = x - t[i];
+  for (int a = 0; a < 3; a++) {
+    double f0 = f[i][a], f1 = f[i + 1][a];
+    out[a] = p[i][a] + u * v[i][a] + 0.5 * u * u * f0 + u * u * u * (f1 - f0) / (6 * dt);
+  }
+}
 /* The k-th smallest of v[0..n) (k < n, counted from 0): the value a sort would put at v[k], for
  * medians without sorting (v is reordered). Average O(n). */
 double aw_fusion_kth(double *v, size_t n, size_t k);

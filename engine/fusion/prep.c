@@ -162,19 +162,6 @@ find_shapes(AwCamPrep *c)
 }
 
 void
-aw_fusion_pos_at(const double *t, size_t n, const double (*f)[3], const double (*v)[3],
-                 const double (*p)[3], double x, size_t *hint, double out[3])
-{
-  size_t i = aw_fusion_locate(t, n, x, hint);
-  if (i + 1 >= n) i = n - 2;
-  double dt = t[i + 1] - t[i], u = x - t[i];
-  for (int a = 0; a < 3; a++) {
-    double f0 = f[i][a], f1 = f[i + 1][a];
-    out[a] = p[i][a] + u * v[i][a] + 0.5 * u * u * f0 + u * u * u * (f1 - f0) / (6 * dt);
-  }
-}
-
-void
 aw_fusion_shape_table(const AwCamPrep *cam, size_t shape, const double *t, size_t n,
                       const double (*f)[3], const double (*v)[3], const double (*p)[3],
                       double (*out)[3], unsigned char *ok)
@@ -574,37 +561,6 @@ aw_fusion_prep_imu_free(AwImuPrep *m)
   free(m->acc_excess);
   free(m->gyr_excess);
   memset(m, 0, sizeof *m);
-}
-
-size_t
-aw_fusion_locate(const double *t, size_t n, double x, size_t *hint)
-{
-  if (n == 0 || x < t[0]) return 0;
-  if (x >= t[n - 1]) return n - 1;
-  size_t i = hint ? *hint : 0;
-  if (i >= n) i = n - 1;
-  /* Short walks from the hint for monotone queries, bisection otherwise. */
-  if (t[i] <= x && (i + 1 >= n || t[i + 1] > x)) goto done;
-  if (t[i] <= x && i + 8 < n && t[i + 8] > x) {
-    while (t[i + 1] <= x) i++;
-    goto done;
-  }
-  /* and backwards (overlapping windows of successive queries start a little earlier) */
-  if (t[i] > x && i >= 8 && t[i - 8] <= x) {
-    while (t[i] > x) i--;
-    goto done;
-  }
-  {
-    size_t lo = 0, hi = n - 1;
-    while (hi - lo > 1) {
-      size_t mid = lo + (hi - lo) / 2;
-      if (t[mid] <= x) lo = mid; else hi = mid;
-    }
-    i = lo;
-  }
-done:
-  if (hint) *hint = i;
-  return i;
 }
 
 static void
