@@ -727,10 +727,15 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
   size_t nck = (n + B - 1) / B;
   double (*Pck)[NS][NS] = malloc(sizeof *Pck * nck);
   double (*Pblk)[NS][NS] = malloc(sizeof *Pblk * B);
+  /* With every covariance stored (B = 1) the forward pass's transitions are kept too: the
+   * smoother steps back through the same F (Ts[i]: from sample i - 1 to i) without repeating
+   * the nominal propagation. */
+  Trans *Ts = B == 1 ? malloc(sizeof *Ts * (n ? n : 1)) : NULL;
   size_t *ustart = calloc(n + 1, sizeof *ustart);
   UpdList ul = { 0 };
   AwStatus st = AW_OK;
-  if (!fstart || !flist || !fstat || !fdec || !fres || !xs || !Pck || !Pblk || !ustart || !acc_v) { st = AW_ERR_NO_MEMORY; goto out; }
+  if (!fstart || !flist || !fstat || !fdec || !fres || !xs || !Pck || !Pblk || !ustart || !acc_v ||
+      (B == 1 && !Ts)) { st = AW_ERR_NO_MEMORY; goto out; }
   double clock_moved = 0;   /* shift of the grid made by the last pass (s) */
   double clock_offset_in = rep->clock_offset_s;
   /* Passes after the first that reselect the camera frames from the smoothed path. */
@@ -889,6 +894,7 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
       nominal_step(&m, i - 1, &x, &xn, &T);
       x = xn;
       propagate_cov(&T, P);
+      if (Ts) Ts[i] = T;
       acc_v[i] = T.gap ? 0 : acc_v[i - 1] + T.ev;
       if (T.gap) { path->flags[i] |= AW_FUSED_NO_IMU; rep->imu_gaps++; }
     }
@@ -1104,8 +1110,11 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
       for (size_t u = ustart[ii + 1]; u-- > ustart[ii];) bf_update(L, lam, &ul.v[u]);
       if (ii > 0) {
         Trans T;
-        Nom xn;
-        nominal_step(&m, ii - 1, &xs[ii - 1], &xn, &T);
+        if (Ts) T = Ts[ii];
+        else {
+          Nom xn;
+          nominal_step(&m, ii - 1, &xs[ii - 1], &xn, &T);
+        }
         apply_Ft_vec(&T, lam);
         congruence_Ft(&T, L);
       }
@@ -1160,6 +1169,7 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
   }
 out:
   free(fstart); free(flist); free(fstat); free(fdec); free(fres); free(xs); free(Pck); free(Pblk); free(ustart);
+  free(Ts);
   free(acc_v);
   free(tau);
   free(ul.v);
