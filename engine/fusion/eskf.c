@@ -736,7 +736,8 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
   AwStatus st = AW_OK;
   if (!fstart || !flist || !fstat || !fdec || !fres || !xs || !Pck || !Pblk || !ustart || !acc_v ||
       (B == 1 && !Ts)) { st = AW_ERR_NO_MEMORY; goto out; }
-  double clock_moved = 0;   /* shift of the grid made by the last pass (s) */
+  double clock_moved = 0;   /* shift of the grid made before this pass (s) */
+  double move_next = 0;     /* the shift the next pass makes, if one runs (s) */
   double clock_offset_in = rep->clock_offset_s;
   /* Passes after the first that reselect the camera frames from the smoothed path. */
   enum { AW_FUSION_MAX_REPASS = 4 };
@@ -769,6 +770,12 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
     if (changed == 0 && rep->gate_recoveries == 0) break;
     if (pass > 1 && (double)changed > 2.0 * (double)prev_changed + 1.0 / cam->dt_nom_s) break;
     prev_changed = changed;
+    /* This pass runs: the grid moves by the last pass's clock correction (see below). */
+    clock_moved = move_next;
+    if (clock_moved != 0) {
+      for (size_t i = 0; i < n; i++) tau[i] += clock_moved;
+      clock_offset_in += clock_moved;
+    }
     rep->clock_offset_s = clock_offset_in;
     rep->cam_frames_used = rep->cam_frames_rejected = rep->cam_frames_missing = 0;
     rep->imu_samples_saturated = rep->zupt_samples = rep->imu_gaps = rep->gate_recoveries = 0;
@@ -1129,25 +1136,27 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
    * iterated Kalman smoother: B. M. Bell, "The iterated Kalman smoother as a Gauss-Newton
    * method", SIAM J. Optim. 4(3), 1994; here only the clock is relinearised and its prior
    * recentred, a simplification). The move rides on a pass the frame selection makes anyway:
-   * forcing passes for it doubled the filter's cost on the bench swing for no clear gain. */
-  clock_moved = 0;
-  if (use_cam && pass + 1 < n_pass && fabs(c_mid) > 0.25 * imu->dt_nom_s && fabs(c_mid) < 0.5) {
-    for (size_t i = 0; i < n; i++) tau[i] += c_mid;
-    clock_offset_in += c_mid;
-    clock_moved = c_mid;
-  }
+   * forcing passes for it doubled the filter's cost on the bench swing for no clear gain. The
+   * move is made when the next pass starts: when none runs, this pass's path, flags and clock
+   * stand on the grid it was computed on (moving the grid anyway left the per-sample camera
+   * flags below computed on a grid shifted by c). */
+  move_next = 0;
+  if (use_cam && pass + 1 < n_pass && fabs(c_mid) > 0.25 * imu->dt_nom_s && fabs(c_mid) < 0.5)
+    move_next = c_mid;
   }   /* passes */
 
-  /* Per-sample camera status from the nearest frame. */
+  /* Per-sample camera status from the frame nearest the sample's output time (its time on
+   * the camera's clock, the grid plus the smoothed clock correction). */
   {
     size_t hint = 0;
     double half = 0.75 * cam->dt_nom_s;
     for (size_t i = 0; i < n; i++) {
       uint32_t fl = AW_FUSED_CAM_MISSING;
+      double ti = path->t_s[i];
       if (cam->n > 0) {
-        size_t k = aw_fusion_locate(cam->t_s, cam->n, tau[i], &hint);
-        if (k + 1 < cam->n && fabs(cam->t_s[k + 1] - tau[i]) < fabs(tau[i] - cam->t_s[k])) k++;
-        if (fabs(cam->t_s[k] - tau[i]) <= half) {
+        size_t k = aw_fusion_locate(cam->t_s, cam->n, ti, &hint);
+        if (k + 1 < cam->n && fabs(cam->t_s[k + 1] - ti) < fabs(ti - cam->t_s[k])) k++;
+        if (fabs(cam->t_s[k] - ti) <= half) {
           if (fstat[k] == FR_ACCEPTED) fl = AW_FUSED_CAM_ACCEPTED;
           else if (fstat[k] == FR_REJECTED) fl = AW_FUSED_CAM_REJECTED;
           else if (fstat[k] == FR_NONE && cam->valid[k] && !use_cam) fl = 0;
