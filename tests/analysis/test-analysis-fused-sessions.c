@@ -40,11 +40,19 @@ check(uint64_t seed, AwSimLevel level, AwSimView view, bool left, int shots)
   AW_CHECK(st == AW_OK);
   if (st != AW_OK)
     fprintf(stderr, "seed %llu: %s\n", (unsigned long long)seed, err.message);
-  size_t found = 0, wrong = 0, lost = 0;
+  size_t found = 0, wrong = 0, lost = 0, flag_wrong = 0;
   for (size_t s = 0; an != NULL && s < truth->n_swings; s++) {
     int hits = 0;
     for (size_t j = 0; j < an->n_swings; j++)
-      hits += fabs(an->swings[j].events[AW_EVENT_IMPACT].t_s - truth->swings[s].t_impact_s) < 0.15;
+      if (fabs(an->swings[j].events[AW_EVENT_IMPACT].t_s - truth->swings[s].t_impact_s) < 0.15) {
+        hits++;
+        if (an->swings[j].practice != truth->swings[s].practice) {
+          flag_wrong++;
+          fprintf(stderr, "seed %llu: %s swing %zu at %.2f s flagged %s\n",
+                  (unsigned long long)seed, truth->swings[s].practice ? "practice" : "struck", s,
+                  truth->swings[s].t_impact_s, an->swings[j].practice ? "practice" : "struck");
+        }
+      }
     if (hits == 0) {
       /* A swing missed where the fused path strays from the true hand path by more than
        * 0.25 m (the analysis asks the hands to come back within 0.35 m of address) is a
@@ -89,6 +97,12 @@ check(uint64_t seed, AwSimLevel level, AwSimView view, bool left, int shots)
   /* A fusion failure may excuse one miss per recording, no more. */
   AW_CHECK(lost <= 1);
   AW_CHECK(wrong == 0);
+  /* The practice flag both ways (README "Finding swings"): `bench analysis` measures some 4-10 %
+   * of struck shots called practice on held-out seeds (a contact lost in a rough downswing)
+   * and every practice swing flagged, so one wrong flag per recording is allowed, no more. */
+  fprintf(stderr, "seed %llu: practice flag wrong on %zu swings\n", (unsigned long long)seed,
+          flag_wrong);
+  AW_CHECK(flag_wrong <= 1);
   aw_analysis_free(an);
   aw_fused_path_free(fused);
   aw_sim_free(sim);
