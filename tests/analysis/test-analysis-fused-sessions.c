@@ -98,7 +98,8 @@ check(uint64_t seed, AwSimLevel level, AwSimView view, bool left, int shots)
   AW_CHECK(lost <= 1);
   AW_CHECK(wrong == 0);
   /* The practice flag both ways (README "Finding swings"): `bench analysis` measures some 4-10 %
-   * of struck shots called practice on held-out seeds (a contact lost in a rough downswing)
+   * of struck shots called practice on held-out seeds (a contact lost in a rough downswing or
+   * on a large change of the force's level)
    * and every practice swing flagged, so one wrong flag per recording is allowed, no more. */
   fprintf(stderr, "seed %llu: practice flag wrong on %zu swings\n", (unsigned long long)seed,
           flag_wrong);
