@@ -8,6 +8,7 @@
 #include "arcwise-library.h"
 #include "arcwise-export-test.h"
 #include "arcwise-import-test.h"
+#include "arcwise-motion-test.h"
 #include "arcwise-smoke.h"
 #include "arcwise-library-test.h"
 #include "arcwise-window.h"
@@ -238,6 +239,9 @@ arcwise_application_activate(GApplication *gapp)
   const char *export_test = g_getenv("ARCWISE_EXPORT_TEST_DIR");
   if (export_test != NULL && *export_test != '\0')
     arcwise_export_test_start(win, export_test, caution);
+  const char *motion_test = g_getenv("ARCWISE_MOTION_TEST_DIR");
+  if (motion_test != NULL && *motion_test != '\0')
+    arcwise_motion_test_start(win, motion_test, caution);
   if (g_getenv("ARCWISE_BENCH_LAUNCH") != NULL) {
     if (gtk_widget_get_realized(GTK_WIDGET(win)))
       watch_first_frame(GTK_WIDGET(win), app);
