@@ -4,15 +4,20 @@
 library file, read with Python's sqlite3 module (SQLite's own reader, not the project's store).
 
 Usage: check-import.py dump LIBRARY OUT.sql
-       check-import.py cancel|complete LIBRARY RUN_DIR BEFORE.sql
+       check-import.py cancel|complete LIBRARY RUN_DIR BEFORE.sql [DEPTH.csv:EVENTS.csv ...]
 - dump: every table's rows as SQL text (sqlite3.Connection.iterdump), the library as it was.
 - cancel: Stop pressed midway; the library's tables are exactly as in BEFORE.sql, the window
   said so, the bar showed progress and the main loop kept running while the import worked.
 - complete: the swings new since BEFORE.sql all belong to the player whose row was the drop
   target (found by id; no player was added), two recordings came in (loose pair and folder),
   the window's summary counts them, and the tree shows that player's new session with exactly
-  those swings.
+  those swings. Each DEPTH.csv:EVENTS.csv pair names a dropped recording's depth stream and the
+  simulator's ground truth for it (one row per simulated swing, times on the depth clock): the
+  import's recording is found by the SHA-256 of that depth file (hashlib), and its new swings
+  must be exactly the simulated ones, each simulated impact inside one stored swing's span.
 """
+import csv
+import hashlib
 import sqlite3
 import sys
 
@@ -38,6 +43,7 @@ if mode == "dump":
     sys.exit(0)
 
 run, before_sql = sys.argv[3], open(sys.argv[4]).read()
+truths = [a.split(":") for a in sys.argv[5:]]
 report = {}
 for line in open(run + "/import-report.txt"):
     k, _, v = line.rstrip("\n").partition("=")
@@ -87,6 +93,26 @@ else:
     check(all(r[1] == target for r in new), "every new swing is the target player's")
     recs = {r[3] for r in new}
     check(len(recs) == 2, "two recordings brought in (the loose pair and the folder): %d" % len(recs))
+    check(len(truths) == 2, "the simulator's truth for both dropped recordings given")
+    n_true = 0
+    for depth, events in truths:
+        sha = hashlib.sha256(open(depth, "rb").read()).hexdigest()
+        rec = db.execute("SELECT id FROM recording WHERE depth_sha256 = ?", (sha,)).fetchone()
+        impacts = [float(r["t_impact"]) for r in
+                   csv.DictReader(l for l in open(events) if not l.startswith("#"))]
+        n_true += len(impacts)
+        spans = db.execute("SELECT span_start_s, span_end_s FROM swing WHERE recording_id = ? "
+                           "ORDER BY index_in_recording", (rec[0] if rec else -1,)).fetchall()
+        check(rec is not None and rec[0] in recs,
+              "%s: brought in as a new recording (found by its SHA-256)" % depth.split("/")[-1])
+        check(len(spans) == len(impacts)
+              and all(sum(a <= t <= b for a, b in spans) == 1 for t in impacts),
+              "%s: the %d simulated swings are the recording's stored swings, each impact in one "
+              "span (impacts %s, spans %s)" % (depth.split("/")[-1], len(impacts),
+                                              ["%.2f" % t for t in impacts],
+                                              ["%.2f-%.2f" % sp for sp in spans]))
+    check(len(new) == n_true, "exactly the dropped swings were added: %d new, %d simulated"
+          % (len(new), n_true))
     n_players_old = old.execute("SELECT count(*) FROM player").fetchone()[0]
     check(db.execute("SELECT count(*) FROM player").fetchone()[0] == n_players_old,
           "no player was added")

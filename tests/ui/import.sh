@@ -5,7 +5,8 @@
 # the window's GtkDropTarget "drop" with a GdkFileList) into the second player's row. First a
 # folder of six recordings, stopped midway with the Stop button: check-import.py finds every
 # table of the library file exactly as before (read with Python's sqlite3). Then loose files
-# and a folder brought in to the end: the new swings are the second player's, in the tree.
+# and a folder brought in to the end: the new swings are the second player's, in the tree, and
+# exactly the swings the simulator made (its events.csv, the ground truth of each recording).
 # Usage: import.sh ARCWISE_EXE SCHEMA_DIR CHECK_SCRIPT
 set -u
 exe=$1; schemas=$2; check=$3
@@ -40,4 +41,5 @@ run() {
 run cancel "$out/stopped"
 "$py" "$check" cancel "$lib" "$out/cancel" "$out/before.sql" || exit 1
 run complete "$out/loose/take-1.imu.csv:$out/loose/take-1.depth.csv:$out/folder"
-"$py" "$check" complete "$lib" "$out/complete" "$out/before.sql"
+"$py" "$check" complete "$lib" "$out/complete" "$out/before.sql" \
+  "$out/loose/take-1.depth.csv:$out/s51/events.csv" "$out/folder/take-2/depth.csv:$out/folder/take-2/events.csv"
