@@ -157,6 +157,8 @@ window_drop_target(ArcwiseWindow *win)
   return NULL;
 }
 
+static void deliver_drop(ImportTest *t);
+
 static void
 drop_files(ImportTest *t)
 {
@@ -174,6 +176,16 @@ drop_files(ImportTest *t)
     finish(t);
     return;
   }
+  /* Files held over the window, as GTK marks it while a drag hovers: a picture of the cue. */
+  gtk_widget_set_state_flags(GTK_WIDGET(t->win), GTK_STATE_FLAG_DROP_ACTIVE, FALSE);
+  picture_when_painted(t, "hover", deliver_drop);
+}
+
+static void
+deliver_drop(ImportTest *t)
+{
+  gtk_widget_unset_state_flags(GTK_WIDGET(t->win), GTK_STATE_FLAG_DROP_ACTIVE);
+  GtkDropTarget *drop = window_drop_target(t->win);
   const char *spec = g_getenv("ARCWISE_IMPORT_TEST_FILES");
   g_auto(GStrv) paths = g_strsplit(spec ? spec : "", ":", -1);
   GSList *files = NULL;

@@ -18,8 +18,11 @@ Usage: check-import.py dump LIBRARY OUT.sql
 """
 import csv
 import hashlib
+import os
 import sqlite3
 import sys
+
+import numpy as np
 
 mode, lib = sys.argv[1], sys.argv[2]
 failures = []
@@ -36,6 +39,22 @@ def dump(path):
     text = "\n".join(c.iterdump())
     c.close()
     return text
+
+
+def png(path):
+    # matplotlib's reader (python3-matplotlib, a test package of tools/quickstart): the window's
+    # pictures come from GDK's PNG writer, which uses every row filter.
+    import matplotlib.image
+    return matplotlib.image.imread(path)[:, :, :3].astype(np.float32) * 255.0
+
+
+def edge_amber(path):
+    """Share of the pixels in the window's outer 10-pixel band that are the accent amber
+    (#f0b35a, ui/style.css)."""
+    img = png(path)
+    band = np.concatenate([img[:, :10].reshape(-1, 3), img[:, -10:].reshape(-1, 3),
+                           img[:10].reshape(-1, 3), img[-10:].reshape(-1, 3)])
+    return float((np.abs(band - np.array([240, 179, 90])).max(axis=1) < 40).mean())
 
 
 if mode == "dump":
@@ -68,6 +87,10 @@ check(polls >= 1, "the main loop ran while the import worked (%d turns)" % polls
 fr = [float(x) for x in report.get("fractions", "").split()]
 check(all(0.0 <= f <= 1.0 for f in fr), "progress fractions within 0..1")
 check(report.get("gl_error") == "none", "no GL error")
+hover, after_png = edge_amber(os.path.join(run, "hover.png")), edge_amber(os.path.join(run, "after.png"))
+check(hover > 0.15 and after_png < 0.02,
+      "files held over the window frame it in amber (%.0f %% of the edge band; %.0f %% after the "
+      "drop)" % (100 * hover, 100 * after_png))
 
 if mode == "cancel":
     stop = float(report.get("stop_at", "nan"))
