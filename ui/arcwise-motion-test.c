@@ -360,6 +360,13 @@ next_gesture(Motion *m)
 {
   ArcwiseStage *stage = arcwise_window_get_stage(m->win);
   if (m->gesture == 0) {
+    GtkWidget *legend = GTK_WIDGET(gtk_widget_get_template_child(GTK_WIDGET(m->win),
+                                                                 ARCWISE_TYPE_WINDOW, "legend_label"));
+    g_string_append_printf(m->report, "legend_visible=%d\nlegend=", legend && gtk_widget_get_mapped(legend));
+    const char *text = legend ? gtk_label_get_text(GTK_LABEL(legend)) : "";
+    for (const char *c = text; *c; c++)
+      g_string_append_c(m->report, *c == '\n' ? '|' : *c);
+    g_string_append_c(m->report, '\n');
     g_string_append_printf(m->report, "stage_size=%d %d\n", gtk_widget_get_width(GTK_WIDGET(stage)),
                            gtk_widget_get_height(GTK_WIDGET(stage)));
     g_autofree char *path = g_strdup_printf("%s/stage-before.png", m->dir);

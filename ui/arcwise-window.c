@@ -297,6 +297,10 @@ update_legend(ArcwiseWindow *self)
   if (m != NULL)
     g_string_append(s, "<span foreground='#d2d4db'>╌╌</span> dashed grey: the camera had lost "
                        "the hands there");
+  if (m != NULL)
+    /* How to move the camera, where the coach looks: the view's own buttons only name views. */
+    g_string_append(s, "\n<span size='smaller' foreground='#9aa3ad'>drag: turn · right-drag or "
+                       "Shift-drag: move · scroll or pinch: zoom</span>");
   if (m != NULL && self->comparing && self->other != NULL) {
     float rgb[3];
     arcwise_scene_compare_rgb(rgb);

@@ -182,6 +182,11 @@ def gesture(name):
 
 
 check(w > 100 and h > 100, "stage size %d x %d" % (w, h))
+legend = report.get("legend", "").split("|")
+check(report.get("legend_visible") == "1"
+      and any(all(k in l for k in ("drag: turn", "right-drag", "Shift-drag", "scroll", "pinch"))
+              for l in legend),
+      "the view's legend says how to turn, move and zoom: %r" % legend[-1:])
 for name in ("orbit", "pan_right_button", "pan_shift", "wheel_out", "wheel_in"):
     check(("cam_%s_after" % name) in report and ("no_pointer_" + name) not in report
           and not any(k.startswith("xdotool_error_" + name) for k in report),
