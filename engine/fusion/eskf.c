@@ -48,7 +48,8 @@ typedef struct {
  * position, velocity and attitude columns: Hb[r][0..8]. */
 typedef struct {
   uint32_t step;
-  uint8_t kind;              /* 0 = measurement, 1 = inflation of the diagonal */
+  uint8_t kind;              /* 0 = measurement, 1 = inflation of the diagonal, 2 = zero-velocity
+                              * measurement (H picks the velocity: Hb[r][IV + r] = 1) */
   double Hb[3][NH];
   double R[3][3];
   double Sinv[3][3];
@@ -470,6 +471,20 @@ innov_cov(double P[NS][NS], double Hb[3][NH], double R[3][3],
     for (int c = r + 1; c < 3; c++) { double a = 0.5 * (S[r][c] + S[c][r]); S[r][c] = a; S[c][r] = a; }
 }
 
+/* The same for a zero-velocity measurement, H = [0 I 0 ...] on the velocity: HP is P's velocity
+ * rows and H P H^T its velocity block (the general form's products by H's zeros and ones give
+ * exactly these values). */
+static void
+innov_cov_vel(double P[NS][NS], double R[3][3], double HP[3][NS], double S[3][3])
+{
+  for (int r = 0; r < 3; r++)
+    for (int c = 0; c < NS; c++) HP[r][c] = P[IV + r][c];
+  for (int r = 0; r < 3; r++)
+    for (int c = 0; c < 3; c++) S[r][c] = HP[r][IV + c] + R[r][c];
+  for (int r = 0; r < 3; r++)
+    for (int c = r + 1; c < 3; c++) { double a = 0.5 * (S[r][c] + S[c][r]); S[r][c] = a; S[c][r] = a; }
+}
+
 /* Joseph-equivalent covariance update for any gain K:
  * P <- (I-KH) P (I-KH)^T + K R K^T = P - K HP - (K HP)^T + K S K^T
  *    = P - K HP + W K^T,  W = K S - (HP)^T
@@ -577,10 +592,11 @@ timing_noise(const Model *m, double Hb[3][NH], double R[3][3])
 /* Kalman update; returns NIS, and applies only when apply is set. */
 static double
 kf_update(double P[NS][NS], Nom *x, double Hb[3][NH], double R[3][3],
-          const double y[3], double gate, bool force, bool *accepted, Upd *rec)
+          const double y[3], double gate, bool force, bool vel_only, bool *accepted, Upd *rec)
 {
   double HP[3][NS], S[3][3], Si[3][3];
-  innov_cov(P, Hb, R, HP, S);
+  if (vel_only) innov_cov_vel(P, R, HP, S);
+  else innov_cov(P, Hb, R, HP, S);
   if (!inv3(S, Si)) { *accepted = false; return INFINITY; }
   double nis = 0;
   for (int r = 0; r < 3; r++)
@@ -594,7 +610,7 @@ kf_update(double P[NS][NS], Nom *x, double Hb[3][NH], double R[3][3],
   cov_update(P, HP, K, S);
   inject(x, d);
   if (rec) {
-    rec->kind = 0;
+    rec->kind = vel_only ? 2 : 0;
     memcpy(rec->Hb, Hb, sizeof rec->Hb);
     memcpy(rec->R, R, sizeof rec->R);
     memcpy(rec->Sinv, Si, sizeof rec->Sinv);
@@ -614,16 +630,68 @@ replay_update(double P[NS][NS], Upd *u)
     return;
   }
   double HP[3][NS], S[3][3];
-  innov_cov(P, u->Hb, u->R, HP, S);
+  if (u->kind == 2) innov_cov_vel(P, u->R, HP, S);
+  else innov_cov(P, u->Hb, u->R, HP, S);
   cov_update(P, HP, u->K, S);
 }
 
 /* Backward step of the Bryson-Frazier recursion through one update (reverse order):
  * lambda <- -H^T Sinv y + C^T lambda,  Lambda <- H^T Sinv H + C^T Lambda C,  C = I - K H. */
+/* bf_update for a zero-velocity measurement: H's only non-zero entries are the ones on the
+ * velocity, so H^T x, (Lambda K) H and H^T M H are the velocity columns and block, and only the
+ * pairs of entries those touch need symmetrising (the rest stay exactly symmetric). The values
+ * are those of the general form. */
+static void
+bf_update_vel(double L[NS][NS], double l[NS], const Upd *u)
+{
+  double Kl[3] = { 0 };
+  for (int r = 0; r < NS; r++)
+    for (int c = 0; c < 3; c++) Kl[c] += u->K[r][c] * l[r];
+  double Siy[3];
+  for (int r = 0; r < 3; r++) Siy[r] = u->Sinv[r][0] * u->y[0] + u->Sinv[r][1] * u->y[1] + u->Sinv[r][2] * u->y[2];
+  for (int r = 0; r < 3; r++) l[IV + r] -= Kl[r] + Siy[r];
+  double LK[NS][3], M[3][3];
+  for (int r = 0; r < NS; r++) {
+    double a0 = 0, a1 = 0, a2 = 0;
+    for (int k = 0; k < NS; k++) {
+      double lrk = L[r][k];
+      a0 += lrk * u->K[k][0];
+      a1 += lrk * u->K[k][1];
+      a2 += lrk * u->K[k][2];
+    }
+    LK[r][0] = a0;
+    LK[r][1] = a1;
+    LK[r][2] = a2;
+  }
+  for (int r = 0; r < 3; r++)
+    for (int c = 0; c < 3; c++) {
+      double acc = 0;
+      for (int k = 0; k < NS; k++) acc += u->K[k][r] * LK[k][c];
+      M[r][c] = acc + u->Sinv[r][c];
+    }
+  for (int r = 0; r < NS; r++)
+    for (int j = 0; j < 3; j++) {
+      L[r][IV + j] -= LK[r][j];
+      L[IV + j][r] -= LK[r][j];
+    }
+  for (int a = 0; a < 3; a++)
+    for (int b = 0; b < 3; b++) L[IV + a][IV + b] += M[a][b];
+  for (int j = 0; j < 3; j++) {
+    int v = IV + j;
+    for (int c = 0; c < NS; c++) {
+      if (c >= IV && c <= v) continue;   /* the pair (v, c), c < v inside the block, once */
+      double a = 0.5 * (L[v][c] + L[c][v]);
+      L[v][c] = a;
+      L[c][v] = a;
+    }
+  }
+}
+
 static void
 bf_update(double L[NS][NS], double l[NS], Upd *u)
 {
-  if (u->kind != 0) return;
+  if (u->kind == 1) return;
+  if (u->kind == 2) { bf_update_vel(L, l, u); return; }
   double Kl[3] = { 0 };
   for (int r = 0; r < NS; r++)
     for (int c = 0; c < 3; c++) Kl[c] += u->K[r][c] * l[r];
@@ -920,7 +988,7 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
       Upd *u = upd_push(&ul);
       if (!u) { st = AW_ERR_NO_MEMORY; goto out; }
       bool acc;
-      kf_update(P, &x, Hb, R, y, s->gate_chi2, false, &acc, u);
+      kf_update(P, &x, Hb, R, y, s->gate_chi2, false, true, &acc, u);
       if (acc) {
         u->step = (uint32_t)i;
         path->flags[i] |= AW_FUSED_STILL;
@@ -945,7 +1013,7 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
         if (!u) { st = AW_ERR_NO_MEMORY; goto out; }
         bool acc;
         double nis = kf_update(P, &x, Hb, R, y,
-                               s->gate_chi2, fdec[k] == 2, &acc, u);
+                               s->gate_chi2, fdec[k] == 2, false, &acc, u);
         if (!acc) {
           ul.n--;
           if (isnan(rej_since)) rej_since = cam->t_s[k];
@@ -967,7 +1035,7 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
             for (int a = 0; a < 3; a++) y[a] = cam->pos_m[k][a] - h[a];
             u = upd_push(&ul);
             if (!u) { st = AW_ERR_NO_MEMORY; goto out; }
-            kf_update(P, &x, Hb, R, y, s->gate_chi2, true, &acc, u);
+            kf_update(P, &x, Hb, R, y, s->gate_chi2, true, false, &acc, u);
             u->step = (uint32_t)i;
             acc_v[i] = 0;
             rep->gate_recoveries++;
