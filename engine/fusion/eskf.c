@@ -1118,7 +1118,7 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
       {
         /* keypoint = p + R l: J = [I, 0, -[Rl]x, R, 0 ...]; smoothed P_s = P - P L P, so
          * J P_s J^T = J P J^T - (J P) L (J P)^T. */
-        double S[3][3], JP[3][NS], X[3][NS];
+        double S[3][3], JP[3][NS];
         skew(S, Rl);
         for (int r = 0; r < 3; r++)
           for (int c = 0; c < NS; c++) {
@@ -1126,21 +1126,25 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
             for (int k = 0; k < 3; k++) acc += -S[r][k] * Pk[IT + k][c] + R[r][k] * Pk[IL + k][c];
             JP[r][c] = acc;
           }
-        /* X = JP L, accumulated over L's rows (contiguous, vectorisable). */
-        memset(X, 0, sizeof X);
+        /* red_r = JP_r L JP_r^T from L's upper triangle (L is exactly symmetric): each row k
+         * contributes JP_r[k] (L[k][k] JP_r[k] / 2 + sum over c > k of L[k][c] JP_r[c]), twice. */
+        double reds[3] = { 0, 0, 0 };
         for (int k = 0; k < NS; k++) {
-          double j0 = JP[0][k], j1 = JP[1][k], j2 = JP[2][k];
-          for (int c = 0; c < NS; c++) {
-            X[0][c] += j0 * L[k][c];
-            X[1][c] += j1 * L[k][c];
-            X[2][c] += j2 * L[k][c];
+          const double *Lk = L[k];
+          double t0 = 0.5 * Lk[k] * JP[0][k], t1 = 0.5 * Lk[k] * JP[1][k], t2 = 0.5 * Lk[k] * JP[2][k];
+          for (int c = k + 1; c < NS; c++) {
+            t0 += Lk[c] * JP[0][c];
+            t1 += Lk[c] * JP[1][c];
+            t2 += Lk[c] * JP[2][c];
           }
+          reds[0] += JP[0][k] * t0;
+          reds[1] += JP[1][k] * t1;
+          reds[2] += JP[2][k] * t2;
         }
         for (int r = 0; r < 3; r++) {
           double jpj = JP[r][IP + r];
           for (int k = 0; k < 3; k++) jpj += -S[r][k] * JP[r][IT + k] + R[r][k] * JP[r][IL + k];
-          double red = 0;
-          for (int k = 0; k < NS; k++) red += X[r][k] * JP[r][k];
+          double red = 2.0 * reds[r];
           /* The smoothed variance can never exceed the filtered one; where rounding makes
            * P - P L P lose positive definiteness (seen after a long IMU gap), the filtered
            * variance is the honest bound, never a near-zero sigma. */
