@@ -266,15 +266,16 @@ static double
 w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[3], double l_out[3])
 {
   double (*F)[3] = malloc(sizeof *F * (w->m ? w->m : 1));
+  double (*FL)[3] = malloc(sizeof *FL * (w->m ? w->m : 1));
   double (*M)[3][3] = malloc(sizeof *M * (w->m ? w->m : 1));
   unsigned char *ok = malloc(w->m ? w->m : 1);
-  if (!F || !M || !ok) { free(F); free(M); free(ok); return INFINITY; }
+  if (!F || !FL || !M || !ok) { free(F); free(FL); free(M); free(ok); return INFINITY; }
   size_t cnt = 0, hint = 0;
   for (size_t j = 0; j < w->m; j++) {
     ok[j] = w_imu_acc(w, w->frames[j], shift, &hint, F[j], M[j]) && (!w->keep || w->keep[j]);
     cnt += ok[j];
   }
-  if (cnt < 10) { free(F); free(M); free(ok); return INFINITY; }
+  if (cnt < 10) { free(F); free(FL); free(M); free(ok); return INFINITY; }
   double l[3] = { 0, 0, 0 }, q[4] = { 1, 0, 0, 0 }, R[3][3], g[3] = { 0, 0, 0 }, rms = INFINITY;
   /* M^T M summed over the frames in use: the lever's normal matrix (changes with the set only) */
   double N0[3][3] = { { 0 } };
@@ -293,23 +294,23 @@ w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[
       n0_ok = true;
     }
     double ac[3] = { 0 }, fc[3] = { 0 };
-    double (*Fl)[3] = F;   /* F + M l computed in place below into a temporary */
-    double tmpc[3];
+    /* FL = F + M l, once per iteration for the three sums below */
     for (size_t j = 0; j < w->m; j++) {
       if (!ok[j]) continue;
       aw_v3_add(ac, ac, w->cam->acc_m_s2[w->frames[j]]);
+      double tmpc[3];
       aw_mat_mul_v3(tmpc, (const double (*)[3])M[j], l);
-      for (int c = 0; c < 3; c++) fc[c] += Fl[j][c] + tmpc[c];
+      for (int c = 0; c < 3; c++) {
+        FL[j][c] = F[j][c] + tmpc[c];
+        fc[c] += FL[j][c];
+      }
     }
     aw_v3_scale(ac, ac, 1.0 / (double)cnt);
     aw_v3_scale(fc, fc, 1.0 / (double)cnt);
     double B[3][3] = { { 0 } };
     for (size_t j = 0; j < w->m; j++) {
       if (!ok[j]) continue;
-      const double *a = w->cam->acc_m_s2[w->frames[j]];
-      double fl[3];
-      aw_mat_mul_v3(fl, (const double (*)[3])M[j], l);
-      for (int c = 0; c < 3; c++) fl[c] += F[j][c];
+      const double *a = w->cam->acc_m_s2[w->frames[j]], *fl = FL[j];
       for (int r = 0; r < 3; r++)
         for (int c = 0; c < 3; c++) B[r][c] += (fl[r] - fc[r]) * (a[c] - ac[c]);
     }
@@ -324,12 +325,10 @@ w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[
     for (size_t j = 0; j < w->m; j++) {
       if (!ok[j]) continue;
       const double *a = w->cam->acc_m_s2[w->frames[j]];
-      double d[3], y[3], fl[3], e[3], Rfl[3];
+      double d[3], y[3], e[3], Rfl[3];
       aw_v3_sub(d, a, g);
       aw_mat_tmul_v3(y, (const double (*)[3])R, d);
-      aw_mat_mul_v3(fl, (const double (*)[3])M[j], l);
-      for (int c = 0; c < 3; c++) fl[c] += F[j][c];
-      aw_mat_mul_v3(Rfl, (const double (*)[3])R, fl);
+      aw_mat_mul_v3(Rfl, (const double (*)[3])R, FL[j]);
       for (int c = 0; c < 3; c++) e[c] = d[c] - Rfl[c];
       ss += aw_v3_dot(e, e);
       for (int r = 0; r < 3; r++) {
@@ -348,11 +347,9 @@ w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[
           ev[j] = INFINITY;
           if (!ok[j]) continue;
           const double *a = w->cam->acc_m_s2[w->frames[j]];
-          double d[3], fl[3], Rfl[3], e[3];
+          double d[3], Rfl[3], e[3];
           aw_v3_sub(d, a, g);
-          aw_mat_mul_v3(fl, (const double (*)[3])M[j], l);
-          for (int c = 0; c < 3; c++) fl[c] += F[j][c];
-          aw_mat_mul_v3(Rfl, (const double (*)[3])R, fl);
+          aw_mat_mul_v3(Rfl, (const double (*)[3])R, FL[j]);
           for (int c = 0; c < 3; c++) e[c] = d[c] - Rfl[c];
           ev[j] = aw_v3_norm(e);
           e2[c2++] = ev[j];
@@ -393,6 +390,7 @@ w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[
   if (g_out) aw_v3_copy(g_out, g);
   if (l_out) aw_v3_copy(l_out, l);
   free(F);
+  free(FL);
   free(M);
   free(ok);
   return rms;
