@@ -10,6 +10,8 @@
 #include <gdk/x11/gdkx.h>
 #endif
 
+/* A speed's run ends after this many frames, or sooner at half the swing on a slow machine,
+ * so that it never reaches the end. */
 enum { SAMPLES_PER_SPEED = 14, SAMPLES_MAX = 600 };
 
 typedef struct {
@@ -89,7 +91,8 @@ after_paint(GdkFrameClock *clock, gpointer data)
   gboolean wrap_run = g_str_equal(m->rec_name, "loop");
   gboolean end_run = g_str_equal(m->rec_name, "end");
   gboolean done = !playing || m->n_samples >= SAMPLES_MAX ||
-                  (!wrap_run && !end_run && m->n_samples >= SAMPLES_PER_SPEED) ||
+                  (!wrap_run && !end_run && (m->n_samples >= SAMPLES_PER_SPEED ||
+                                             t >= 0.5 * arcwise_window_get_duration(m->win))) ||
                   (wrap_run && m->after_wrap >= 8);
   if (!done)
     return;

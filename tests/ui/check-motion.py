@@ -70,7 +70,7 @@ for i, f in enumerate(speeds):
     start = float(report.get(name + "_start", "nan"))
     s = anchored(samples(name), start)
     playing = [x for x in s if x[2] == 1]
-    check(len(playing) >= 10 and len(playing) == len(s),
+    check(len(playing) >= 5 and len(playing) == len(s),
           "%s: played through %d frames" % (name, len(playing)))
     if len(s) < 3:
         slopes.append(float("nan"))
