@@ -33,10 +33,13 @@ typedef struct {
   guint stable;
   guint polls;
   gboolean tool_done;
+  int keys_stage;
 } Motion;
 
 static void next_step(Motion *m);
 static void next_gesture(Motion *m);
+static void after_stage_picture(Motion *m);
+static gboolean loop_on(Motion *m);
 
 static void
 act(Motion *m, const char *action, GVariant *target)
@@ -264,6 +267,36 @@ start_watch(Motion *m)
   put_camera(m, gesture_name(m), "before", &m->before);
 }
 
+static gulong
+window_xid(Motion *m)
+{
+  GtkNative *native = gtk_widget_get_native(GTK_WIDGET(m->win));
+  GdkSurface *surface = native ? gtk_native_get_surface(native) : NULL;
+  gulong xid = 0;
+#ifdef GDK_WINDOWING_X11
+  if (surface != NULL && GDK_IS_X11_SURFACE(surface))
+    xid = (gulong)gdk_x11_surface_get_xid(surface);
+#endif
+  return xid;
+}
+
+static gboolean
+spawn_tool(Motion *m, GPtrArray *argv, const char *name)
+{
+  g_ptr_array_add(argv, NULL);
+  g_autoptr(GError) error = NULL;
+  GSubprocess *p = g_subprocess_newv((const char *const *)argv->pdata, G_SUBPROCESS_FLAGS_NONE,
+                                     &error);
+  g_ptr_array_unref(argv);
+  if (p == NULL) {
+    g_string_append_printf(m->report, "xdotool_error_%s=%s\n", name, error->message);
+    return FALSE;
+  }
+  m->tool_done = FALSE;
+  g_subprocess_wait_check_async(p, NULL, tool_finished, m);
+  return TRUE;
+}
+
 /* Real pointer input through the X server, into the stage's middle. */
 static gboolean
 pointer_gesture(Motion *m, const Gesture *g)
@@ -271,15 +304,8 @@ pointer_gesture(Motion *m, const Gesture *g)
   const char *tool = g_getenv("ARCWISE_MOTION_TEST_XDOTOOL");
   ArcwiseStage *stage = arcwise_window_get_stage(m->win);
   GtkNative *native = gtk_widget_get_native(GTK_WIDGET(stage));
-  GdkSurface *surface = native ? gtk_native_get_surface(native) : NULL;
-  if (tool == NULL || *tool == '\0' || surface == NULL)
-    return FALSE;
-  gulong xid = 0;
-#ifdef GDK_WINDOWING_X11
-  if (GDK_IS_X11_SURFACE(surface))
-    xid = (gulong)gdk_x11_surface_get_xid(surface);
-#endif
-  if (xid == 0)
+  gulong xid = window_xid(m);
+  if (tool == NULL || *tool == '\0' || native == NULL || xid == 0)
     return FALSE;
   double sx = 0, sy = 0;
   gtk_native_get_surface_transform(native, &sx, &sy);
@@ -318,18 +344,69 @@ pointer_gesture(Motion *m, const Gesture *g)
   }
   ARG("sleep"); ARG("0.1");
 #undef ARG
-  g_ptr_array_add(argv, NULL);
-  g_autoptr(GError) error = NULL;
-  GSubprocess *p = g_subprocess_newv((const char *const *)argv->pdata, G_SUBPROCESS_FLAGS_NONE,
-                                     &error);
-  g_ptr_array_unref(argv);
-  if (p == NULL) {
-    g_string_append_printf(m->report, "xdotool_error_%s=%s\n", g->name, error->message);
-    return FALSE;
+  return spawn_tool(m, argv, g->name);
+}
+
+/* Real key presses through the X server (XTest) into the focused window: the window's own
+ * single-key shortcuts. Stage 0: three steps on, two speeds slower, loop on; stage 1: play. */
+static const char *key_runs[][8] = {
+  { "Right", "Right", "Right", "bracketleft", "bracketleft", "l", NULL },
+  { "space", NULL },
+};
+
+static void keys_next(Motion *m);
+
+static gboolean
+keys_settled(gpointer data)
+{
+  Motion *m = data;
+  gboolean want_play = m->keys_stage == 1;
+  if (!(m->tool_done && (!want_play || arcwise_window_is_playing(m->win))) && ++m->polls < 200)
+    return G_SOURCE_CONTINUE;
+  GtkDropDown *speed = GTK_DROP_DOWN(gtk_widget_get_template_child(GTK_WIDGET(m->win),
+                                                                   ARCWISE_TYPE_WINDOW, "speed_dropdown"));
+  g_string_append_printf(m->report, "keys%d_time=%.9f\nkeys%d_speed=%u\nkeys%d_loop=%d\n"
+                         "keys%d_playing=%d\n", m->keys_stage, arcwise_window_get_time(m->win),
+                         m->keys_stage, gtk_drop_down_get_selected(speed), m->keys_stage,
+                         loop_on(m), m->keys_stage, arcwise_window_is_playing(m->win));
+  m->keys_stage++;
+  keys_next(m);
+  return G_SOURCE_REMOVE;
+}
+
+static void
+keys_next(Motion *m)
+{
+  const char *tool = g_getenv("ARCWISE_MOTION_TEST_XDOTOOL");
+  gulong xid = window_xid(m);
+  if (m->keys_stage >= (int)G_N_ELEMENTS(key_runs) || tool == NULL || *tool == '\0' || xid == 0) {
+    if (arcwise_window_is_playing(m->win))
+      act(m, "win.play", NULL);
+    if (loop_on(m))
+      act(m, "win.loop", NULL);
+    finish(m);
+    return;
   }
-  m->tool_done = FALSE;
-  g_subprocess_wait_check_async(p, NULL, tool_finished, m);
-  return TRUE;
+  GPtrArray *argv = g_ptr_array_new_with_free_func(g_free);
+  g_ptr_array_add(argv, g_strdup(tool));
+  g_ptr_array_add(argv, g_strdup("windowfocus"));
+  g_ptr_array_add(argv, g_strdup_printf("%lu", xid));
+  g_ptr_array_add(argv, g_strdup("sleep"));
+  g_ptr_array_add(argv, g_strdup("0.2"));
+  g_ptr_array_add(argv, g_strdup("key"));
+  g_ptr_array_add(argv, g_strdup("--delay"));
+  g_ptr_array_add(argv, g_strdup("120"));
+  for (const char *const *k = key_runs[m->keys_stage]; *k != NULL; k++)
+    g_ptr_array_add(argv, g_strdup(*k));
+  g_ptr_array_add(argv, g_strdup("sleep"));
+  g_ptr_array_add(argv, g_strdup("0.3"));
+  m->polls = 0;
+  if (!spawn_tool(m, argv, "keys")) {
+    m->keys_stage = (int)G_N_ELEMENTS(key_runs);
+    keys_next(m);
+    return;
+  }
+  g_timeout_add(50, keys_settled, m);
 }
 
 static GtkEventController *
@@ -349,7 +426,7 @@ stage_after_done(gpointer data)
 {
   Motion *m = data;
   picture(m, "gestures-window");
-  finish(m);
+  after_stage_picture(m);
 }
 
 static void
@@ -412,6 +489,16 @@ next_gesture(Motion *m)
     g_autofree char *path = g_strdup_printf("%s/stage-after.png", m->dir);
     arcwise_stage_request_snapshot(stage, path, G_CALLBACK(stage_after), m);
   }
+}
+
+static void
+after_stage_picture(Motion *m)
+{
+  /* The keys from the start of the swing at normal speed. */
+  act(m, "win.seek", g_variant_new_int32(-1));
+  arcwise_window_set_speed_index(m->win, 0);
+  m->keys_stage = 0;
+  keys_next(m);
 }
 
 /* ---- start ------------------------------------------------------------------------------- */

@@ -13,7 +13,8 @@ G_BEGIN_DECLS
  * pointer input (XTest, through the X server) drags with the left button (orbit), the right
  * button and shift + left (pan) and turns the wheel (zoom), so the stage's own GtkGestureDrag
  * and GtkEventControllerScroll handle them; a touchpad pinch, which XTest cannot make, is the
- * stage's own GtkGestureZoom emitting "begin" and "scale-changed". The camera before and after
+ * stage's own GtkGestureZoom emitting "begin" and "scale-changed". Then real key presses
+ * (XTest, after focusing the window): Right x3, [ x2, L, then Space. The camera before and after
  * each, the stage's size and view are written to DIR/motion-report.txt, pictures to DIR; then
  * the program quits. tests/ui/check-motion.py judges them. */
 void arcwise_motion_test_start(ArcwiseWindow *win, const char *dir, GtkWindow *caution);

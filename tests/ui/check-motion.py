@@ -131,6 +131,18 @@ check(len(s) >= 2 and s[-1][2] == 0 and abs(s[-1][1] - dur) < 1e-9
       % (s[-1][1] if s else float("nan"), dur))
 check(abs(float(report.get("end_final", "nan")) - dur) < 1e-9, "the marker stays at the end")
 
+# ---- the same through real key presses (XTest) -------------------------------------------------
+check("xdotool_error_keys" not in report and "keys1_playing" in report,
+      "key presses delivered through the X server")
+check(len(mt) > 3 and abs(float(report.get("keys0_time", "nan")) - mt[3]) < 1e-7,
+      "Right three times from the start: on the path's fourth sample (%s s, want %s s)"
+      % (report.get("keys0_time"), mt[3] if len(mt) > 3 else None))
+check(report.get("keys0_speed") == "2", "[ twice from 1x: 1/4 speed chosen (%s)" % report.get("keys0_speed"))
+check(report.get("keys0_loop") == "1" and report.get("keys0_playing") == "0", "L turns loop on")
+check(report.get("keys1_playing") == "1"
+      and float(report.get("keys1_time", "0")) > float(report.get("keys0_time", "1")),
+      "Space plays (%s -> %s s)" % (report.get("keys0_time"), report.get("keys1_time")))
+
 # ---- camera gestures -------------------------------------------------------------------------
 w, h = (int(x) for x in report.get("stage_size", "0 0").split())
 
