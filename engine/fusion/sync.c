@@ -349,12 +349,13 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
     }
     /* One table per operator shape that enough frames share to repay it (a table costs one
      * operator per IMU sample; a frame evaluated alone costs one per offset its own operator
-     * is tried at, ~70: the grid uses the commonest shape's table for it). */
+     * is tried at: about 32, the winner's scans and polish, since the grid and the candidates'
+     * refinement use the commonest shape's table for it). */
     c.tab_main = -1;
     for (size_t sh = 0; sh < cam->n_shape; sh++)
       if (c.tab_main < 0 || cam->shape_count[sh] > cam->shape_count[c.tab_main]) c.tab_main = (int)sh;
     for (size_t sh = 0; sh < cam->n_shape; sh++) {
-      if (cam->shape_count[sh] * 70 < imu->n && (int)sh != c.tab_main) continue;
+      if (cam->shape_count[sh] * 32 < imu->n && (int)sh != c.tab_main) continue;
       double (*t)[3] = malloc(sizeof *t * imu->n);
       if (!t) continue;
       aw_fusion_shape_table(cam, sh, imu->t_s, imu->n, (const double (*)[3])c.fb0,
