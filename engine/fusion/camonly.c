@@ -102,6 +102,30 @@ rts(Ax *f, Ax *p, Ax *sn, double dt, Ax *s)
     for (int c = r + 1; c < 3; c++) { double m = 0.5 * (s->P[r][c] + s->P[c][r]); s->P[r][c] = m; s->P[c][r] = m; }
 }
 
+/* Only s->P[0][0] of rts (the position variance), with the same arithmetic in the same order. */
+static double
+rts_p00(Ax *f, Ax *p, Ax *sn, double dt)
+{
+  double F[3][3] = { { 1, dt, 0.5 * dt * dt }, { 0, 1, dt }, { 0, 0, 1 } };
+  double Pi[3][3], PFt0[3], G0[3], GdP0[3];
+  if (!inv3s(p->P, Pi)) return f->P[0][0];
+  for (int c = 0; c < 3; c++) {
+    PFt0[c] = 0;
+    for (int k = 0; k < 3; k++) PFt0[c] += f->P[0][k] * F[c][k];
+  }
+  for (int c = 0; c < 3; c++) {
+    G0[c] = 0;
+    for (int k = 0; k < 3; k++) G0[c] += PFt0[k] * Pi[k][c];
+  }
+  for (int c = 0; c < 3; c++) {
+    GdP0[c] = 0;
+    for (int k = 0; k < 3; k++) GdP0[c] += G0[k] * (sn->P[k][c] - p->P[k][c]);
+  }
+  double a = f->P[0][0];
+  for (int k = 0; k < 3; k++) a += GdP0[k] * G0[k];
+  return a;
+}
+
 static void
 noise_var(const AwFusionSettings *s, const double scale[2], const double p[3], double conf, double var[3])
 {
@@ -251,6 +275,22 @@ aw_fusion_camonly_run(const AwCamPrep *cam, const double *tau, size_t n,
       for (int a = 0; a < 3; a++) predict(&Sm[0][a], t - tk[0], q, &out[a]);
     } else if (t >= tk[m - 1]) {
       for (int a = 0; a < 3; a++) predict(&Sm[m - 1][a], t - tk[m - 1], q, &out[a]);
+    } else if (!pos && !vel) {
+      /* Only the position sigma is wanted: the smoothed position variance alone, and the
+       * second axis copied from the first while their covariances are bitwise the same (the
+       * x and y noise are equal; a gate recovery inflates them apart). */
+      size_t j = aw_fusion_locate(tk, m, t, &hint);
+      for (int a = 0; a < 3; a++) {
+        if (a == 1 && memcmp(F[j][1].P, F[j][0].P, sizeof F[j][0].P) == 0 &&
+            memcmp(Sm[j + 1][1].P, Sm[j + 1][0].P, sizeof Sm[j][0].P) == 0) {
+          out[1].P[0][0] = out[0].P[0][0];
+          continue;
+        }
+        Ax ft, pn;
+        predict(&F[j][a], t - tk[j], q, &ft);
+        predict(&ft, tk[j + 1] - t, q, &pn);
+        out[a].P[0][0] = rts_p00(&ft, &pn, &Sm[j + 1][a], tk[j + 1] - t);
+      }
     } else {
       size_t j = aw_fusion_locate(tk, m, t, &hint);
       for (int a = 0; a < 3; a++) {
