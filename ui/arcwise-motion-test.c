@@ -356,6 +356,32 @@ static const char *key_runs[][8] = {
 
 static void keys_next(Motion *m);
 
+static GtkWidget *
+find_action_widget(GtkWidget *w, const char *action)
+{
+  if (GTK_IS_ACTIONABLE(w) && g_strcmp0(gtk_actionable_get_action_name(GTK_ACTIONABLE(w)), action) == 0)
+    return w;
+  for (GtkWidget *c = gtk_widget_get_first_child(w); c != NULL; c = gtk_widget_get_next_sibling(c)) {
+    GtkWidget *found = find_action_widget(c, action);
+    if (found != NULL)
+      return found;
+  }
+  return NULL;
+}
+
+/* Where the loop button is in the window's pictures. */
+static void
+put_loop_button(Motion *m, const char *when)
+{
+  GtkWidget *b = find_action_widget(GTK_WIDGET(m->win), "win.loop");
+  graphene_rect_t r;
+  if (b != NULL && gtk_widget_compute_bounds(b, GTK_WIDGET(m->win), &r))
+    g_string_append_printf(m->report, "loop_button_%s=%.0f %.0f %.0f %.0f %d %d\n", when,
+                           (double)r.origin.x, (double)r.origin.y, (double)r.size.width,
+                           (double)r.size.height, gtk_widget_get_width(GTK_WIDGET(m->win)),
+                           gtk_widget_get_height(GTK_WIDGET(m->win)));
+}
+
 static gboolean
 keys_settled(gpointer data)
 {
@@ -369,6 +395,10 @@ keys_settled(gpointer data)
                          "keys%d_playing=%d\n", m->keys_stage, arcwise_window_get_time(m->win),
                          m->keys_stage, gtk_drop_down_get_selected(speed), m->keys_stage,
                          loop_on(m), m->keys_stage, arcwise_window_is_playing(m->win));
+  if (want_play) {
+    picture(m, "keys-window");   /* playing at 1/4 with loop on */
+    put_loop_button(m, "on");
+  }
   m->keys_stage++;
   keys_next(m);
   return G_SOURCE_REMOVE;
@@ -425,7 +455,8 @@ static void
 stage_after_done(gpointer data)
 {
   Motion *m = data;
-  picture(m, "gestures-window");
+  picture(m, "gestures-window");   /* loop off */
+  put_loop_button(m, "off");
   after_stage_picture(m);
 }
 

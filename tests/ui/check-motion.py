@@ -143,6 +143,27 @@ check(report.get("keys1_playing") == "1"
       and float(report.get("keys1_time", "0")) > float(report.get("keys0_time", "1")),
       "Space plays (%s -> %s s)" % (report.get("keys0_time"), report.get("keys1_time")))
 
+
+
+def button_rgb(picture, key):
+    """Mean colour (0-255) inside the loop button's bounds, a few pixels in from its edge."""
+    v = report.get(key, "").split()
+    if len(v) != 6:
+        return None
+    import matplotlib.image  # python3-matplotlib, a test package of tools/quickstart
+    img = matplotlib.image.imread(os.path.join(d, picture + ".png"))[:, :, :3] * 255.0
+    x, y, bw, bh, ww, wh = (int(float(t)) for t in v)
+    if img.shape[:2] != (wh, ww):
+        return None
+    return img[y + 8:y + bh - 8, x + 6:x + bw - 6].reshape(-1, 3).mean(axis=0)
+
+
+on, off = button_rgb("keys-window", "loop_button_on"), button_rgb("gestures-window", "loop_button_off")
+amber = lambda c: c is not None and c[0] > 150 and c[0] - c[2] > 60
+check(amber(on) and off is not None and not amber(off),
+      "loop on shows on its button in the accent amber (on %s, off %s)"
+      % (None if on is None else on.round(), None if off is None else off.round()))
+
 # ---- camera gestures -------------------------------------------------------------------------
 w, h = (int(x) for x in report.get("stage_size", "0 0").split())
 
