@@ -23,6 +23,13 @@
 #include <stdlib.h>
 #include <string.h>
 
+/* One remembered score (see SyncCtx.memo). */
+typedef struct {
+  double off, drift, ta, tb, rho;
+  size_t n, stride;
+  bool approx;
+} ScoreMemo;
+
 typedef struct {
   const AwImuPrep *imu;
   const AwCamPrep *cam;
@@ -41,6 +48,10 @@ typedef struct {
   int tab_main;            /* the most common shape (its table exists), -1 = none */
   bool approx;             /* frames without a table of their own use tab_main's */
   size_t stride;           /* score every stride-th frame (the coarse grid: 2) */
+  /* Scores already computed for the same arguments and settings (the scans and parabola steps
+   * around the winner come back to offsets they tried): a ring of the last few. */
+  ScoreMemo memo[32];
+  size_t n_memo;
 } SyncCtx;
 
 static void
@@ -102,8 +113,32 @@ imu_seen(const SyncCtx *c, size_t k, double ti, double off, double drift, size_t
 /* Pearson correlation of the camera signal and the magnitude of what the IMU implies for it
  * over the usable frames with t in [ta, tb] (frames without a fit, occluded or trimmed, and
  * IMU look-ups outside the recording drop out of the sums). */
+static double score_frames(const SyncCtx *c, double off, double drift, double ta, double tb,
+                           size_t *n_used);
+
 static double
-score(const SyncCtx *c, double off, double drift, double ta, double tb, size_t *n_used)
+score(SyncCtx *c, double off, double drift, double ta, double tb, size_t *n_used)
+{
+  size_t nm = c->n_memo < 32 ? c->n_memo : 32;
+  for (size_t j = 0; j < nm; j++) {
+    const ScoreMemo *e = &c->memo[j];
+    if (e->off == off && e->drift == drift && e->ta == ta && e->tb == tb &&
+        e->approx == c->approx && e->stride == c->stride) {
+      if (n_used) *n_used = e->n;
+      return e->rho;
+    }
+  }
+  size_t n = 0;
+  double rho = score_frames(c, off, drift, ta, tb, &n);
+  ScoreMemo *e = &c->memo[c->n_memo++ % 32];
+  e->off = off; e->drift = drift; e->ta = ta; e->tb = tb; e->rho = rho; e->n = n;
+  e->approx = c->approx; e->stride = c->stride;
+  if (n_used) *n_used = n;
+  return rho;
+}
+
+static double
+score_frames(const SyncCtx *c, double off, double drift, double ta, double tb, size_t *n_used)
 {
   const AwCamPrep *cam = c->cam;
   double s1 = 0, s2 = 0, s11 = 0, s22 = 0, s12 = 0;
@@ -136,7 +171,7 @@ typedef struct {
  * +-step0/4 and then +-step0/20, each first walking uphill (at most 4 steps) until the middle
  * is the highest of the three. */
 static Peak
-refine(const SyncCtx *c, double center, double step0, double drift, double ta, double tb)
+refine(SyncCtx *c, double center, double step0, double drift, double ta, double tb)
 {
   Peak pk = { center, -2, 0, -2, 0 };
   double h = step0 / 4.0;
@@ -165,7 +200,7 @@ refine(const SyncCtx *c, double center, double step0, double drift, double ta, d
  * surface can hold ripples a parabola step walks into): 9 points over +-step0, 11 over
  * +-step0/4, and a parabola through the best and its neighbours step0/20 away. */
 static Peak
-refine_dense(const SyncCtx *c, double center, double step0, double drift, double ta, double tb)
+refine_dense(SyncCtx *c, double center, double step0, double drift, double ta, double tb)
 {
   Peak pk = { center, -2, 0, -2, 0 };
   double step = step0;
@@ -199,7 +234,7 @@ refine_dense(const SyncCtx *c, double center, double step0, double drift, double
 
 /* Scores on the grid lo + i step0 (nstep points) into rc. */
 static void
-grid_scores(const SyncCtx *c, double lo, double step0, size_t nstep, double drift, double ta,
+grid_scores(SyncCtx *c, double lo, double step0, size_t nstep, double drift, double ta,
             double tb, double *rc)
 {
   for (size_t i = 0; i < nstep; i++) rc[i] = score(c, lo + step0 * (double)i, drift, ta, tb, NULL);
