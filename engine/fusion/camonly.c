@@ -10,7 +10,10 @@
  * frames, which is exact for this model. The jerk density is estimated from the frames by the
  * method of moments on third differences: for white jerk of density q sampled every h seconds,
  * Var(third difference) = (11/20) q h^5 (the integral of the squared quadratic B-spline), plus
- * 20 sigma^2 of camera noise. */
+ * 20 sigma^2 of camera noise. When the path itself is the output (IMU masked), frames the
+ * smoothed path contradicts (normalised smoothed residual over the gate) are left out and the
+ * frames smoothed again, at most twice: one jerk density for a whole recording makes the forward
+ * gate as wide as the swing, and a keypoint snap in a still stretch passes it. */
 #include "fusion-internal.h"
 
 #include <math.h>
@@ -182,21 +185,22 @@ estimate_jerk_psd(const AwCamPrep *cam, const AwFusionSettings *s)
   return fmin(fmax(q, 10.0), 1e8);
 }
 
-AwStatus
-aw_fusion_camonly_run(const AwCamPrep *cam, const double *tau, size_t n,
-                      const AwFusionSettings *s, double *jerk_psd_inout, double (*pos)[3],
-                      double (*vel)[3], double (*sig)[3], double *nis_mean, size_t *rejected,
-                      size_t *recoveries)
+/* One forward filter and RTS smoother over the frames. `drop` (NULL, or one per frame) names
+ * frames left out whatever the gate says; kk[j] is the frame behind knot j. */
+typedef struct {
+  Ax (*F)[3], (*Pp)[3], (*Sm)[3];
+  double *tk;
+  size_t *kk;
+  size_t m, rej, rec;
+  double nis_sum;
+} Pass;
+
+static void
+pass_run(const AwCamPrep *cam, const AwFusionSettings *s, double q, const unsigned char *drop,
+         Pass *ps)
 {
-  double q = jerk_psd_inout && *jerk_psd_inout > 0 ? *jerk_psd_inout : estimate_jerk_psd(cam, s);
-  if (jerk_psd_inout) *jerk_psd_inout = q;
-  size_t nv = cam->n_valid;
-  if (nv == 0) return AW_ERR_TOO_FEW;
-  /* Per accepted frame and axis: filtered, predicted-from-previous, smoothed. */
-  Ax (*F)[3] = malloc(sizeof *F * nv), (*Pp)[3] = malloc(sizeof *Pp * nv),
-     (*Sm)[3] = malloc(sizeof *Sm * nv);
-  double *tk = malloc(sizeof *tk * nv);
-  if (!F || !Pp || !Sm || !tk) { free(F); free(Pp); free(Sm); free(tk); return AW_ERR_NO_MEMORY; }
+  Ax (*F)[3] = ps->F, (*Pp)[3] = ps->Pp, (*Sm)[3] = ps->Sm;
+  double *tk = ps->tk;
   size_t m = 0, rej = 0, rec = 0;
   double nis_sum = 0, rej_since = NAN;
   size_t rej_run = 0;
@@ -204,6 +208,7 @@ aw_fusion_camonly_run(const AwCamPrep *cam, const double *tau, size_t n,
   double tcur = 0;
   for (size_t k = 0; k < cam->n; k++) {
     if (!cam->valid[k]) continue;
+    if (drop && drop[k]) { rej++; continue; }
     double var[3];
     noise_var(s, cam->noise_scale, cam->pos_m[k], cam->conf ? cam->conf[k] : 1, var);
     if (m == 0) {
@@ -217,6 +222,7 @@ aw_fusion_camonly_run(const AwCamPrep *cam, const double *tau, size_t n,
         Pp[0][a] = cur[a];
       }
       tk[0] = cam->t_s[k];
+      ps->kk[0] = k;
       tcur = tk[0];
       m = 1;
       continue;
@@ -259,13 +265,79 @@ aw_fusion_camonly_run(const AwCamPrep *cam, const double *tau, size_t n,
       Pp[m][a] = pr[a];
     }
     tk[m] = cam->t_s[k];
+    ps->kk[m] = k;
     tcur = tk[m];
     m++;
   }
-  if (m == 0) { free(F); free(Pp); free(Sm); free(tk); return AW_ERR_TOO_FEW; }
-  for (int a = 0; a < 3; a++) Sm[m - 1][a] = F[m - 1][a];
-  for (size_t j = m - 1; j-- > 0;)
-    for (int a = 0; a < 3; a++) rts(&F[j][a], &Pp[j + 1][a], &Sm[j + 1][a], tk[j + 1] - tk[j], &Sm[j][a]);
+  if (m > 0) {
+    for (int a = 0; a < 3; a++) Sm[m - 1][a] = F[m - 1][a];
+    for (size_t j = m - 1; j-- > 0;)
+      for (int a = 0; a < 3; a++) rts(&F[j][a], &Pp[j + 1][a], &Sm[j + 1][a], tk[j + 1] - tk[j], &Sm[j][a]);
+  }
+  ps->m = m;
+  ps->rej = rej;
+  ps->rec = rec;
+  ps->nis_sum = nis_sum;
+}
+
+/* Frames the smoothed path contradicts: for a frame the smoother used, z - x_s has variance
+ * R - P_s (Bar-Shalom et al. 2001, the smoothed residual), so a frame whose normalised smoothed
+ * residual exceeds the gate was an outlier the forward gate could not see (a snap in a still
+ * phase passes a gate as wide as the swing's motion model). Returns how many were added. */
+static size_t
+mark_contradicted(const AwCamPrep *cam, const AwFusionSettings *s, const Pass *ps,
+                  unsigned char *drop)
+{
+  size_t added = 0;
+  for (size_t j = 0; j < ps->m; j++) {
+    size_t k = ps->kk[j];
+    double var[3], r = 0;
+    noise_var(s, cam->noise_scale, cam->pos_m[k], cam->conf ? cam->conf[k] : 1, var);
+    for (int a = 0; a < 3; a++) {
+      double y = cam->pos_m[k][a] - ps->Sm[j][a].x[0];
+      double v = fmax(var[a] - ps->Sm[j][a].P[0][0], 0.05 * var[a]);
+      r += y * y / v;
+    }
+    if (r > s->gate_chi2) { drop[k] = 1; added++; }
+  }
+  return added;
+}
+
+AwStatus
+aw_fusion_camonly_run(const AwCamPrep *cam, const double *tau, size_t n,
+                      const AwFusionSettings *s, double *jerk_psd_inout, double (*pos)[3],
+                      double (*vel)[3], double (*sig)[3], double *nis_mean, size_t *rejected,
+                      size_t *recoveries)
+{
+  double q = jerk_psd_inout && *jerk_psd_inout > 0 ? *jerk_psd_inout : estimate_jerk_psd(cam, s);
+  if (jerk_psd_inout) *jerk_psd_inout = q;
+  size_t nv = cam->n_valid;
+  if (nv == 0) return AW_ERR_TOO_FEW;
+  /* Per accepted frame and axis: filtered, predicted-from-previous, smoothed. */
+  Pass ps = { 0 };
+  ps.F = malloc(sizeof *ps.F * nv);
+  ps.Pp = malloc(sizeof *ps.Pp * nv);
+  ps.Sm = malloc(sizeof *ps.Sm * nv);
+  ps.tk = malloc(sizeof *ps.tk * nv);
+  ps.kk = malloc(sizeof *ps.kk * nv);
+  unsigned char *drop = NULL;
+  if (!ps.F || !ps.Pp || !ps.Sm || !ps.tk || !ps.kk) goto nomem;
+  pass_run(cam, s, q, NULL, &ps);
+  /* The path itself is wanted (the IMU is masked): leave out what the smoothed path
+   * contradicts and smooth again, at most twice (each pass only ever drops frames). Only the
+   * sigmas wanted: one pass, since a dropped frame barely moves them. */
+  if (pos && ps.m > 0) {
+    drop = calloc(cam->n, 1);
+    if (!drop) goto nomem;
+    for (int it = 0; it < 2 && mark_contradicted(cam, s, &ps, drop) > 0; it++)
+      pass_run(cam, s, q, drop, &ps);
+  }
+  free(drop);
+  size_t m = ps.m, rej = ps.rej, rec = ps.rec;
+  double nis_sum = ps.nis_sum;
+  Ax (*F)[3] = ps.F, (*Sm)[3] = ps.Sm;
+  double *tk = ps.tk;
+  if (m == 0) { free(ps.F); free(ps.Pp); free(ps.Sm); free(ps.tk); free(ps.kk); return AW_ERR_TOO_FEW; }
   /* Onto the IMU grid. */
   size_t hint = 0;
   for (size_t i = 0; i < n; i++) {
@@ -309,6 +381,9 @@ aw_fusion_camonly_run(const AwCamPrep *cam, const double *tau, size_t n,
   if (nis_mean) *nis_mean = m > 1 ? nis_sum / (double)(m - 1) : (double)NAN;
   if (rejected) *rejected = rej;
   if (recoveries) *recoveries = rec;
-  free(F); free(Pp); free(Sm); free(tk);
+  free(ps.F); free(ps.Pp); free(ps.Sm); free(ps.tk); free(ps.kk);
   return AW_OK;
+nomem:
+  free(ps.F); free(ps.Pp); free(ps.Sm); free(ps.tk); free(ps.kk);
+  return AW_ERR_NO_MEMORY;
 }
