@@ -125,8 +125,8 @@ arcwise_quality_text(const ArcwiseSwingModel *m, ArcwiseUnits units)
         dur += (double)(m->t_s[i] - m->t_s[i - 1]);
     g_autofree char *band = length_text((double)m->phase_band_max_m[p], units);
     g_string_append_printf(s, "• <b>%s</b>: the camera lost the hands for %.2f s (%.0f %% of the "
-                           "phase). The wrist sensor carried the path there; at its weakest point "
-                           "the hands were within ±%s of the drawn path (2σ).\n",
+                           "phase). Over those gaps the wrist sensor alone carried the path; at its "
+                           "weakest point the hands were within ±%s of the drawn path (2σ).\n",
                            phase_labels[p], dur, 100.0 * occ, band);
     any = TRUE;
   }
