@@ -180,7 +180,9 @@ apply_Ft_vec(const Trans *T, double x[NS])
  * on the left changes only the rows of C = {v, theta, ba, bg, dg} and F acting on the right
  * only those columns, so with L1 = F^T L: (L1 F)[C][U] = L1[C][U] for the other states U =
  * {p, lever, clock}, (L1 F)[U][C] is its mirror and the U block is unchanged. Only the 15 rows
- * of C are multiplied by F from the right; the result is mirrored, exactly symmetric. */
+ * of C are multiplied by F from the right, and each only for the columns of its own block and
+ * the blocks after it (C's blocks in index order): the result is symmetric, so the C block's
+ * upper triangle is mirrored to the lower (exactly symmetric), and the C x U block to U x C. */
 static void
 congruence_Ft(const Trans *T, double L[NS][NS])
 {
@@ -191,40 +193,48 @@ congruence_Ft(const Trans *T, double L[NS][NS])
   apply_Ft(T, L);
   if (T->gap) {
     for (int a = 0; a < NC; a++) apply_Ft_vec(T, L[crow[a]]);
-  } else {
-    /* Each row x of C times F: apply_Ft_vec with the step's blocks formed once. */
-    double dt = T->dt, h2 = 0.5 * dt * dt, Pth[3][3], Pba[3][3];
-    for (int r = 0; r < 3; r++)
-      for (int c = 0; c < 3; c++) { Pth[r][c] = 0.5 * dt * T->Vth[r][c]; Pba[r][c] = 0.5 * dt * T->Vba[r][c]; }
     for (int a = 0; a < NC; a++) {
-      double *x = L[crow[a]];
-      const double *xp = &x[IP], *xv = &x[IV], *xt = &x[IT];
-      double nt[3], nba[3], nbg[3];
-      for (int c = 0; c < 3; c++) {
-        nt[c] = x[IT + c] + Pth[0][c] * xp[0] + Pth[1][c] * xp[1] + Pth[2][c] * xp[2] +
-                T->Vth[0][c] * xv[0] + T->Vth[1][c] * xv[1] + T->Vth[2][c] * xv[2];
-        nba[c] = x[IBA + c] + Pba[0][c] * xp[0] + Pba[1][c] * xp[1] + Pba[2][c] * xp[2] +
-                 T->Vba[0][c] * xv[0] + T->Vba[1][c] * xv[1] + T->Vba[2][c] * xv[2];
-        nbg[c] = x[IBG + c] + T->Tbg[0][c] * xt[0] + T->Tbg[1][c] * xt[1] + T->Tbg[2][c] * xt[2];
+      int r = crow[a];
+      for (int b = 0; b < NU; b++) L[urow[b]][r] = L[r][urow[b]];
+      for (int b = a + 1; b < NC; b++) {
+        int c = crow[b];
+        double v = 0.5 * (L[r][c] + L[c][r]);
+        L[r][c] = v;
+        L[c][r] = v;
       }
-      for (int c = 0; c < 3; c++) {
-        x[IDG + c] += h2 * xp[c] + dt * xv[c];
-        x[IBG + c] = nbg[c];
-        x[IBA + c] = nba[c];
-        x[IT + c] = nt[c];
-      }
-      for (int c = 0; c < 3; c++) x[IV + c] += dt * xp[c];
     }
+    return;
+  }
+  /* Each row x of C times F (apply_Ft_vec with the step's blocks formed once), from the row's
+   * own block on: block 0 = v, 1 = theta, 2 = ba, 3 = bg, 4 = dg. */
+  double dt = T->dt, h2 = 0.5 * dt * dt, Pth[3][3], Pba[3][3];
+  for (int r = 0; r < 3; r++)
+    for (int c = 0; c < 3; c++) { Pth[r][c] = 0.5 * dt * T->Vth[r][c]; Pba[r][c] = 0.5 * dt * T->Vba[r][c]; }
+  for (int a = 0; a < NC; a++) {
+    int blk = a / 3;
+    double *x = L[crow[a]];
+    const double *xp = &x[IP], *xv = &x[IV], *xt = &x[IT];
+    double nt[3], nba[3], nbg[3];
+    for (int c = 0; c < 3; c++) {
+      nt[c] = x[IT + c] + Pth[0][c] * xp[0] + Pth[1][c] * xp[1] + Pth[2][c] * xp[2] +
+              T->Vth[0][c] * xv[0] + T->Vth[1][c] * xv[1] + T->Vth[2][c] * xv[2];
+      nba[c] = x[IBA + c] + Pba[0][c] * xp[0] + Pba[1][c] * xp[1] + Pba[2][c] * xp[2] +
+               T->Vba[0][c] * xv[0] + T->Vba[1][c] * xv[1] + T->Vba[2][c] * xv[2];
+      nbg[c] = x[IBG + c] + T->Tbg[0][c] * xt[0] + T->Tbg[1][c] * xt[1] + T->Tbg[2][c] * xt[2];
+    }
+    for (int c = 0; c < 3; c++) {
+      x[IDG + c] += h2 * xp[c] + dt * xv[c];
+      if (blk <= 3) x[IBG + c] = nbg[c];
+      if (blk <= 2) x[IBA + c] = nba[c];
+      if (blk <= 1) x[IT + c] = nt[c];
+    }
+    if (blk == 0)
+      for (int c = 0; c < 3; c++) x[IV + c] += dt * xp[c];
   }
   for (int a = 0; a < NC; a++) {
     int r = crow[a];
     for (int b = 0; b < NU; b++) L[urow[b]][r] = L[r][urow[b]];
-    for (int b = a + 1; b < NC; b++) {
-      int c = crow[b];
-      double v = 0.5 * (L[r][c] + L[c][r]);
-      L[r][c] = v;
-      L[c][r] = v;
-    }
+    for (int b = a + 1; b < NC; b++) L[crow[b]][r] = L[r][crow[b]];
   }
 }
 
