@@ -504,20 +504,22 @@ innov_cov_vel(double P[NS][NS], double R[3][3], double HP[3][NS], double S[3][3]
 static void
 cov_update(double P[NS][NS], double HP[3][NS], double K[NS][3], double S[3][3])
 {
-  double W[NS][3];
+  /* W and K by columns (3 x NS): the row loop below then reads HP and K along c, contiguous. */
+  double W[3][NS], Kt[3][NS];
   for (int r = 0; r < NS; r++)
-    for (int c = 0; c < 3; c++)
-      W[r][c] = K[r][0] * S[0][c] + K[r][1] * S[1][c] + K[r][2] * S[2][c] - HP[c][r];
-  for (int r = 0; r < NS; r++) {
-    double k0 = K[r][0], k1 = K[r][1], k2 = K[r][2];
-    double w0 = W[r][0], w1 = W[r][1], w2 = W[r][2];
-    for (int c = r; c < NS; c++) {
-      double v = P[r][c] - (k0 * HP[0][c] + k1 * HP[1][c] + k2 * HP[2][c]) +
-                 (w0 * K[c][0] + w1 * K[c][1] + w2 * K[c][2]);
-      P[r][c] = v;
-      P[c][r] = v;
+    for (int c = 0; c < 3; c++) {
+      W[c][r] = K[r][0] * S[0][c] + K[r][1] * S[1][c] + K[r][2] * S[2][c] - HP[c][r];
+      Kt[c][r] = K[r][c];
     }
+  for (int r = 0; r < NS; r++) {
+    double k0 = Kt[0][r], k1 = Kt[1][r], k2 = Kt[2][r];
+    double w0 = W[0][r], w1 = W[1][r], w2 = W[2][r];
+    for (int c = r; c < NS; c++)
+      P[r][c] = P[r][c] - (k0 * HP[0][c] + k1 * HP[1][c] + k2 * HP[2][c]) +
+                (w0 * Kt[0][c] + w1 * Kt[1][c] + w2 * Kt[2][c]);
   }
+  for (int r = 0; r < NS; r++)
+    for (int c = r + 1; c < NS; c++) P[c][r] = P[r][c];
 }
 
 static void
