@@ -286,8 +286,11 @@ propagate_cov(const Trans *T, double P[NS][NS])
   enum { NG = 9 };
   double A[NG][NS], At[NS][NG], B[NG][NG];
   apply_G(T, &P[0][0], NS, NS, &A[0][0]);
-  for (int r = 0; r < NG; r++)
-    for (int c = 0; c < NS; c++) At[c][r] = A[r][c];
+  /* G reads only the v, theta, ba, bg and dg rows of its operand: only those of A^T are made. */
+  for (int r = 0; r < NG; r++) {
+    for (int c = IV; c < IT + 3; c++) At[c][r] = A[r][c];
+    for (int c = IBA; c < NS; c++) At[c][r] = A[r][c];
+  }
   apply_G(T, &At[0][0], NG, NG, &B[0][0]);
   for (int r = 0; r < NG; r++) {
     for (int c = r; c < NG; c++) {
