@@ -238,13 +238,6 @@ congruence_Ft(const Trans *T, double L[NS][NS])
   }
 }
 
-static void
-symmetrize(double M[NS][NS])
-{
-  for (int r = 0; r < NS; r++)
-    for (int c = r + 1; c < NS; c++) { double a = 0.5 * (M[r][c] + M[c][r]); M[r][c] = a; M[c][r] = a; }
-}
-
 /* out (9 x ncol, rows p, v, theta) = G M, F = I + G, M's rows the state's (row stride ld). G is
  * non-zero only in the p, v and theta rows. */
 static void
@@ -758,7 +751,11 @@ bf_update(double L[NS][NS], double l[NS], Upd *u)
     }
   for (int a = 0; a < NH; a++)
     for (int b = 0; b < NH; b++) L[a][b] += HMH[a][b];
-  symmetrize(L);
+  /* Lambda was exactly symmetric and each pair outside the first NH rows and columns got the
+   * same LKH entry on both sides: only the NH x NH block can have drifted apart (symmetrizing the
+   * rest would average two equal numbers). */
+  for (int r = 0; r < NH; r++)
+    for (int c = r + 1; c < NH; c++) { double a = 0.5 * (L[r][c] + L[c][r]); L[r][c] = a; L[c][r] = a; }
 }
 
 AwStatus
