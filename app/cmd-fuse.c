@@ -63,6 +63,10 @@ write_report(FILE *f, const AwFusedPath *p)
   fprintf(f, "clock_offset_sigma_s: %.6f\n", r->clock_offset_sigma_s);
   fprintf(f, "clock_calib_sigma_s: %.6f\n", r->clock_calib_sigma_s);
   fprintf(f, "clock_drift_ppm: %.3f\n", r->clock_drift * 1e6);
+  if (isfinite(r->clock_drift_sigma))
+    fprintf(f, "clock_drift_sigma_ppm: %.3f\n", r->clock_drift_sigma * 1e6);
+  else
+    fprintf(f, "clock_drift_sigma_ppm: none (too short a stretch of motion to estimate a drift)\n");
   fprintf(f, "clock_confidence: %.3f\n", r->clock_confidence);
   fprintf(f, "q_cam_grav_wxyz: %.6f %.6f %.6f %.6f\n", r->q_cam_grav[0], r->q_cam_grav[1],
           r->q_cam_grav[2], r->q_cam_grav[3]);

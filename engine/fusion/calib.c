@@ -524,7 +524,7 @@ w_cost_rot(const WCtx *w, double shift, double (*F)[3], double (*A)[3], double *
  * otherwise (the constant shift stands). all: candidate frames in time order. */
 static bool
 calib_drift(const WCtx *w0, const size_t *all, size_t n_all, double best, double *a_out,
-            double *b_out, double *tref_out)
+            double *b_out, double *tref_out, double *b_sigma_out)
 {
   const AwCamPrep *cam = w0->cam;
   if (n_all < 60 || cam->t_s[all[n_all - 1]] - cam->t_s[all[0]] < 45.0) return false;
@@ -579,10 +579,10 @@ calib_drift(const WCtx *w0, const size_t *all, size_t n_all, double best, double
     int half = (int)ceil(r / h) + FIT;
     double cost[2 * 90 + 2 * FIT + 1];
     if (half > 90 + FIT) half = 90 + FIT;
-    int jb = 0;
+    int jb = -half;
     for (int j = -half; j <= half; j++) {
       cost[j + half] = w_cost_rot(&w, pred + h * j, F, A, e, use);
-      if (cost[j + half] < cost[jb + half] || j == -half) jb = j;
+      if (j > -half && cost[j + half] < cost[jb + half]) jb = j;
     }
     if (!isfinite(cost[jb + half]) || jb - FIT < -half || jb + FIT > half) continue;
     /* least-squares parabola through the 2 FIT + 1 grid points around the best: the trimmed
@@ -649,7 +649,23 @@ calib_drift(const WCtx *w0, const size_t *all, size_t n_all, double best, double
         Wo += wv[q] * ws[q]; Wtt += wv[q] * dt * dt; Wto += wv[q] * dt * ws[q];
         tlo = fmin(tlo, wt[q]); thi = fmax(thi, wt[q]);
       }
-      if (Wtt > 0 && thi - tlo >= 40.0) { b = Wto / Wtt; a = Wo / W; fit = true; }
+      if (Wtt > 0 && thi - tlo >= 40.0) {
+        b = Wto / Wtt;
+        a = Wo / W;
+        fit = true;
+        /* Standard error of the slope, 1 / sqrt(sum w dt^2), scaled by the reduced chi-square
+         * of the windows about the line when they scatter more than their curvature weights
+         * say (the Birge ratio; P. R. Bevington & D. K. Robinson, "Data Reduction and Error
+         * Analysis for the Physical Sciences", 3rd ed., McGraw-Hill 2003, section 6.5). */
+        double chi2 = 0;
+        for (size_t q = 0; q < nw; q++) {
+          if (!(wv[q] > 0)) continue;
+          double rr = ws[q] - a - b * (wt[q] - tref);
+          chi2 += wv[q] * rr * rr;
+        }
+        double birge = used > 2 ? fmax(1.0, chi2 / (double)(used - 2)) : 1.0;
+        *b_sigma_out = sqrt(birge / Wtt);
+      }
     }
   }
   if (fit && fabs(b) <= 5e-4) {
@@ -675,6 +691,7 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
                     AwError *err)
 {
   memset(out, 0, sizeof *out);
+  out->clock_drift_sigma = NAN;
   size_t n = imu->n;
   /* Gyro bias: mean rate over the longest still run. */
   size_t best_a = 0, best_len = 0;
@@ -859,11 +876,12 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
         w.keep = keep;
         if (jb >= 0 && isfinite(r0)) {
           out->clock_shift_s = best;
-          double da, db, dref;
-          if (all_f && calib_drift(&w, all_f, n_all, best, &da, &db, &dref)) {
+          double da, db, dref, dsig = NAN;
+          if (all_f && calib_drift(&w, all_f, n_all, best, &da, &db, &dref, &dsig)) {
             out->clock_shift_s = da;
             out->clock_drift = db;
             out->clock_ref_s = dref;
+            out->clock_drift_sigma = dsig;
           }
           /* The rotation, gravity and lever arm of the joint solution at that shift. */
           double qq[4], gg[3], ll[3];

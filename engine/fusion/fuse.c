@@ -214,6 +214,7 @@ aw_fuse(const AwImuStream *imu, const AwDepthStream *depth, const AwFusionSettin
                         cal.clock_drift * cal.clock_ref_s;
   rep->clock_drift = (1 + rep->clock_drift) * (1 + cal.clock_drift) - 1;
   rep->clock_calib_sigma_s = cal.clock_sigma_s;
+  rep->clock_drift_sigma = cal.clock_drift_sigma;
   for (size_t i = 0; i < imu->n; i++) {
     tau[i] += cal.clock_shift_s + cal.clock_drift * (tau[i] - cal.clock_ref_s);
     path->t_s[i] = tau[i];

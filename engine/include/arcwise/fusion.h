@@ -48,8 +48,8 @@ typedef struct {
   double gyro_bias_init_rad_s;            /* 1-sigma gyro offset when no still period is found */
   double accel_scale_sigma;               /* 1-sigma accelerometer scale/axis error (fraction) */
   double gyro_scale_sigma;                /* 1-sigma gyro scale/axis error (fraction) */
-  double still_gyro_rad_s;                /* |omega| below this over still_window_s: still */
-  double still_accel_m_s2;                /* | |f| - g | below this over still_window_s: still */
+  double still_gyro_rad_s;                /* |omega - window mean| below this over still_window_s: still */
+  double still_accel_m_s2;                /* |f - window mean| below this over still_window_s: still */
   double still_window_s;                  /* length of a still window */
   double zupt_sigma_m_s;                  /* residual wrist speed when "still" */
   double cam_conf_min;                    /* detections below this confidence count as missing */
@@ -108,6 +108,9 @@ typedef struct {
    * the curvature of that fit's cost; 0 when the refinement did not run). The filter may
    * inflate the camera noise by it: sigma_t^2 v v^T for the hand velocity v. */
   double clock_calib_sigma_s;
+  /* 1-sigma of clock_drift from the calibration's line through its windows' shifts; NAN when
+   * the recording is too short to estimate a drift (then clock_drift is the sync's). */
+  double clock_drift_sigma;
 } AwFusionReport;
 
 typedef struct {
