@@ -484,14 +484,19 @@ aw_fusion_prep_imu(const AwImuStream *imu, const AwFusionSettings *s, double g, 
   }
   size_t half = (size_t)ceil(0.5 * s->still_window_s / m->dt_nom_s);
   if (half < 1) half = 1;
-  /* Window means of the gyro: stillness is judged on the rate's deviation from its local mean,
-   * so a gyro offset of several deg/s (consumer parts, REFERENCES.md section 8) does not hide
-   * a still hand; the mean itself must stay below 20 deg/s, beyond any offset spec. */
-  double (*cw)[3] = malloc(sizeof *cw * (n + 1));
+  /* Window means of the gyro and the accelerometer: stillness is judged on each reading's
+   * deviation from its local mean, so sensor offsets (consumer parts: zero-rate +-3..10 deg/s,
+   * zero-g +-40 mg per axis, REFERENCES.md section 8; 40 mg on a vertical axis alone moves |f|
+   * by 0.39 m/s^2) do not hide a still hand. The means themselves must stay within twice any
+   * offset spec: below 20 deg/s, and |f| within 1.5 m/s^2 (~150 mg) of gravity. */
+  double (*cw)[6] = malloc(sizeof *cw * (n + 1));
   if (!cw) { free(quiet); aw_fusion_prep_imu_free(m); return AW_ERR_NO_MEMORY; }
-  cw[0][0] = cw[0][1] = cw[0][2] = 0;
+  for (int a = 0; a < 6; a++) cw[0][a] = 0;
   for (size_t i = 0; i < n; i++)
-    for (int a = 0; a < 3; a++) cw[i + 1][a] = cw[i][a] + m->w[i][a];
+    for (int a = 0; a < 3; a++) {
+      cw[i + 1][a] = cw[i][a] + m->w[i][a];
+      cw[i + 1][3 + a] = cw[i][3 + a] + m->f[i][a];
+    }
   for (size_t i = 0; i < n; i++) {
     for (int a = 0; a < 3; a++) {
       /* 0.5 % below full scale: quantisation keeps clipped values a count or two short. */
@@ -499,14 +504,18 @@ aw_fusion_prep_imu(const AwImuStream *imu, const AwFusionSettings *s, double g, 
       if (m->gyr_range > 0 && fabs(m->w[i][a]) >= 0.995 * m->gyr_range) m->sat_gyr[i] = 1;
     }
     size_t lo = i >= half ? i - half : 0, hi = i + half < n ? i + half : n - 1;
-    double mw[3], dw = 0, mn = 0;
+    double mw[3], mf[3], dw = 0, mn = 0, df = 0, fn = 0;
+    double inv = 1.0 / (double)(hi - lo + 1);
     for (int a = 0; a < 3; a++) {
-      mw[a] = (cw[hi + 1][a] - cw[lo][a]) / (double)(hi - lo + 1);
+      mw[a] = (cw[hi + 1][a] - cw[lo][a]) * inv;
+      mf[a] = (cw[hi + 1][3 + a] - cw[lo][3 + a]) * inv;
       dw += (m->w[i][a] - mw[a]) * (m->w[i][a] - mw[a]);
+      df += (m->f[i][a] - mf[a]) * (m->f[i][a] - mf[a]);
       mn += mw[a] * mw[a];
+      fn += mf[a] * mf[a];
     }
-    double fn = sqrt(m->f[i][0] * m->f[i][0] + m->f[i][1] * m->f[i][1] + m->f[i][2] * m->f[i][2]);
-    quiet[i] = sqrt(dw) < s->still_gyro_rad_s && sqrt(mn) < 0.35 && fabs(fn - g) < s->still_accel_m_s2;
+    quiet[i] = sqrt(dw) < s->still_gyro_rad_s && sqrt(mn) < 0.35 &&
+               sqrt(df) < s->still_accel_m_s2 && fabs(sqrt(fn) - g) < 1.5;
   }
   free(cw);
   /* Still = every sample of a window of still_window_s around it is quiet, and the window has no
