@@ -176,6 +176,35 @@ apply_Ft_vec(const Trans *T, double x[NS])
   for (int c = 0; c < 3; c++) x[IV + c] += dt * x[IP + c];
 }
 
+/* Row x of F^T L (a row of C) times F, for the columns of block blk (0 = v, 1 = theta, 2 = ba,
+ * 3 = bg, 4 = dg) and the blocks after it; blk is a constant at each call. */
+static inline __attribute__((always_inline)) void
+row_times_F(const Trans *T, double Pth[3][3], double Pba[3][3], double h2, double *x,
+            int blk)
+{
+  double dt = T->dt;
+  const double *xp = &x[IP], *xv = &x[IV], *xt = &x[IT];
+  double nt[3], nba[3], nbg[3];
+  for (int c = 0; c < 3; c++) {
+    if (blk <= 1)
+      nt[c] = x[IT + c] + Pth[0][c] * xp[0] + Pth[1][c] * xp[1] + Pth[2][c] * xp[2] +
+              T->Vth[0][c] * xv[0] + T->Vth[1][c] * xv[1] + T->Vth[2][c] * xv[2];
+    if (blk <= 2)
+      nba[c] = x[IBA + c] + Pba[0][c] * xp[0] + Pba[1][c] * xp[1] + Pba[2][c] * xp[2] +
+               T->Vba[0][c] * xv[0] + T->Vba[1][c] * xv[1] + T->Vba[2][c] * xv[2];
+    if (blk <= 3)
+      nbg[c] = x[IBG + c] + T->Tbg[0][c] * xt[0] + T->Tbg[1][c] * xt[1] + T->Tbg[2][c] * xt[2];
+  }
+  for (int c = 0; c < 3; c++) {
+    x[IDG + c] += h2 * xp[c] + dt * xv[c];
+    if (blk <= 3) x[IBG + c] = nbg[c];
+    if (blk <= 2) x[IBA + c] = nba[c];
+    if (blk <= 1) x[IT + c] = nt[c];
+  }
+  if (blk == 0)
+    for (int c = 0; c < 3; c++) x[IV + c] += dt * xp[c];
+}
+
 /* L <- F^T L F for a symmetric L (the smoother's information matrix stepped back). F^T acting
  * on the left changes only the rows of C = {v, theta, ba, bg, dg} and F acting on the right
  * only those columns, so with L1 = F^T L: (L1 F)[C][U] = L1[C][U] for the other states U =
@@ -210,31 +239,21 @@ congruence_Ft(const Trans *T, double L[NS][NS])
   double dt = T->dt, h2 = 0.5 * dt * dt, Pth[3][3], Pba[3][3];
   for (int r = 0; r < 3; r++)
     for (int c = 0; c < 3; c++) { Pth[r][c] = 0.5 * dt * T->Vth[r][c]; Pba[r][c] = 0.5 * dt * T->Vba[r][c]; }
-  for (int a = 0; a < NC; a++) {
-    int blk = a / 3;
-    double *x = L[crow[a]];
-    const double *xp = &x[IP], *xv = &x[IV], *xt = &x[IT];
-    double nt[3], nba[3], nbg[3];
-    for (int c = 0; c < 3; c++) {
-      nt[c] = x[IT + c] + Pth[0][c] * xp[0] + Pth[1][c] * xp[1] + Pth[2][c] * xp[2] +
-              T->Vth[0][c] * xv[0] + T->Vth[1][c] * xv[1] + T->Vth[2][c] * xv[2];
-      nba[c] = x[IBA + c] + Pba[0][c] * xp[0] + Pba[1][c] * xp[1] + Pba[2][c] * xp[2] +
-               T->Vba[0][c] * xv[0] + T->Vba[1][c] * xv[1] + T->Vba[2][c] * xv[2];
-      nbg[c] = x[IBG + c] + T->Tbg[0][c] * xt[0] + T->Tbg[1][c] * xt[1] + T->Tbg[2][c] * xt[2];
-    }
-    for (int c = 0; c < 3; c++) {
-      x[IDG + c] += h2 * xp[c] + dt * xv[c];
-      if (blk <= 3) x[IBG + c] = nbg[c];
-      if (blk <= 2) x[IBA + c] = nba[c];
-      if (blk <= 1) x[IT + c] = nt[c];
-    }
-    if (blk == 0)
-      for (int c = 0; c < 3; c++) x[IV + c] += dt * xp[c];
+  for (int a = 0; a < 3; a++) row_times_F(T, Pth, Pba, h2, L[IV + a], 0);
+  for (int a = 0; a < 3; a++) row_times_F(T, Pth, Pba, h2, L[IT + a], 1);
+  for (int a = 0; a < 3; a++) row_times_F(T, Pth, Pba, h2, L[IBA + a], 2);
+  for (int a = 0; a < 3; a++) row_times_F(T, Pth, Pba, h2, L[IBG + a], 3);
+  for (int a = 0; a < 3; a++) row_times_F(T, Pth, Pba, h2, L[IDG + a], 4);
+  /* Mirror each row r of C into its column: over U = {p, lever, clock} and over the later
+   * columns of C. */
+  for (int r = IV; r < IT + 3; r++) {
+    for (int c = IP; c < IP + 3; c++) L[c][r] = L[r][c];
+    for (int c = r + 1; c < NS; c++) L[c][r] = L[r][c];   /* theta, lever, clock, ba, bg, dg */
   }
-  for (int a = 0; a < NC; a++) {
-    int r = crow[a];
-    for (int b = 0; b < NU; b++) L[urow[b]][r] = L[r][urow[b]];
-    for (int b = a + 1; b < NC; b++) L[crow[b]][r] = L[r][crow[b]];
+  for (int r = IBA; r < NS; r++) {
+    for (int c = IP; c < IP + 3; c++) L[c][r] = L[r][c];
+    for (int c = IL; c < IC + 1; c++) L[c][r] = L[r][c];
+    for (int c = r + 1; c < NS; c++) L[c][r] = L[r][c];
   }
 }
 
