@@ -662,8 +662,27 @@ replay_update(double P[NS][NS], Upd *u)
   cov_update(P, HP, u->K, S);
 }
 
+/* LK = Lambda K (NS x 3), Lambda symmetric: the smoother's Bryson-Frazier update steps. */
+static inline void
+lambda_k(double L[NS][NS], const Upd *u, double LK[NS][3])
+{
+  for (int r = 0; r < NS; r++) {
+    double a0 = 0, a1 = 0, a2 = 0;
+    for (int k = 0; k < NS; k++) {
+      double lrk = L[r][k];
+      a0 += lrk * u->K[k][0];
+      a1 += lrk * u->K[k][1];
+      a2 += lrk * u->K[k][2];
+    }
+    LK[r][0] = a0;
+    LK[r][1] = a1;
+    LK[r][2] = a2;
+  }
+}
+
 /* Backward step of the Bryson-Frazier recursion through one update (reverse order):
  * lambda <- -H^T Sinv y + C^T lambda,  Lambda <- H^T Sinv H + C^T Lambda C,  C = I - K H. */
+
 /* bf_update for a zero-velocity measurement: H's only non-zero entries are the ones on the
  * velocity, so H^T x, (Lambda K) H and H^T M H are the velocity columns and block, and only the
  * pairs of entries those touch need symmetrising (the rest stay exactly symmetric). The values
@@ -678,18 +697,7 @@ bf_update_vel(double L[NS][NS], double l[NS], const Upd *u)
   for (int r = 0; r < 3; r++) Siy[r] = u->Sinv[r][0] * u->y[0] + u->Sinv[r][1] * u->y[1] + u->Sinv[r][2] * u->y[2];
   for (int r = 0; r < 3; r++) l[IV + r] -= Kl[r] + Siy[r];
   double LK[NS][3], M[3][3];
-  for (int r = 0; r < NS; r++) {
-    double a0 = 0, a1 = 0, a2 = 0;
-    for (int k = 0; k < NS; k++) {
-      double lrk = L[r][k];
-      a0 += lrk * u->K[k][0];
-      a1 += lrk * u->K[k][1];
-      a2 += lrk * u->K[k][2];
-    }
-    LK[r][0] = a0;
-    LK[r][1] = a1;
-    LK[r][2] = a2;
-  }
+  lambda_k(L, u, LK);
   for (int r = 0; r < 3; r++)
     for (int c = 0; c < 3; c++) {
       double acc = 0;
@@ -731,18 +739,7 @@ bf_update(double L[NS][NS], double l[NS], Upd *u)
   }
   /* LK = Lambda K (NS x 3); KLK = K^T Lambda K */
   double LK[NS][3], KLK[3][3], M[3][3];
-  for (int r = 0; r < NS; r++) {
-    double a0 = 0, a1 = 0, a2 = 0;
-    for (int k = 0; k < NS; k++) {
-      double lrk = L[r][k];
-      a0 += lrk * u->K[k][0];
-      a1 += lrk * u->K[k][1];
-      a2 += lrk * u->K[k][2];
-    }
-    LK[r][0] = a0;
-    LK[r][1] = a1;
-    LK[r][2] = a2;
-  }
+  lambda_k(L, u, LK);
   for (int r = 0; r < 3; r++)
     for (int c = 0; c < 3; c++) {
       double acc = 0;
