@@ -261,82 +261,108 @@ w_imu_acc(const WCtx *w, size_t k, double shift, size_t *hint, double out[3], do
 }
 
 /* Wahba's problem at a clock shift, with the lever arm l (body frame) solved alternately:
- * a_cam_k = R (F_k + M_k l) + g. Returns the residual rms. */
+ * a_cam_k = R (F_k + M_k l) + g. Returns the residual rms.
+ * Each round needs only sums over the frames in use, and those are moments of the set formed
+ * once (and again after the trimming): with a~ = a - mean(a), F~ = F - mean(F) and
+ * M~ = M - mean(M), the centred Wahba matrix is B = S(F~ a~) + sum_c l_c T[.][c][.] with
+ * T[r][c][s] = S(M~[r][c] a~[s]); the residual sum is S|a~|^2 + S|F~ + M~ l|^2 - 2 tr(R B) (R
+ * orthonormal); the normal equations' right side is sum_rs R[s][r] T[r][c][s] - S(M~^T F~) +
+ * n mean(M)^T mean(M) l. Centred sums keep the cancellation small. */
 static double
 w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[3], double l_out[3])
 {
   double (*F)[3] = malloc(sizeof *F * (w->m ? w->m : 1));
-  double (*FL)[3] = malloc(sizeof *FL * (w->m ? w->m : 1));
   double (*M)[3][3] = malloc(sizeof *M * (w->m ? w->m : 1));
   unsigned char *ok = malloc(w->m ? w->m : 1);
-  if (!F || !FL || !M || !ok) { free(F); free(FL); free(M); free(ok); return INFINITY; }
+  if (!F || !M || !ok) { free(F); free(M); free(ok); return INFINITY; }
   size_t cnt = 0, hint = 0;
   for (size_t j = 0; j < w->m; j++) {
     ok[j] = w_imu_acc(w, w->frames[j], shift, &hint, F[j], M[j]) && (!w->keep || w->keep[j]);
     cnt += ok[j];
   }
-  if (cnt < 10) { free(F); free(FL); free(M); free(ok); return INFINITY; }
+  if (cnt < 10) { free(F); free(M); free(ok); return INFINITY; }
   double l[3] = { 0, 0, 0 }, q[4] = { 1, 0, 0, 0 }, R[3][3], g[3] = { 0, 0, 0 }, rms = INFINITY;
-  /* M^T M summed over the frames in use: the lever's normal matrix (changes with the set only) */
-  double N0[3][3] = { { 0 } };
-  bool n0_ok = false;
+  /* the set's moments (see above); N0 = S(M^T M), the lever's normal matrix */
+  double ac[3], Fb[3], Mb[3][3], Saa = 0, SFF = 0, SFa[3][3], T[3][3][3], P[3], Q[3][3],
+         MM[3][3], N0[3][3];
+  bool mom_ok = false;
   for (int it = 0; it < iters; it++) {
-    if (!n0_ok) {
-      memset(N0, 0, sizeof N0);
+    if (!mom_ok) {
+      double n = (double)cnt;
+      memset(ac, 0, sizeof ac); memset(Fb, 0, sizeof Fb); memset(Mb, 0, sizeof Mb);
       for (size_t j = 0; j < w->m; j++) {
         if (!ok[j]) continue;
-        for (int r = 0; r < 3; r++)
-          for (int c = 0; c < 3; c++)
-            for (int k = c; k < 3; k++) N0[c][k] += M[j][r][c] * M[j][r][k];
+        const double *a = w->cam->acc_m_s2[w->frames[j]];
+        for (int r = 0; r < 3; r++) {
+          ac[r] += a[r];
+          Fb[r] += F[j][r];
+          for (int c = 0; c < 3; c++) Mb[r][c] += M[j][r][c];
+        }
+      }
+      for (int r = 0; r < 3; r++) {
+        ac[r] /= n;
+        Fb[r] /= n;
+        for (int c = 0; c < 3; c++) Mb[r][c] /= n;
+      }
+      Saa = 0; SFF = 0;
+      memset(SFa, 0, sizeof SFa); memset(T, 0, sizeof T); memset(P, 0, sizeof P);
+      memset(Q, 0, sizeof Q);
+      for (size_t j = 0; j < w->m; j++) {
+        if (!ok[j]) continue;
+        const double *a = w->cam->acc_m_s2[w->frames[j]];
+        double at[3], ft[3], mt[3][3];
+        for (int r = 0; r < 3; r++) {
+          at[r] = a[r] - ac[r];
+          ft[r] = F[j][r] - Fb[r];
+          for (int c = 0; c < 3; c++) mt[r][c] = M[j][r][c] - Mb[r][c];
+        }
+        for (int r = 0; r < 3; r++) {
+          Saa += at[r] * at[r];
+          SFF += ft[r] * ft[r];
+          for (int s = 0; s < 3; s++) SFa[r][s] += ft[r] * at[s];
+          for (int c = 0; c < 3; c++) {
+            P[c] += mt[r][c] * ft[r];
+            for (int s = 0; s < 3; s++) T[r][c][s] += mt[r][c] * at[s];
+            for (int k = c; k < 3; k++) Q[c][k] += mt[r][c] * mt[r][k];
+          }
+        }
       }
       for (int c = 0; c < 3; c++)
-        for (int k = 0; k < c; k++) N0[c][k] = N0[k][c];
-      n0_ok = true;
+        for (int k = c; k < 3; k++) {
+          double s = 0;
+          for (int r = 0; r < 3; r++) s += Mb[r][c] * Mb[r][k];
+          MM[c][k] = MM[k][c] = n * s;
+          Q[k][c] = Q[c][k];
+          N0[c][k] = N0[k][c] = Q[c][k] + MM[c][k];
+        }
+      mom_ok = true;
     }
-    double ac[3] = { 0 }, fc[3] = { 0 };
-    /* FL = F + M l, once per iteration for the three sums below */
-    for (size_t j = 0; j < w->m; j++) {
-      if (!ok[j]) continue;
-      aw_v3_add(ac, ac, w->cam->acc_m_s2[w->frames[j]]);
-      double tmpc[3];
-      aw_mat_mul_v3(tmpc, (const double (*)[3])M[j], l);
-      for (int c = 0; c < 3; c++) {
-        FL[j][c] = F[j][c] + tmpc[c];
-        fc[c] += FL[j][c];
-      }
-    }
-    aw_v3_scale(ac, ac, 1.0 / (double)cnt);
-    aw_v3_scale(fc, fc, 1.0 / (double)cnt);
-    double B[3][3] = { { 0 } };
-    for (size_t j = 0; j < w->m; j++) {
-      if (!ok[j]) continue;
-      const double *a = w->cam->acc_m_s2[w->frames[j]], *fl = FL[j];
-      for (int r = 0; r < 3; r++)
-        for (int c = 0; c < 3; c++) B[r][c] += (fl[r] - fc[r]) * (a[c] - ac[c]);
-    }
+    double fc[3], B[3][3];
+    aw_mat_mul_v3(fc, (const double (*)[3])Mb, l);
+    for (int r = 0; r < 3; r++) fc[r] += Fb[r];
+    for (int r = 0; r < 3; r++)
+      for (int s = 0; s < 3; s++)
+        B[r][s] = SFa[r][s] + T[r][0][s] * l[0] + T[r][1][s] * l[1] + T[r][2][s] * l[2];
     aw_fusion_wahba(B, q);
     aw_quat_to_mat(R, q);
     double Rf[3];
     aw_mat_mul_v3(Rf, (const double (*)[3])R, fc);
     aw_v3_sub(g, ac, Rf);
     /* residual, and the normal equations for l: R^T (a - g) - F = M l */
-    double N[3][3], bv[3] = { 0 }, ss = 0;
+    double N[3][3], bv[3], Ql[3], MMl[3], trRB = 0;
     memcpy(N, N0, sizeof N);
-    for (size_t j = 0; j < w->m; j++) {
-      if (!ok[j]) continue;
-      const double *a = w->cam->acc_m_s2[w->frames[j]];
-      double d[3], y[3], e[3], Rfl[3];
-      aw_v3_sub(d, a, g);
-      aw_mat_tmul_v3(y, (const double (*)[3])R, d);
-      aw_mat_mul_v3(Rfl, (const double (*)[3])R, FL[j]);
-      for (int c = 0; c < 3; c++) e[c] = d[c] - Rfl[c];
-      ss += aw_v3_dot(e, e);
-      for (int r = 0; r < 3; r++) {
-        double yr = y[r] - F[j][r];
-        for (int c = 0; c < 3; c++) bv[c] += M[j][r][c] * yr;
-      }
+    aw_mat_mul_v3(Ql, (const double (*)[3])Q, l);
+    aw_mat_mul_v3(MMl, (const double (*)[3])MM, l);
+    for (int c = 0; c < 3; c++) {
+      double s = 0;
+      for (int r = 0; r < 3; r++)
+        for (int u = 0; u < 3; u++) s += R[u][r] * T[r][c][u];
+      bv[c] = s - P[c] + MMl[c];
     }
-    rms = sqrt(ss / (double)cnt);
+    for (int r = 0; r < 3; r++)
+      for (int u = 0; u < 3; u++) trRB += R[u][r] * B[r][u];
+    double ss = Saa + SFF + 2 * aw_v3_dot(l, P) + aw_v3_dot(l, Ql) - 2 * trRB;
+    rms = sqrt(fmax(0.0, ss) / (double)cnt);
     if (it == 1 && cnt > 20 && !w->keep) {
       /* Trim frames far off the fit (snapped or mis-detected keypoints agree with their
        * neighbours, so the local fit keeps them; the rotation does not explain them). */
@@ -347,9 +373,11 @@ w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[
           ev[j] = INFINITY;
           if (!ok[j]) continue;
           const double *a = w->cam->acc_m_s2[w->frames[j]];
-          double d[3], Rfl[3], e[3];
+          double d[3], fl[3], Rfl[3], e[3];
           aw_v3_sub(d, a, g);
-          aw_mat_mul_v3(Rfl, (const double (*)[3])R, FL[j]);
+          aw_mat_mul_v3(fl, (const double (*)[3])M[j], l);
+          for (int c = 0; c < 3; c++) fl[c] += F[j][c];
+          aw_mat_mul_v3(Rfl, (const double (*)[3])R, fl);
           for (int c = 0; c < 3; c++) e[c] = d[c] - Rfl[c];
           ev[j] = aw_v3_norm(e);
           e2[c2++] = ev[j];
@@ -360,7 +388,7 @@ w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[
         if (kept >= 10) {
           for (size_t j = 0; j < w->m; j++) if (ok[j] && ev[j] > lim) ok[j] = 0;
           cnt = kept;
-          n0_ok = false;
+          mom_ok = false;
         }
       }
       free(e2);
@@ -375,12 +403,12 @@ w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[
                  N[0][2] * (N[1][0] * N[2][1] - N[1][1] * N[2][0]);
     if (!(fabs(det) > 0)) break;
     for (int col = 0; col < 3; col++) {
-      double T[3][3];
-      memcpy(T, N, sizeof T);
-      for (int r = 0; r < 3; r++) T[r][col] = bv[r];
-      l[col] = (T[0][0] * (T[1][1] * T[2][2] - T[1][2] * T[2][1]) -
-                T[0][1] * (T[1][0] * T[2][2] - T[1][2] * T[2][0]) +
-                T[0][2] * (T[1][0] * T[2][1] - T[1][1] * T[2][0])) / det;
+      double Tc[3][3];
+      memcpy(Tc, N, sizeof Tc);
+      for (int r = 0; r < 3; r++) Tc[r][col] = bv[r];
+      l[col] = (Tc[0][0] * (Tc[1][1] * Tc[2][2] - Tc[1][2] * Tc[2][1]) -
+                Tc[0][1] * (Tc[1][0] * Tc[2][2] - Tc[1][2] * Tc[2][0]) +
+                Tc[0][2] * (Tc[1][0] * Tc[2][1] - Tc[1][1] * Tc[2][0])) / det;
     }
     double ln = aw_v3_norm(l);
     if (ln > 0.3) aw_v3_scale(l, l, 0.3 / ln);   /* beyond any watch-to-wrist distance */
@@ -390,7 +418,6 @@ w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[
   if (g_out) aw_v3_copy(g_out, g);
   if (l_out) aw_v3_copy(l_out, l);
   free(F);
-  free(FL);
   free(M);
   free(ok);
   return rms;
