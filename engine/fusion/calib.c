@@ -169,10 +169,11 @@ w_tables(WCtx *w)
     if (!ft || !dft || !mt) { free(ft); free(dft); free(mt); continue; }
     size_t q0 = cam->shape_start[sh], q1 = cam->shape_start[sh + 1], hint[64] = { 0 };
     for (size_t i = 0; i < w->n; i++) {
-      memset(mt[i], 0, sizeof mt[i]);
-      memset(ft[i], 0, sizeof ft[i]);
-      memset(dft[i], 0, sizeof dft[i]);
+      /* sums in locals (kept in registers, the same additions in the same order) */
+      double fa[3] = { 0, 0, 0 }, da[3] = { 0, 0, 0 }, ma[3][3] = { { 0 } };
       if (!(w->tau[i] + cam->shape_u[q0] >= w->tau[0] && w->tau[i] + cam->shape_u[q1 - 1] <= w->tau[w->n - 1])) {
+        memset(mt[i], 0, sizeof mt[i]);
+        memset(dft[i], 0, sizeof dft[i]);
         ft[i][0] = ft[i][1] = ft[i][2] = (double)NAN;
         continue;
       }
@@ -184,14 +185,17 @@ w_tables(WCtx *w)
         double r = u / dt, wq = cam->shape_w[q];
         for (int a = 0; a < 3; a++) {
           double f0 = w->fb0[a0][a], f1 = w->fb0[a0 + 1][a];
-          ft[i][a] += wq * (w->pb0[a0][a] + u * w->vb0[a0][a] + 0.5 * u * u * f0 +
-                            u * u * u * (f1 - f0) / (6 * dt));
-          dft[i][a] += wq * (w->vb0[a0][a] + u * f0 + 0.5 * u * u * (f1 - f0) / dt);
+          fa[a] += wq * (w->pb0[a0][a] + u * w->vb0[a0][a] + 0.5 * u * u * f0 +
+                         u * u * u * (f1 - f0) / (6 * dt));
+          da[a] += wq * (w->vb0[a0][a] + u * f0 + 0.5 * u * u * (f1 - f0) / dt);
         }
         for (int a = 0; a < 3; a++)
           for (int c = 0; c < 3; c++)
-            mt[i][a][c] += wq * ((1 - r) * w->Rb0[a0][a][c] + r * w->Rb0[a0 + 1][a][c]);
+            ma[a][c] += wq * ((1 - r) * w->Rb0[a0][a][c] + r * w->Rb0[a0 + 1][a][c]);
       }
+      memcpy(ft[i], fa, sizeof fa);
+      memcpy(dft[i], da, sizeof da);
+      memcpy(mt[i], ma, sizeof ma);
     }
     w->ftab[sh] = ft;
     w->dftab[sh] = dft;
@@ -235,8 +239,8 @@ w_imu_acc(const WCtx *w, size_t k, double shift, size_t *hint, double out[3], do
       for (int c = 0; c < 3; c++) M[a][c] = m0[i][a][c] + r * (m0[i + 1][a][c] - m0[i][a][c]);
     return true;
   }
-  out[0] = out[1] = out[2] = 0;
-  if (M) memset(M, 0, sizeof(double) * 9);
+  /* sums in locals (the same additions in the same order), stored at the end */
+  double oa[3] = { 0, 0, 0 }, ma[3][3] = { { 0 } };
   for (size_t q = cam->wstart[k]; q < cam->wstart[k + 1]; q++) {
     double t = cam->t_s[cam->widx[q]] - shift;
     if (t < w->tau[0] || t > w->tau[w->n - 1]) return false;
@@ -246,7 +250,7 @@ w_imu_acc(const WCtx *w, size_t k, double shift, size_t *hint, double out[3], do
     for (int a = 0; a < 3; a++) {
       double f0 = w->fb0[i][a], f1 = w->fb0[i + 1][a];
       double pj = w->pb0[i][a] + u * w->vb0[i][a] + 0.5 * u * u * f0 + u * u * u * (f1 - f0) / (6 * dt);
-      out[a] += cam->wval[q] * pj;
+      oa[a] += cam->wval[q] * pj;
     }
     /* the lever term: the fit operator on R_b0_body(t), the rotation matrices of the samples
      * interpolated linearly (the lever is centimetres: second-order errors in a 10 ms step's
@@ -255,8 +259,10 @@ w_imu_acc(const WCtx *w, size_t k, double shift, size_t *hint, double out[3], do
     double r = u / dt, wq = cam->wval[q];
     for (int a = 0; a < 3; a++)
       for (int c = 0; c < 3; c++)
-        M[a][c] += wq * ((1 - r) * w->Rb0[i][a][c] + r * w->Rb0[i + 1][a][c]);
+        ma[a][c] += wq * ((1 - r) * w->Rb0[i][a][c] + r * w->Rb0[i + 1][a][c]);
   }
+  memcpy(out, oa, sizeof oa);
+  if (M) memcpy(M, ma, sizeof ma);
   return true;
 }
 
