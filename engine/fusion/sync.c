@@ -64,6 +64,9 @@ ctx_free(SyncCtx *c)
 static inline double
 imu_time(double t_depth, double off_mid, double drift, double t_mid)
 {
+  /* Without drift the general form is (t - off + 0 t_mid) / 1: the same value (up to the sign
+   * of a zero), without the division every tap of every score would wait for. */
+  if (drift == 0) return t_depth - off_mid;
   return (t_depth - off_mid + drift * t_mid) / (1.0 + drift);
 }
 
