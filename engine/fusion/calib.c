@@ -911,6 +911,17 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
           out->clock_shift_s = best;
           double da, db, dref, dsig = NAN;
           if (all_f && calib_drift(&w, all_f, n_all, best, &da, &db, &dref, &dsig)) {
+            /* The windows' line is combined with a zero-mean Gaussian prior on the drift (the
+             * oscillators' tolerance, clock_drift_prior): the posterior mean and sigma. A
+             * line the windows barely determine stays near no drift instead of moving the
+             * clock by tens of milliseconds at the ends of a long recording (a hard session
+             * with 72 ppm of drift came out +244 +- 77 ppm from the windows alone). The
+             * intercept holds at the weighted mean time, independent of the slope. */
+            double sp2 = s->clock_drift_prior * s->clock_drift_prior, sb2 = dsig * dsig;
+            if (sp2 > 0 && isfinite(sb2)) {
+              db *= sp2 / (sp2 + sb2);
+              dsig = sqrt(sp2 * sb2 / (sp2 + sb2));
+            }
             out->clock_shift_s = da;
             out->clock_drift = db;
             out->clock_ref_s = dref;

@@ -59,6 +59,9 @@ aw_fusion_settings_default(AwFusionSettings *s)
   s->zupt_sigma_m_s = 0.02;
   s->cam_conf_min = 0.05;
   s->gate_recover_s = 0.5;       /* longer than an occlusion snap lasts */
+  s->clock_drift_prior = 50e-6;  /* 1 sigma: quartz oscillators are specified to +-20..50 ppm
+                                    (common practice); the +-100 ppm the method must handle is
+                                    two sigmas */
   s->motion_jerk_psd_m2_s5 = 0;  /* estimated from the frames */
   /* A watch sits a few centimetres from the wrist keypoint a camera reports: unknown to
    * +-3 cm per axis unless measured (then pass it with a smaller sigma). */

@@ -54,6 +54,8 @@ typedef struct {
   double zupt_sigma_m_s;                  /* residual wrist speed when "still" */
   double cam_conf_min;                    /* detections below this confidence count as missing */
   double gate_recover_s;                  /* after this long of consecutive rejections, re-anchor */
+  double clock_drift_prior;               /* 1-sigma of the zero-mean prior on the clock drift
+                                             (dimensionless); 0 = the windows' line alone */
   double motion_jerk_psd_m2_s5;           /* camera-only motion model; 0 = estimate from data */
   double lever_arm_sigma_m;               /* 1-sigma of lever_arm_body_m per axis (refined) */
   /* The IMU's output group delay (its filter or averaging window: a sample stamped t shows the
