@@ -27,8 +27,15 @@
 typedef struct {
   double off, drift, ta, tb, rho;
   size_t n, stride;
-  bool approx;
+  bool approx, local;
 } ScoreMemo;
+
+/* Half-width of the per-frame tables (SyncCtx.loc): the winner's scans and polish stay within
+ * +-30 ms of where they start. */
+#define LOC_HALF_S 0.035
+/* At most this many IMU samples per frame table (the scans and polish evaluate a frame's own
+ * operator at about 25 offsets; a longer table would cost more than it saves). */
+#define LOC_MAX 20
 
 typedef struct {
   const AwImuPrep *imu;
@@ -48,6 +55,14 @@ typedef struct {
   int tab_main;            /* the most common shape (its table exists), -1 = none */
   bool approx;             /* frames without a table of their own use tab_main's */
   size_t stride;           /* score every stride-th frame (the coarse grid: 2) */
+  /* Frames without a shape table, for the winner's exact refinement: each frame's own
+   * operator tabulated on the IMU samples within LOC_HALF_S of where the frame falls at the
+   * winner's offset (loc_build), looked up as the shape tables are; without drift only, and
+   * exact evaluation outside. */
+  bool local;              /* use them */
+  double (*loc)[3];
+  size_t *loc_at, *loc_i0; /* per frame: first entry in loc, its IMU sample */
+  unsigned char *loc_len;  /* per frame: entries (0 = none) */
   /* Scores already computed for the same arguments and settings (the scans and parabola steps
    * around the winner come back to offsets they tried): a ring of the last few. */
   ScoreMemo memo[32];
@@ -58,6 +73,7 @@ static void
 ctx_free(SyncCtx *c)
 {
   free(c->sc); free(c->fb0); free(c->cumb); free(c->pb); free(c->mm); free(c->tab_ok);
+  free(c->loc); free(c->loc_at); free(c->loc_i0); free(c->loc_len);
   for (size_t s = 0; s < AW_CAM_MAX_SHAPES; s++) free(c->tab[s]);
 }
 
@@ -98,9 +114,20 @@ imu_seen(const SyncCtx *c, size_t k, double ti, double off, double drift, size_t
   if (sh >= 0 && c->tab[sh]) return tab_at(c, (const double (*)[3])c->tab[sh], ti, hint, out);
   if (c->approx && c->tab_main >= 0)
     return tab_at(c, (const double (*)[3])c->tab[c->tab_main], ti, hint, out);
+  const AwImuPrep *imu = c->imu;
+  if (c->local && drift == 0 && c->loc_len[k]) {
+    size_t i0 = c->loc_i0[k], len = c->loc_len[k];
+    if (ti >= imu->t_s[i0] && ti < imu->t_s[i0 + len - 1]) {
+      size_t j = 0;
+      while (imu->t_s[i0 + j + 1] <= ti) j++;
+      const double (*L)[3] = (const double (*)[3])c->loc + c->loc_at[k];
+      double u = (ti - imu->t_s[i0 + j]) / (imu->t_s[i0 + j + 1] - imu->t_s[i0 + j]);
+      for (int a = 0; a < 3; a++) out[a] = L[j][a] + u * (L[j + 1][a] - L[j][a]);
+      return !isnan(out[0]);
+    }
+  }
   double mm[3];
   if (!tab_at(c, (const double (*)[3])c->mm, ti, hint, mm)) return false;
-  const AwImuPrep *imu = c->imu;
   double acc[3] = { 0, 0, 0 };
   for (size_t q = cam->wstart[k]; q < cam->wstart[k + 1]; q++) {
     double tj = imu_time(cam->t_s[cam->widx[q]], off, drift, c->t_mid), pj[3];
@@ -126,7 +153,7 @@ score(SyncCtx *c, double off, double drift, double ta, double tb, size_t *n_used
   for (size_t j = 0; j < nm; j++) {
     const ScoreMemo *e = &c->memo[j];
     if (e->off == off && e->drift == drift && e->ta == ta && e->tb == tb &&
-        e->approx == c->approx && e->stride == c->stride) {
+        e->approx == c->approx && e->stride == c->stride && e->local == c->local) {
       if (n_used) *n_used = e->n;
       return e->rho;
     }
@@ -135,7 +162,7 @@ score(SyncCtx *c, double off, double drift, double ta, double tb, size_t *n_used
   double rho = score_frames(c, off, drift, ta, tb, &n);
   ScoreMemo *e = &c->memo[c->n_memo++ % 32];
   e->off = off; e->drift = drift; e->ta = ta; e->tb = tb; e->rho = rho; e->n = n;
-  e->approx = c->approx; e->stride = c->stride;
+  e->approx = c->approx; e->stride = c->stride; e->local = c->local;
   if (n_used) *n_used = n;
   return rho;
 }
@@ -169,6 +196,61 @@ typedef struct {
   double off, rho, curv, rho_second;
   size_t n;
 } Peak;
+
+/* The per-frame tables of SyncCtx.loc around offset off: for every usable frame without a
+ * shape table, its own operator (minus the +-5 s mean) at the IMU samples whose times cover
+ * t_k - off +- LOC_HALF_S, NaN where a tap falls outside the recording. Frames near the ends,
+ * or at IMU rates that would need more than LOC_MAX samples, get none (exact evaluation).
+ * Fails quietly (no tables) without memory. */
+static void
+loc_build(SyncCtx *c, double off)
+{
+  const AwCamPrep *cam = c->cam;
+  const AwImuPrep *imu = c->imu;
+  size_t nf = 0;
+  for (size_t k = 0; k < cam->n; k++) {
+    int sh = cam->shape ? cam->shape[k] : -1;
+    if (!isnan(c->sc[k]) && !(sh >= 0 && c->tab[sh])) nf++;
+  }
+  if (!nf || imu->n < 2) return;
+  c->loc_at = malloc(sizeof *c->loc_at * cam->n);
+  c->loc_i0 = malloc(sizeof *c->loc_i0 * cam->n);
+  c->loc_len = calloc(cam->n, 1);
+  c->loc = malloc(sizeof *c->loc * nf * LOC_MAX);
+  if (!c->loc_at || !c->loc_i0 || !c->loc_len || !c->loc) {
+    free(c->loc); free(c->loc_at); free(c->loc_i0); free(c->loc_len);
+    c->loc = NULL; c->loc_at = c->loc_i0 = NULL; c->loc_len = NULL;
+    return;
+  }
+  double t0 = imu->t_s[0], t1 = imu->t_s[imu->n - 1];
+  size_t used = 0, hint = 0, h3 = 0;
+  for (size_t k = 0; k < cam->n; k++) {
+    int sh = cam->shape ? cam->shape[k] : -1;
+    if (isnan(c->sc[k]) || (sh >= 0 && c->tab[sh])) continue;
+    double tc = cam->t_s[k] - off;
+    if (tc - LOC_HALF_S < t0 || tc + LOC_HALF_S >= t1) continue;
+    size_t i0 = aw_fusion_locate(imu->t_s, imu->n, tc - LOC_HALF_S, &hint);
+    size_t i1 = aw_fusion_locate(imu->t_s, imu->n, tc + LOC_HALF_S, &hint) + 1;
+    if (i1 >= imu->n || i1 - i0 + 1 > LOC_MAX) continue;
+    double (*L)[3] = c->loc + used;
+    for (size_t i = i0; i <= i1; i++) {
+      double acc[3] = { 0, 0, 0 };
+      bool ok = !isnan(c->mm[i][0]);
+      for (size_t q = cam->wstart[k]; ok && q < cam->wstart[k + 1]; q++) {
+        double tj = imu->t_s[i] + (cam->t_s[cam->widx[q]] - cam->t_s[k]), pj[3];
+        if (tj < t0 || tj > t1) { ok = false; break; }
+        aw_fusion_pos_at(imu->t_s, imu->n, (const double (*)[3])c->fb0,
+                         (const double (*)[3])c->cumb, (const double (*)[3])c->pb, tj, &h3, pj);
+        for (int a = 0; a < 3; a++) acc[a] += cam->wval[q] * pj[a];
+      }
+      for (int a = 0; a < 3; a++) L[i - i0][a] = ok ? acc[a] - c->mm[i][a] : (double)NAN;
+    }
+    c->loc_at[k] = used;
+    c->loc_i0[k] = i0;
+    c->loc_len[k] = (unsigned char)(i1 - i0 + 1);
+    used += i1 - i0 + 1;
+  }
+}
 
 /* Local refinement around center (a grid point of spacing step0): parabola steps over
  * +-step0/4 and then +-step0/20, each first walking uphill (at most 4 steps) until the middle
@@ -494,6 +576,8 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
    * table of their own; the winner refined again with every frame's own operator. */
   c.approx = false;
   if (pk.n >= 10 && pk.rho >= -1) {
+    loc_build(&c, pk.off);
+    c.local = c.loc != NULL;
     Peak p2 = refine_dense(&c, pk.off, step0, 0, -INFINITY, tb_first);
     if (p2.n >= 10) pk = p2;
   }
@@ -524,6 +608,7 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
       pk.n = n0;
     }
   }
+  c.local = false;   /* the drift's segments and the final score: every operator exact */
   double off_mid = pk.off, drift = 0;
   double span = tc1 - tc0;
   if (span >= 60.0) {
