@@ -2,6 +2,7 @@
 /* Preparation shared by every stage: usable camera frames with a local acceleration estimate,
  * and IMU running integrals, saturation and stillness flags. */
 #include "fusion-internal.h"
+#include "arcwise/math3.h"
 
 #include <math.h>
 #include <stddef.h>
@@ -518,6 +519,21 @@ aw_fusion_prep_imu(const AwImuStream *imu, const AwFusionSettings *s, double g, 
                sqrt(df) < s->still_accel_m_s2 && fabs(sqrt(fn) - g) < 1.5;
   }
   free(cw);
+  /* The deviation tests cannot see a hand moving smoothly at constant acceleration (a slow
+   * start from rest); its |f| differs from gravity as the accelerometer reads it at rest. That
+   * reading is the median |f| over the quiet samples (gravity plus the offsets' projection),
+   * and each quiet sample's |f| must lie within still_accel_m_s2 of it. */
+  {
+    size_t nq = 0;
+    double *fq = malloc(sizeof *fq * (n ? n : 1));
+    if (!fq) { free(quiet); aw_fusion_prep_imu_free(m); return AW_ERR_NO_MEMORY; }
+    for (size_t i = 0; i < n; i++)
+      if (quiet[i]) fq[nq++] = aw_v3_norm(m->f[i]);
+    double g_rest = nq >= 16 ? aw_fusion_kth(fq, nq, nq / 2) : g;
+    free(fq);
+    for (size_t i = 0; i < n; i++)
+      if (quiet[i] && !(fabs(aw_v3_norm(m->f[i]) - g_rest) < s->still_accel_m_s2)) quiet[i] = 0;
+  }
   /* Still = every sample of a window of still_window_s around it is quiet, and the window has no
    * IMU gap. Prefix counts keep this O(n) at any rate. */
   size_t *cnt = malloc(sizeof *cnt * (n + 1));
