@@ -146,6 +146,17 @@ imu_seen(const SyncCtx *c, size_t k, double ti, double off, double drift, size_t
 static double score_frames(const SyncCtx *c, double off, double drift, double ta, double tb,
                            size_t *n_used);
 
+/* Pearson's r from the sums over n pairs; -2 below 8 pairs or without variance. */
+static inline double
+pearson(double s1, double s2, double s11, double s22, double s12, size_t n)
+{
+  if (n < 8) return -2;
+  double vx = s11 - s1 * s1 / (double)n, vy = s22 - s2 * s2 / (double)n;
+  double cxy = s12 - s1 * s2 / (double)n;
+  if (!(vx > 0) || !(vy > 0)) return -2;
+  return cxy / sqrt(vx * vy);
+}
+
 static double
 score(SyncCtx *c, double off, double drift, double ta, double tb, size_t *n_used)
 {
@@ -185,11 +196,7 @@ score_frames(const SyncCtx *c, double off, double drift, double ta, double tb, s
     n++;
   }
   if (n_used) *n_used = n;
-  if (n < 8) return -2;
-  double vx = s11 - s1 * s1 / (double)n, vy = s22 - s2 * s2 / (double)n;
-  double cxy = s12 - s1 * s2 / (double)n;
-  if (!(vx > 0) || !(vy > 0)) return -2;
-  return cxy / sqrt(vx * vy);
+  return pearson(s1, s2, s11, s22, s12, n);
 }
 
 typedef struct {
@@ -317,12 +324,47 @@ refine_dense(SyncCtx *c, double center, double step0, double drift, double ta, d
   return pk;
 }
 
-/* Scores on the grid lo + i step0 (nstep points) into rc. */
+/* Scores on the grid lo + i step0 (nstep points) into rc. Frame by frame over all the grid's
+ * offsets at once (one frame's checks and table choice, short look-up walks), each offset's
+ * sums still taken over the frames in order: the same values as score() point by point, and
+ * remembered as it would. */
 static void
 grid_scores(SyncCtx *c, double lo, double step0, size_t nstep, double drift, double ta,
             double tb, double *rc)
 {
-  for (size_t i = 0; i < nstep; i++) rc[i] = score(c, lo + step0 * (double)i, drift, ta, tb, NULL);
+  const AwCamPrep *cam = c->cam;
+  double (*S)[5] = calloc(nstep, sizeof *S);
+  size_t *N = calloc(nstep, sizeof *N);
+  if (!S || !N) {
+    free(S); free(N);
+    for (size_t i = 0; i < nstep; i++) rc[i] = score(c, lo + step0 * (double)i, drift, ta, tb, NULL);
+    return;
+  }
+  size_t hint = 0, h3 = 0;
+  for (size_t k = 0; k < cam->n; k += c->stride) {
+    double x = c->sc[k];
+    if (isnan(x)) continue;
+    double tk = cam->t_s[k];
+    if (tk < ta || tk > tb) continue;
+    /* the offsets from the largest down: the IMU times rise and the look-ups walk forwards */
+    for (size_t i = nstep; i-- > 0;) {
+      double off = lo + step0 * (double)i, fm[3];
+      double ti = imu_time(tk, off, drift, c->t_mid);
+      if (!imu_seen(c, k, ti, off, drift, &hint, &h3, fm)) continue;
+      double y = sqrt(fm[0] * fm[0] + fm[1] * fm[1] + fm[2] * fm[2]);
+      S[i][0] += x; S[i][1] += y; S[i][2] += x * x; S[i][3] += y * y; S[i][4] += x * y;
+      N[i]++;
+    }
+  }
+  for (size_t i = 0; i < nstep; i++) {
+    rc[i] = pearson(S[i][0], S[i][1], S[i][2], S[i][3], S[i][4], N[i]);
+    /* remembered as score() would have, in the same order */
+    ScoreMemo *e = &c->memo[c->n_memo++ % 32];
+    e->off = lo + step0 * (double)i; e->drift = drift; e->ta = ta; e->tb = tb; e->rho = rc[i];
+    e->n = N[i]; e->approx = c->approx; e->stride = c->stride; e->local = c->local;
+  }
+  free(S);
+  free(N);
 }
 
 /* Coarse-to-fine maximisation of score over offsets [lo, hi]. */
