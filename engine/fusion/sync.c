@@ -23,7 +23,8 @@
 #include <stdlib.h>
 #include <string.h>
 
-/* One remembered score (see SyncCtx.memo). */
+/* One remembered score (see SyncCtx.memo), and how many are kept. */
+enum { SYNC_MEMO = 32 };
 typedef struct {
   double off, drift, ta, tb, rho;
   size_t n, stride;
@@ -65,7 +66,7 @@ typedef struct {
   unsigned char *loc_len;  /* per frame: entries (0 = none) */
   /* Scores already computed for the same arguments and settings (the scans and parabola steps
    * around the winner come back to offsets they tried): a ring of the last few. */
-  ScoreMemo memo[32];
+  ScoreMemo memo[SYNC_MEMO];
   size_t n_memo;
 } SyncCtx;
 
@@ -157,10 +158,19 @@ pearson(double s1, double s2, double s11, double s22, double s12, size_t n)
   return cxy / sqrt(vx * vy);
 }
 
+/* Remembers a score for its arguments and the context's settings (oldest out first). */
+static void
+memo_put(SyncCtx *c, double off, double drift, double ta, double tb, double rho, size_t n)
+{
+  ScoreMemo *e = &c->memo[c->n_memo++ % SYNC_MEMO];
+  e->off = off; e->drift = drift; e->ta = ta; e->tb = tb; e->rho = rho; e->n = n;
+  e->approx = c->approx; e->stride = c->stride; e->local = c->local;
+}
+
 static double
 score(SyncCtx *c, double off, double drift, double ta, double tb, size_t *n_used)
 {
-  size_t nm = c->n_memo < 32 ? c->n_memo : 32;
+  size_t nm = c->n_memo < SYNC_MEMO ? c->n_memo : SYNC_MEMO;
   for (size_t j = 0; j < nm; j++) {
     const ScoreMemo *e = &c->memo[j];
     if (e->off == off && e->drift == drift && e->ta == ta && e->tb == tb &&
@@ -171,9 +181,7 @@ score(SyncCtx *c, double off, double drift, double ta, double tb, size_t *n_used
   }
   size_t n = 0;
   double rho = score_frames(c, off, drift, ta, tb, &n);
-  ScoreMemo *e = &c->memo[c->n_memo++ % 32];
-  e->off = off; e->drift = drift; e->ta = ta; e->tb = tb; e->rho = rho; e->n = n;
-  e->approx = c->approx; e->stride = c->stride; e->local = c->local;
+  memo_put(c, off, drift, ta, tb, rho, n);
   if (n_used) *n_used = n;
   return rho;
 }
@@ -359,9 +367,7 @@ grid_scores(SyncCtx *c, double lo, double step0, size_t nstep, double drift, dou
   for (size_t i = 0; i < nstep; i++) {
     rc[i] = pearson(S[i][0], S[i][1], S[i][2], S[i][3], S[i][4], N[i]);
     /* remembered as score() would have, in the same order */
-    ScoreMemo *e = &c->memo[c->n_memo++ % 32];
-    e->off = lo + step0 * (double)i; e->drift = drift; e->ta = ta; e->tb = tb; e->rho = rc[i];
-    e->n = N[i]; e->approx = c->approx; e->stride = c->stride; e->local = c->local;
+    memo_put(c, lo + step0 * (double)i, drift, ta, tb, rc[i], N[i]);
   }
   free(S);
   free(N);
