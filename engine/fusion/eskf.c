@@ -680,8 +680,18 @@ lambda_k(double L[NS][NS], const Upd *u, double LK[NS][3])
   }
 }
 
-/* Backward step of the Bryson-Frazier recursion through one update (reverse order):
- * lambda <- -H^T Sinv y + C^T lambda,  Lambda <- H^T Sinv H + C^T Lambda C,  C = I - K H. */
+/* The innovation-space weight of a Bryson-Frazier step, K^T lambda + Sinv y: lambda takes
+ * -H^T of it. */
+static inline void
+bf_weight(const Upd *u, const double l[NS], double wgt[3])
+{
+  double Kl[3] = { 0 };
+  for (int r = 0; r < NS; r++)
+    for (int c = 0; c < 3; c++) Kl[c] += u->K[r][c] * l[r];
+  double Siy[3];
+  for (int r = 0; r < 3; r++) Siy[r] = u->Sinv[r][0] * u->y[0] + u->Sinv[r][1] * u->y[1] + u->Sinv[r][2] * u->y[2];
+  for (int r = 0; r < 3; r++) wgt[r] = Kl[r] + Siy[r];
+}
 
 /* bf_update for a zero-velocity measurement: H's only non-zero entries are the ones on the
  * velocity, so H^T x, (Lambda K) H and H^T M H are the velocity columns and block, and only the
@@ -690,12 +700,9 @@ lambda_k(double L[NS][NS], const Upd *u, double LK[NS][3])
 static void
 bf_update_vel(double L[NS][NS], double l[NS], const Upd *u)
 {
-  double Kl[3] = { 0 };
-  for (int r = 0; r < NS; r++)
-    for (int c = 0; c < 3; c++) Kl[c] += u->K[r][c] * l[r];
-  double Siy[3];
-  for (int r = 0; r < 3; r++) Siy[r] = u->Sinv[r][0] * u->y[0] + u->Sinv[r][1] * u->y[1] + u->Sinv[r][2] * u->y[2];
-  for (int r = 0; r < 3; r++) l[IV + r] -= Kl[r] + Siy[r];
+  double wgt[3];
+  bf_weight(u, l, wgt);
+  for (int r = 0; r < 3; r++) l[IV + r] -= wgt[r];
   double LK[NS][3], M[3][3];
   lambda_k(L, u, LK);
   for (int r = 0; r < 3; r++)
@@ -722,19 +729,18 @@ bf_update_vel(double L[NS][NS], double l[NS], const Upd *u)
   }
 }
 
+/* Backward step of the Bryson-Frazier recursion through one update (reverse order):
+ * lambda <- -H^T Sinv y + C^T lambda,  Lambda <- H^T Sinv H + C^T Lambda C,  C = I - K H. */
 static void
 bf_update(double L[NS][NS], double l[NS], Upd *u)
 {
   if (u->kind == 1) return;
   if (u->kind == 2) { bf_update_vel(L, l, u); return; }
-  double Kl[3] = { 0 };
-  for (int r = 0; r < NS; r++)
-    for (int c = 0; c < 3; c++) Kl[c] += u->K[r][c] * l[r];
-  double Siy[3];
-  for (int r = 0; r < 3; r++) Siy[r] = u->Sinv[r][0] * u->y[0] + u->Sinv[r][1] * u->y[1] + u->Sinv[r][2] * u->y[2];
+  double wgt[3];
+  bf_weight(u, l, wgt);
   for (int k = 0; k < NH; k++) {
     double acc = 0;
-    for (int r = 0; r < 3; r++) acc += u->Hb[r][k] * (Kl[r] + Siy[r]);
+    for (int r = 0; r < 3; r++) acc += u->Hb[r][k] * wgt[r];
     l[k] -= acc;
   }
   /* LK = Lambda K (NS x 3); KLK = K^T Lambda K */
