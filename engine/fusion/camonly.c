@@ -196,6 +196,12 @@ typedef struct {
 } Pass;
 
 static void
+pass_free(Pass *ps)
+{
+  free(ps->F); free(ps->Pp); free(ps->Sm); free(ps->tk); free(ps->kk);
+}
+
+static void
 pass_run(const AwCamPrep *cam, const AwFusionSettings *s, double q, const unsigned char *drop,
          Pass *ps)
 {
@@ -337,7 +343,7 @@ aw_fusion_camonly_run(const AwCamPrep *cam, const double *tau, size_t n,
   double nis_sum = ps.nis_sum;
   Ax (*F)[3] = ps.F, (*Sm)[3] = ps.Sm;
   double *tk = ps.tk;
-  if (m == 0) { free(ps.F); free(ps.Pp); free(ps.Sm); free(ps.tk); free(ps.kk); return AW_ERR_TOO_FEW; }
+  if (m == 0) { pass_free(&ps); return AW_ERR_TOO_FEW; }
   /* Onto the IMU grid. */
   size_t hint = 0;
   for (size_t i = 0; i < n; i++) {
@@ -381,9 +387,9 @@ aw_fusion_camonly_run(const AwCamPrep *cam, const double *tau, size_t n,
   if (nis_mean) *nis_mean = m > 1 ? nis_sum / (double)(m - 1) : (double)NAN;
   if (rejected) *rejected = rej;
   if (recoveries) *recoveries = rec;
-  free(ps.F); free(ps.Pp); free(ps.Sm); free(ps.tk); free(ps.kk);
+  pass_free(&ps);
   return AW_OK;
 nomem:
-  free(ps.F); free(ps.Pp); free(ps.Sm); free(ps.tk); free(ps.kk);
+  pass_free(&ps);
   return AW_ERR_NO_MEMORY;
 }

@@ -154,7 +154,8 @@ typedef struct {
                                  clock_shift_s + clock_drift (t - clock_ref_s); 0 on recordings
                                  under a minute (or when the windows disagree) */
   double clock_ref_s;         /* depth time at which clock_shift_s holds */
-  double clock_drift_sigma;   /* 1-sigma of clock_drift; NAN when the drift was not estimated */
+  double clock_drift_sigma;   /* 1-sigma of clock_drift (posterior, with the prior); NAN when
+                                 the drift was not estimated */
   double lever_body_m[3];     /* keypoint relative to the IMU from the joint solution */
   bool have_joint;
 } AwCalib;

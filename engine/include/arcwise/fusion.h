@@ -49,7 +49,8 @@ typedef struct {
   double accel_scale_sigma;               /* 1-sigma accelerometer scale/axis error (fraction) */
   double gyro_scale_sigma;                /* 1-sigma gyro scale/axis error (fraction) */
   double still_gyro_rad_s;                /* |omega - window mean| below this over still_window_s: still */
-  double still_accel_m_s2;                /* |f - window mean| below this over still_window_s: still */
+  double still_accel_m_s2;                /* |f - window mean|, and |f| against its median at
+                                             rest, below this over still_window_s: still */
   double still_window_s;                  /* length of a still window */
   double zupt_sigma_m_s;                  /* residual wrist speed when "still" */
   double cam_conf_min;                    /* detections below this confidence count as missing */
@@ -110,8 +111,9 @@ typedef struct {
    * the curvature of that fit's cost; 0 when the refinement did not run). The filter may
    * inflate the camera noise by it: sigma_t^2 v v^T for the hand velocity v. */
   double clock_calib_sigma_s;
-  /* 1-sigma of clock_drift from the calibration's line through its windows' shifts; NAN when
-   * the recording is too short to estimate a drift (then clock_drift is the sync's). */
+  /* 1-sigma of clock_drift: the calibration's line through its windows' shifts combined with
+   * the prior clock_drift_prior; NAN when the recording is too short to estimate a drift (then
+   * clock_drift is the sync's). */
   double clock_drift_sigma;
 } AwFusionReport;
 
