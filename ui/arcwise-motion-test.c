@@ -134,6 +134,17 @@ loop_on(Motion *m)
   return on;
 }
 
+/* Plays at speed index `speed` from four steps before the end, recording as `name`. */
+static void
+play_near_end(Motion *m, int speed, const char *name)
+{
+  arcwise_window_set_speed_index(m->win, speed);
+  act(m, "win.seek", g_variant_new_int32(1));
+  for (int k = 0; k < 4; k++)
+    act(m, "win.step", g_variant_new_int32(-1));
+  record_play(m, name);
+}
+
 static const char *speed_names[] = { "speed0", "speed1", "speed2", "speed3" };
 
 static void
@@ -167,22 +178,14 @@ next_step(Motion *m)
     /* Loop on, half speed, from four steps before the end: the marker comes round. */
     act(m, "win.loop", NULL);
     g_string_append_printf(m->report, "loop_state=%d\n", loop_on(m));
-    arcwise_window_set_speed_index(m->win, 1);
-    act(m, "win.seek", g_variant_new_int32(1));
-    for (int k = 0; k < 4; k++)
-      act(m, "win.step", g_variant_new_int32(-1));
-    record_play(m, "loop");
+    play_near_end(m, 1, "loop");
     break;
   }
   case 5:
     /* Loop off, normal speed, from four steps before the end: it stops at the end. */
     act(m, "win.loop", NULL);
     g_string_append_printf(m->report, "loop_state_after=%d\n", loop_on(m));
-    arcwise_window_set_speed_index(m->win, 0);
-    act(m, "win.seek", g_variant_new_int32(1));
-    for (int k = 0; k < 4; k++)
-      act(m, "win.step", g_variant_new_int32(-1));
-    record_play(m, "end");
+    play_near_end(m, 0, "end");
     break;
   case 6:
     act(m, "win.seek", g_variant_new_int32(-1));
