@@ -16,8 +16,16 @@
  * the stored gains, and needs no covariance inverse at all, so between camera frames a backward
  * step costs two structured products.
  *
- * The transition F = I + (sparse 3x3 blocks) is never formed: G*M and F^T*M are written out
- * block by block (see apply_G and apply_Ft), which is what makes a 100 Hz step cheap. */
+ * The nominal state is integrated at every IMU sample; the covariance and the smoother's
+ * information matrix only at nodes, the samples with a measurement (and at least one per
+ * camera interval), through the exact transition of the run of IMU steps between two nodes
+ * (Seg, seg_append). The transition F = I + (sparse 3x3 blocks) is never formed: G*M and F^T*M
+ * are written out block by block (see apply_G and apply_Ft). Between nodes the smoothed
+ * correction and variance are interpolated (see "Nodes" in aw_fusion_eskf_run_ext). A lower
+ * rate for the covariance than for the navigation equations is common practice in strapdown
+ * navigation (e.g. P. D. Groves, "Principles of GNSS, Inertial, and Multisensor Integrated
+ * Navigation Systems", 2nd ed., 2013; cited from memory); here the run's transition is composed
+ * exactly rather than approximated. */
 #include "fusion-internal.h"
 
 #include "arcwise/math3.h"
@@ -86,26 +94,106 @@ skew(double S[3][3], const double a[3])
   S[2][0] = -a[1]; S[2][1] = a[0]; S[2][2] = 0;
 }
 
-/* rows M[r0..r0+2][*] += B * X (X a copy of three rows). */
-static inline void
-rows_addmul(double M[][NS], int r0, const double *B, double X[3][NS])
+/* The error-state transition over a run of IMU steps between two nodes, the samples where the
+ * filter forms its covariance (see "Nodes" in aw_fusion_eskf_run_ext): F = I + G with G
+ * non-zero only in these blocks (3 x 3 each; pv, pdg and vdg times the identity):
+ *   p rows:     v: pv, theta: Pth, ba: Pba, bg: Pbg, dg: pdg
+ *   v rows:     theta: Vth, ba: Vba, bg: Vbg, dg: vdg
+ *   theta rows: bg: Tbg
+ * One IMU step has this form (Pth = dt/2 Vth, Pba = dt/2 Vba, Pbg = Vbg = 0, pdg = dt^2/2,
+ * vdg = dt; an IMU gap only pv = dt) and so has any product of steps (seg_append), so a run is
+ * one exact transition. Its process noise is the p, v, theta block D (9 x 9) carried through
+ * the run step by step, and the constant states' random walks summed (their coupling into p, v
+ * and theta inside a run, a bias walk of 1e-4 m/s^2/sqrt(Hz) over tens of milliseconds, is
+ * below 1e-13 m^2/s^2 and left out). */
+typedef struct {
+  double dt;
+  double pv, pdg, vdg;
+  double Pth[3][3], Pba[3][3], Pbg[3][3];
+  double Vth[3][3], Vba[3][3], Vbg[3][3];
+  double Tbg[3][3];
+  double D[9][9];
+  double qba, qbg, qc, ql;
+} Seg;
+
+/* S <- the run S followed by the step T (F = F_T F_S). */
+static void
+seg_append(Seg *S, const Trans *T)
 {
-  for (int c = 0; c < NS; c++) {
-    double x0 = X[0][c], x1 = X[1][c], x2 = X[2][c];
-    M[r0 + 0][c] += B[0] * x0 + B[1] * x1 + B[2] * x2;
-    M[r0 + 1][c] += B[3] * x0 + B[4] * x1 + B[5] * x2;
-    M[r0 + 2][c] += B[6] * x0 + B[7] * x1 + B[8] * x2;
+  double dt = T->dt, h = T->gap ? 0 : 0.5 * dt;
+  /* Noise: D <- E D E^T + Q_T, E = I + N the step's p, v, theta block, N: p <- v dt,
+   * p <- theta h Vth, v <- theta Vth. With Y = Vth D_theta (D's theta rows), A = E D has the
+   * rows D_p + dt D_v + h Y, D_v + Y, D_theta, and with Z[r] = Vth A[r][theta] the entries of
+   * A E^T are A[r][p] + dt A[r][v] + h Z[r], A[r][v] + Z[r], A[r][theta]. A run starts from
+   * D = 0, where this is zero. */
+  if (S->dt > 0) {
+    double A[9][9], Y[3][9], Z[9][3];
+    for (int r = 0; r < 3; r++)
+      for (int c = 0; c < 9; c++)
+        Y[r][c] = T->Vth[r][0] * S->D[6][c] + T->Vth[r][1] * S->D[7][c] + T->Vth[r][2] * S->D[8][c];
+    for (int r = 0; r < 3; r++)
+      for (int c = 0; c < 9; c++) {
+        A[r][c] = S->D[r][c] + dt * S->D[3 + r][c] + h * Y[r][c];
+        A[3 + r][c] = S->D[3 + r][c] + Y[r][c];
+        A[6 + r][c] = S->D[6 + r][c];
+      }
+    for (int r = 0; r < 9; r++)
+      for (int c = 0; c < 3; c++)
+        Z[r][c] = T->Vth[c][0] * A[r][6] + T->Vth[c][1] * A[r][7] + T->Vth[c][2] * A[r][8];
+    for (int r = 0; r < 9; r++)
+      for (int c = 0; c < 3; c++) {
+        S->D[r][c] = A[r][c] + dt * A[r][3 + c] + h * Z[r][c];
+        S->D[r][3 + c] = A[r][3 + c] + Z[r][c];
+        S->D[r][6 + c] = A[r][6 + c];
+      }
+    /* Exactly symmetric: the upper triangle mirrored. */
+    for (int r = 0; r < 9; r++)
+      for (int c = r + 1; c < 9; c++) S->D[c][r] = S->D[r][c];
   }
+  for (int a = 0; a < 3; a++) {
+    double qj = T->qvj[a];
+    S->D[a][a] += T->qp + qj * dt * dt / 3.0;
+    S->D[3 + a][3 + a] += T->qv + qj;
+    S->D[a][3 + a] += T->qpv + qj * dt / 2.0;
+    S->D[3 + a][a] = S->D[a][3 + a];
+    S->D[6 + a][6 + a] += T->qth;
+  }
+  S->qba += T->qba;
+  S->qbg += T->qbg;
+  S->qc += T->qc;
+  S->ql += 1e-12;   /* keeps the lever-arm block positive definite */
+  /* Transition: G_T + G_S + G_T G_S; the product adds dt G_S's v rows and Pth_T, Vth_T times
+   * G_S's theta rows (Tbg_S). */
+  double VT[3][3];
+  for (int r = 0; r < 3; r++)
+    for (int c = 0; c < 3; c++)
+      VT[r][c] = T->Vth[r][0] * S->Tbg[0][c] + T->Vth[r][1] * S->Tbg[1][c] + T->Vth[r][2] * S->Tbg[2][c];
+  for (int r = 0; r < 3; r++)
+    for (int c = 0; c < 3; c++) {
+      S->Pbg[r][c] += dt * S->Vbg[r][c] + h * VT[r][c];
+      S->Pth[r][c] += h * T->Vth[r][c] + dt * S->Vth[r][c];
+      S->Pba[r][c] += h * T->Vba[r][c] + dt * S->Vba[r][c];
+      S->Vbg[r][c] += VT[r][c];
+      S->Vth[r][c] += T->Vth[r][c];
+      S->Vba[r][c] += T->Vba[r][c];
+      S->Tbg[r][c] += T->Tbg[r][c];
+    }
+  S->pdg += (T->gap ? 0 : 0.5 * dt * dt) + dt * S->vdg;
+  S->vdg += T->gap ? 0 : dt;
+  S->pv += dt;
+  S->dt += dt;
 }
 
+/* rows M[r0..r0+2][*] += B^T X, X three rows (of M itself: the caller orders the calls so that
+ * X is not yet changed). */
 static inline void
-rows_addmul_t(double M[][NS], int r0, const double *B, double X[3][NS])
+rows_addmul_t(double M[][NS], int r0, const double B[3][3], const double (*X)[NS])
 {
   for (int c = 0; c < NS; c++) {
     double x0 = X[0][c], x1 = X[1][c], x2 = X[2][c];
-    M[r0 + 0][c] += B[0] * x0 + B[3] * x1 + B[6] * x2;
-    M[r0 + 1][c] += B[1] * x0 + B[4] * x1 + B[7] * x2;
-    M[r0 + 2][c] += B[2] * x0 + B[5] * x1 + B[8] * x2;
+    M[r0 + 0][c] += B[0][0] * x0 + B[1][0] * x1 + B[2][0] * x2;
+    M[r0 + 1][c] += B[0][1] * x0 + B[1][1] * x1 + B[2][1] * x2;
+    M[r0 + 2][c] += B[0][2] * x0 + B[1][2] * x1 + B[2][2] * x2;
   }
 }
 
@@ -116,93 +204,61 @@ rows_axpy(double M[][NS], int r0, double s, int s0)
     for (int c = 0; c < NS; c++) M[r0 + r][c] += s * M[s0 + r][c];
 }
 
-/* M <- F^T M. */
+/* M <- F^T M = M + G^T M: G's columns are v, theta, ba, bg and dg, read from the rows p, v,
+ * theta; each row block is changed after the last use of its old value (bg reads theta and v,
+ * the others read p and v, v changes last; p never changes). */
 static void
-apply_Ft(const Trans *T, double M[NS][NS])
+apply_Ft(const Seg *S, double M[NS][NS])
 {
-  double old[3][NS];
-  double dt = T->dt;
-  if (T->gap) {
-    rows_axpy(M, IV, dt, IP);
-    return;
-  }
-  double Pth[3][3], Pba[3][3];
-  for (int r = 0; r < 3; r++)
-    for (int c = 0; c < 3; c++) { Pth[r][c] = 0.5 * dt * T->Vth[r][c]; Pba[r][c] = 0.5 * dt * T->Vba[r][c]; }
-  /* dg rows */
-  rows_axpy(M, IDG, 0.5 * dt * dt, IP);
-  rows_axpy(M, IDG, dt, IV);
-  /* bg rows use the old theta rows */
-  memcpy(old, &M[IT], sizeof old);
-  rows_addmul_t(M, IBG, &T->Tbg[0][0], old);
-  /* ba rows */
-  memcpy(old, &M[IP], sizeof old);
-  rows_addmul_t(M, IBA, &Pba[0][0], old);
-  rows_addmul_t(M, IT, &Pth[0][0], old);
-  memcpy(old, &M[IV], sizeof old);
-  rows_addmul_t(M, IBA, &T->Vba[0][0], old);
-  rows_addmul_t(M, IT, &T->Vth[0][0], old);
-  /* v rows */
-  rows_axpy(M, IV, dt, IP);
+  const double (*Mp)[NS] = (const double (*)[NS])&M[IP];
+  const double (*Mv)[NS] = (const double (*)[NS])&M[IV];
+  const double (*Mt)[NS] = (const double (*)[NS])&M[IT];
+  rows_addmul_t(M, IBG, S->Pbg, Mp);
+  rows_addmul_t(M, IBG, S->Vbg, Mv);
+  rows_addmul_t(M, IBG, S->Tbg, Mt);
+  rows_axpy(M, IDG, S->pdg, IP);
+  rows_axpy(M, IDG, S->vdg, IV);
+  rows_addmul_t(M, IBA, S->Pba, Mp);
+  rows_addmul_t(M, IBA, S->Vba, Mv);
+  rows_addmul_t(M, IT, S->Pth, Mp);
+  rows_addmul_t(M, IT, S->Vth, Mv);
+  rows_axpy(M, IV, S->pv, IP);
 }
 
-/* Vector forms: x <- F^T x. */
-static void
-apply_Ft_vec(const Trans *T, double x[NS])
-{
-  double dt = T->dt;
-  if (T->gap) {
-    for (int r = 0; r < 3; r++) x[IV + r] += dt * x[IP + r];
-    return;
-  }
-  const double *xp = &x[IP], *xv = &x[IV];
-  double nt[3], nba[3], nbg[3];
-  for (int c = 0; c < 3; c++) {
-    nt[c] = x[IT + c];
-    nba[c] = x[IBA + c];
-    nbg[c] = x[IBG + c];
-    for (int r = 0; r < 3; r++) {
-      nt[c] += (0.5 * dt * T->Vth[r][c]) * xp[r] + T->Vth[r][c] * xv[r];
-      nba[c] += (0.5 * dt * T->Vba[r][c]) * xp[r] + T->Vba[r][c] * xv[r];
-      nbg[c] += T->Tbg[r][c] * x[IT + r];
-    }
-  }
-  for (int c = 0; c < 3; c++) {
-    x[IDG + c] += 0.5 * dt * dt * xp[c] + dt * xv[c];
-    x[IBG + c] = nbg[c];
-    x[IBA + c] = nba[c];
-    x[IT + c] = nt[c];
-  }
-  for (int c = 0; c < 3; c++) x[IV + c] += dt * x[IP + c];
-}
-
-/* Row x of F^T L (a row of C) times F, for the columns of block blk (0 = v, 1 = theta, 2 = ba,
- * 3 = bg, 4 = dg) and the blocks after it; blk is a constant at each call. */
+/* x <- x F for a row x (equally F^T x for a column), for the columns of block blk (0 = v,
+ * 1 = theta, 2 = ba, 3 = bg, 4 = dg) and the blocks after it; blk is a constant at each call. */
 static inline __attribute__((always_inline)) void
-row_times_F(const Trans *T, double Pth[3][3], double Pba[3][3], double h2, double *x,
-            int blk)
+row_times_F(const Seg *S, double *x, int blk)
 {
-  double dt = T->dt;
   const double *xp = &x[IP], *xv = &x[IV], *xt = &x[IT];
   double nt[3], nba[3], nbg[3];
   for (int c = 0; c < 3; c++) {
     if (blk <= 1)
-      nt[c] = x[IT + c] + Pth[0][c] * xp[0] + Pth[1][c] * xp[1] + Pth[2][c] * xp[2] +
-              T->Vth[0][c] * xv[0] + T->Vth[1][c] * xv[1] + T->Vth[2][c] * xv[2];
+      nt[c] = x[IT + c] + S->Pth[0][c] * xp[0] + S->Pth[1][c] * xp[1] + S->Pth[2][c] * xp[2] +
+              S->Vth[0][c] * xv[0] + S->Vth[1][c] * xv[1] + S->Vth[2][c] * xv[2];
     if (blk <= 2)
-      nba[c] = x[IBA + c] + Pba[0][c] * xp[0] + Pba[1][c] * xp[1] + Pba[2][c] * xp[2] +
-               T->Vba[0][c] * xv[0] + T->Vba[1][c] * xv[1] + T->Vba[2][c] * xv[2];
+      nba[c] = x[IBA + c] + S->Pba[0][c] * xp[0] + S->Pba[1][c] * xp[1] + S->Pba[2][c] * xp[2] +
+               S->Vba[0][c] * xv[0] + S->Vba[1][c] * xv[1] + S->Vba[2][c] * xv[2];
     if (blk <= 3)
-      nbg[c] = x[IBG + c] + T->Tbg[0][c] * xt[0] + T->Tbg[1][c] * xt[1] + T->Tbg[2][c] * xt[2];
+      nbg[c] = x[IBG + c] + S->Pbg[0][c] * xp[0] + S->Pbg[1][c] * xp[1] + S->Pbg[2][c] * xp[2] +
+               S->Vbg[0][c] * xv[0] + S->Vbg[1][c] * xv[1] + S->Vbg[2][c] * xv[2] +
+               S->Tbg[0][c] * xt[0] + S->Tbg[1][c] * xt[1] + S->Tbg[2][c] * xt[2];
   }
   for (int c = 0; c < 3; c++) {
-    x[IDG + c] += h2 * xp[c] + dt * xv[c];
+    x[IDG + c] += S->pdg * xp[c] + S->vdg * xv[c];
     if (blk <= 3) x[IBG + c] = nbg[c];
     if (blk <= 2) x[IBA + c] = nba[c];
     if (blk <= 1) x[IT + c] = nt[c];
   }
   if (blk == 0)
-    for (int c = 0; c < 3; c++) x[IV + c] += dt * xp[c];
+    for (int c = 0; c < 3; c++) x[IV + c] += S->pv * xp[c];
+}
+
+/* Vector form: x <- F^T x. */
+static void
+apply_Ft_vec(const Seg *S, double x[NS])
+{
+  row_times_F(S, x, 0);
 }
 
 /* L <- F^T L F for a symmetric L (the smoother's information matrix stepped back). F^T acting
@@ -213,37 +269,14 @@ row_times_F(const Trans *T, double Pth[3][3], double Pba[3][3], double h2, doubl
  * the blocks after it (C's blocks in index order): the result is symmetric, so the C block's
  * upper triangle is mirrored to the lower (exactly symmetric), and the C x U block to U x C. */
 static void
-congruence_Ft(const Trans *T, double L[NS][NS])
+congruence_Ft(const Seg *S, double L[NS][NS])
 {
-  static const int crow[] = { IV, IV + 1, IV + 2, IT, IT + 1, IT + 2, IBA, IBA + 1, IBA + 2,
-                              IBG, IBG + 1, IBG + 2, IDG, IDG + 1, IDG + 2 };
-  static const int urow[] = { IP, IP + 1, IP + 2, IL, IL + 1, IL + 2, IC };
-  enum { NC = sizeof crow / sizeof crow[0], NU = sizeof urow / sizeof urow[0] };
-  apply_Ft(T, L);
-  if (T->gap) {
-    for (int a = 0; a < NC; a++) apply_Ft_vec(T, L[crow[a]]);
-    for (int a = 0; a < NC; a++) {
-      int r = crow[a];
-      for (int b = 0; b < NU; b++) L[urow[b]][r] = L[r][urow[b]];
-      for (int b = a + 1; b < NC; b++) {
-        int c = crow[b];
-        double v = 0.5 * (L[r][c] + L[c][r]);
-        L[r][c] = v;
-        L[c][r] = v;
-      }
-    }
-    return;
-  }
-  /* Each row x of C times F (apply_Ft_vec with the step's blocks formed once), from the row's
-   * own block on: block 0 = v, 1 = theta, 2 = ba, 3 = bg, 4 = dg. */
-  double dt = T->dt, h2 = 0.5 * dt * dt, Pth[3][3], Pba[3][3];
-  for (int r = 0; r < 3; r++)
-    for (int c = 0; c < 3; c++) { Pth[r][c] = 0.5 * dt * T->Vth[r][c]; Pba[r][c] = 0.5 * dt * T->Vba[r][c]; }
-  for (int a = 0; a < 3; a++) row_times_F(T, Pth, Pba, h2, L[IV + a], 0);
-  for (int a = 0; a < 3; a++) row_times_F(T, Pth, Pba, h2, L[IT + a], 1);
-  for (int a = 0; a < 3; a++) row_times_F(T, Pth, Pba, h2, L[IBA + a], 2);
-  for (int a = 0; a < 3; a++) row_times_F(T, Pth, Pba, h2, L[IBG + a], 3);
-  for (int a = 0; a < 3; a++) row_times_F(T, Pth, Pba, h2, L[IDG + a], 4);
+  apply_Ft(S, L);
+  for (int a = 0; a < 3; a++) row_times_F(S, L[IV + a], 0);
+  for (int a = 0; a < 3; a++) row_times_F(S, L[IT + a], 1);
+  for (int a = 0; a < 3; a++) row_times_F(S, L[IBA + a], 2);
+  for (int a = 0; a < 3; a++) row_times_F(S, L[IBG + a], 3);
+  for (int a = 0; a < 3; a++) row_times_F(S, L[IDG + a], 4);
   /* Mirror each row r of C into its column: over U = {p, lever, clock} and over the later
    * columns of C. */
   for (int r = IV; r < IT + 3; r++) {
@@ -260,31 +293,24 @@ congruence_Ft(const Trans *T, double L[NS][NS])
 /* out (9 x ncol, rows p, v, theta) = G M, F = I + G, M's rows the state's (row stride ld). G is
  * non-zero only in the p, v and theta rows. */
 static void
-apply_G(const Trans *T, const double *M, int ld, int ncol, double *out)
+apply_G(const Seg *S, const double *M, int ld, int ncol, double *out)
 {
-  double dt = T->dt;
   const double *Mv = M + IV * ld, *Mt = M + IT * ld, *Mba = M + IBA * ld, *Mbg = M + IBG * ld,
                *Mg = M + IDG * ld;
-  if (T->gap) {
-    for (int r = 0; r < 3; r++)
-      for (int c = 0; c < ncol; c++) {
-        out[(IP + r) * ncol + c] = dt * Mv[r * ld + c];
-        out[(IV + r) * ncol + c] = 0;
-        out[(IT + r) * ncol + c] = 0;
-      }
-    return;
-  }
-  double h = 0.5 * dt, h2 = 0.5 * dt * dt;
   for (int r = 0; r < 3; r++) {
-    const double *a = T->Vth[r], *b = T->Vba[r], *e = T->Tbg[r];
+    const double *pt = S->Pth[r], *pa = S->Pba[r], *pg = S->Pbg[r];
+    const double *vt = S->Vth[r], *va = S->Vba[r], *vg = S->Vbg[r], *e = S->Tbg[r];
     for (int c = 0; c < ncol; c++) {
-      /* W = Vth M_theta + Vba M_ba; G_v M = W + dt M_dg; G_p M = dt M_v + dt/2 W + dt^2/2 M_dg */
-      double w = a[0] * Mt[c] + a[1] * Mt[ld + c] + a[2] * Mt[2 * ld + c] +
-                 b[0] * Mba[c] + b[1] * Mba[ld + c] + b[2] * Mba[2 * ld + c];
+      double t0 = Mt[c], t1 = Mt[ld + c], t2 = Mt[2 * ld + c];
+      double a0 = Mba[c], a1 = Mba[ld + c], a2 = Mba[2 * ld + c];
+      double g0 = Mbg[c], g1 = Mbg[ld + c], g2 = Mbg[2 * ld + c];
       double gd = Mg[r * ld + c];
-      out[(IV + r) * ncol + c] = w + dt * gd;
-      out[(IP + r) * ncol + c] = dt * Mv[r * ld + c] + h * w + h2 * gd;
-      out[(IT + r) * ncol + c] = e[0] * Mbg[c] + e[1] * Mbg[ld + c] + e[2] * Mbg[2 * ld + c];
+      out[(IP + r) * ncol + c] = S->pv * Mv[r * ld + c] + pt[0] * t0 + pt[1] * t1 + pt[2] * t2 +
+                                 pa[0] * a0 + pa[1] * a1 + pa[2] * a2 + pg[0] * g0 + pg[1] * g1 +
+                                 pg[2] * g2 + S->pdg * gd;
+      out[(IV + r) * ncol + c] = vt[0] * t0 + vt[1] * t1 + vt[2] * t2 + va[0] * a0 + va[1] * a1 +
+                                 va[2] * a2 + vg[0] * g0 + vg[1] * g1 + vg[2] * g2 + S->vdg * gd;
+      out[(IT + r) * ncol + c] = e[0] * g0 + e[1] * g1 + e[2] * g2;
     }
   }
 }
@@ -293,20 +319,20 @@ apply_G(const Trans *T, const double *M, int ld, int ncol, double *out)
  * theta rows and columns change; they are written once and mirrored (P stays exactly
  * symmetric). */
 static void
-propagate_cov(const Trans *T, double P[NS][NS])
+propagate_cov(const Seg *S, double P[NS][NS])
 {
   enum { NG = 9 };
   double A[NG][NS], At[NS][NG], B[NG][NG];
-  apply_G(T, &P[0][0], NS, NS, &A[0][0]);
+  apply_G(S, &P[0][0], NS, NS, &A[0][0]);
   /* G reads only the v, theta, ba, bg and dg rows of its operand: only those of A^T are made. */
   for (int r = 0; r < NG; r++) {
     for (int c = IV; c < IT + 3; c++) At[c][r] = A[r][c];
     for (int c = IBA; c < NS; c++) At[c][r] = A[r][c];
   }
-  apply_G(T, &At[0][0], NG, NG, &B[0][0]);
+  apply_G(S, &At[0][0], NG, NG, &B[0][0]);
   for (int r = 0; r < NG; r++) {
     for (int c = r; c < NG; c++) {
-      double v = P[r][c] + A[r][c] + A[c][r] + B[r][c];
+      double v = P[r][c] + A[r][c] + A[c][r] + B[r][c] + S->D[r][c];
       P[r][c] = v;
       P[c][r] = v;
     }
@@ -317,17 +343,11 @@ propagate_cov(const Trans *T, double P[NS][NS])
     }
   }
   for (int r = 0; r < 3; r++) {
-    double dt = T->dt, qj = T->qvj[r];
-    P[IP + r][IP + r] += T->qp + qj * dt * dt / 3.0;
-    P[IV + r][IV + r] += T->qv + qj;
-    P[IP + r][IV + r] += T->qpv + qj * dt / 2.0;
-    P[IV + r][IP + r] += T->qpv + qj * dt / 2.0;
-    P[IT + r][IT + r] += T->qth;
-    P[IBA + r][IBA + r] += T->qba;
-    P[IBG + r][IBG + r] += T->qbg;
-    P[IL + r][IL + r] += 1e-12;   /* keeps the lever-arm block positive definite */
+    P[IBA + r][IBA + r] += S->qba;
+    P[IBG + r][IBG + r] += S->qbg;
+    P[IL + r][IL + r] += S->ql;
   }
-  P[IC][IC] += T->qc;
+  P[IC][IC] += S->qc;
 }
 
 typedef struct {
@@ -780,6 +800,105 @@ bf_update(double L[NS][NS], double l[NS], Upd *u)
     for (int c = r + 1; c < NH; c++) { double a = 0.5 * (L[r][c] + L[c][r]); L[r][c] = a; L[c][r] = a; }
 }
 
+/* The smoothed state x at sample i into the path: keypoint p + R l and its velocity
+ * v + R ((w - bg) x l) in the camera frame, attitude, time on the camera's clock, and the
+ * keypoint sigma from its variance ksig2 plus the stamp jitter's share (a sample is reported at
+ * its stamp, off its true time by the jitter). R = R(x->q), Rl = R l. */
+static void
+write_sample(const Model *m, AwFusedPath *path, size_t i, const Nom *x, double R[3][3],
+             const double Rl[3], const double ksig2[3])
+{
+  double wv[3], wl[3], Rwl[3];
+  for (int a = 0; a < 3; a++) wv[a] = m->imu->w[i][a] - x->bg[a];
+  aw_v3_cross(wl, wv, x->l);
+  aw_mat_mul_v3(Rwl, (const double (*)[3])R, wl);
+  path->t_s[i] = m->tau[i] + x->c;
+  for (int a = 0; a < 3; a++) {
+    path->pos_cam_m[i][a] = x->p[a] + Rl[a];
+    path->vel_cam_m_s[i][a] = x->v[a] + Rwl[a];
+  }
+  memcpy(path->q_cam_body[i], x->q, sizeof x->q);
+  for (int r = 0; r < 3; r++) {
+    double vr = path->vel_cam_m_s[i][r];
+    path->pos_sigma_cam_m[i][r] = sqrt(ksig2[r] + m->sj2 * vr * vr);
+  }
+}
+
+/* The smoothed biases, lever arm, clock correction and camera-to-gravity rotation of the middle
+ * sample into the report. */
+static void
+report_mid(AwFusionReport *rep, const Nom *x, double *c_mid)
+{
+  memcpy(rep->accel_bias_m_s2, x->ba, sizeof x->ba);
+  memcpy(rep->gyro_bias_rad_s, x->bg, sizeof x->bg);
+  memcpy(rep->lever_arm_body_m, x->l, sizeof x->l);
+  rep->clock_offset_s += x->c;
+  *c_mid = x->c;
+  double gn = aw_v3_norm(x->g);
+  double up[3], ex[3] = { 1, 0, 0 }, xg[3], yg[3], Rg[3][3];
+  aw_v3_scale(up, x->g, -1.0 / (gn > 0 ? gn : 1));
+  double dd = aw_v3_dot(ex, up);
+  for (int a = 0; a < 3; a++) xg[a] = ex[a] - dd * up[a];
+  aw_v3_normalize(xg, xg);
+  aw_v3_cross(yg, up, xg);
+  for (int a = 0; a < 3; a++) { Rg[a][0] = xg[a]; Rg[a][1] = yg[a]; Rg[a][2] = up[a]; }
+  aw_mat_to_quat(rep->q_cam_grav, (const double (*)[3])Rg);
+}
+
+/* The error d that inject() turns b into a (a - b, the attitude as the rotation vector of
+ * q_a q_b^-1). */
+static void
+nom_diff(const Nom *a, const Nom *b, double d[NS])
+{
+  for (int k = 0; k < 3; k++) {
+    d[IP + k] = a->p[k] - b->p[k];
+    d[IV + k] = a->v[k] - b->v[k];
+    d[IBA + k] = a->ba[k] - b->ba[k];
+    d[IBG + k] = a->bg[k] - b->bg[k];
+    d[IDG + k] = a->g[k] - b->g[k];
+    d[IL + k] = a->l[k] - b->l[k];
+  }
+  d[IC] = a->c - b->c;
+  double bc[4], dq[4];
+  aw_quat_conj(bc, b->q);
+  aw_quat_mul(dq, a->q, bc);
+  aw_quat_to_rotvec(&d[IT], dq);
+}
+
+/* The normalised residual (chi-square, 3 dof) of each camera frame at sample i against the
+ * smoothed state x there: camera noise plus the smoothed keypoint variance ksig2. */
+static void
+frame_residuals(const Model *m, const AwCamPrep *cam, const size_t *fstart, const size_t *flist,
+                size_t i, const Nom *x, const double ksig2[3], float *fres)
+{
+  for (size_t j = fstart[i]; j < fstart[i + 1]; j++) {
+    size_t k = flist[j];
+    double h[3], Hb[3][NH], Rc[3][3], r2 = 0;
+    cam_predict(m, x, i, cam->t_s[k] - m->tau[i], h, Hb);
+    cam_noise(m->s, cam->noise_scale, cam->pos_m[k], cam->conf ? cam->conf[k] : 1, Rc);
+    timing_noise(m, Hb, Rc);
+    for (int a = 0; a < 3; a++) {
+      double e = cam->pos_m[k][a] - h[a];
+      r2 += e * e / (Rc[a][a] + ksig2[a]);
+    }
+    fres[k] = (float)r2;
+  }
+}
+
+/* The transition of the run from node sample i0 to node sample i1, from the stored nominal
+ * states (the forward pass's steps repeated). */
+static void
+run_transition(const Model *m, const Nom *xs, size_t i0, size_t i1, Seg *sg)
+{
+  memset(sg, 0, sizeof *sg);
+  for (size_t j = i0 + 1; j <= i1; j++) {
+    Trans T;
+    Nom xn;
+    nominal_step(m, j - 1, &xs[j - 1], &xn, &T);
+    seg_append(sg, &T);
+  }
+}
+
 AwStatus
 aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau_in, const AwCamPrep *cam,
                    const AwFusionSettings *s, double g, const AwCalib *cal, AwFusedPath *path,
@@ -825,19 +944,32 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
   Nom *xs = malloc(sizeof *xs * n);
   double *acc_v = calloc(n ? n : 1, sizeof *acc_v);
   m.acc_v = acc_v;
-  size_t B = n <= 20000 ? 1 : 16;     /* covariance checkpoint interval (memory bound) */
+  /* Nodes: the samples where the filter forms its covariance. Every sample with a measurement
+   * (a camera frame or a zero-velocity update) is one, and the first and the last, and no run
+   * between two nodes is longer than a camera interval (see seg_append: the run's transition
+   * is exact). Between nodes the nominal state is integrated at every IMU sample as usual; the
+   * smoother's correction and variance there are interpolated between the nodes' (at most a
+   * camera interval apart, where a correction that the IMU carries well changes by
+   * micrometres). The covariance work, most of the filter's cost, then runs at about the camera
+   * rate instead of the IMU rate. */
+  size_t max_run = 3;
+  if (isfinite(cam->dt_nom_s) && cam->dt_nom_s > 0 && imu->dt_nom_s > 0)
+    max_run = (size_t)fmax(1.0, ceil(cam->dt_nom_s / imu->dt_nom_s - 1e-9));
+  size_t *nodes = malloc(sizeof *nodes * (n ? n : 1));
+  Nom *xpri = malloc(sizeof *xpri * (n ? n : 1));   /* nominal at each node before its updates */
+  size_t B = n <= 20000 ? 1 : 16;     /* covariance checkpoint interval in nodes (memory bound) */
   size_t nck = (n + B - 1) / B;
   double (*Pck)[NS][NS] = malloc(sizeof *Pck * nck);
   double (*Pblk)[NS][NS] = malloc(sizeof *Pblk * B);
-  /* With every covariance stored (B = 1) the forward pass's transitions are kept too: the
-   * smoother steps back through the same F (Ts[i]: from sample i - 1 to i) without repeating
-   * the nominal propagation. */
-  Trans *Ts = B == 1 ? malloc(sizeof *Ts * (n ? n : 1)) : NULL;
+  /* With every node's covariance stored (B = 1) the forward pass's run transitions are kept
+   * too (segs[q]: from node q - 1 to node q): the smoother steps back through the same F
+   * without repeating the nominal propagation. */
+  Seg *segs = B == 1 ? malloc(sizeof *segs * (n ? n : 1)) : NULL;
   size_t *ustart = calloc(n + 1, sizeof *ustart);
   UpdList ul = { 0 };
   AwStatus st = AW_OK;
   if (!fstart || !flist || !fstat || !fdec || !fres || !xs || !Pck || !Pblk || !ustart || !acc_v ||
-      (B == 1 && !Ts)) { st = AW_ERR_NO_MEMORY; goto out; }
+      !nodes || !xpri || (B == 1 && !segs)) { st = AW_ERR_NO_MEMORY; goto out; }
   double clock_moved = 0;   /* shift of the grid made before this pass (s) */
   double move_next = 0;     /* the shift the next pass makes, if one runs (s) */
   double clock_offset_in = rep->clock_offset_s;
@@ -995,6 +1127,9 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
   size_t rej_count = 0;
   double nis_sum = 0;
   size_t nis_n = 0;
+  size_t nn = 0, last_node = 0;
+  Seg run;
+  memset(&run, 0, sizeof run);
   for (size_t i = 0; i < n; i++) {
     ustart[i] = ul.n;
     if (i > 0) {
@@ -1002,17 +1137,31 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
       Nom xn;
       nominal_step(&m, i - 1, &x, &xn, &T);
       x = xn;
-      propagate_cov(&T, P);
-      if (Ts) Ts[i] = T;
+      seg_append(&run, &T);
       acc_v[i] = T.gap ? 0 : acc_v[i - 1] + T.ev;
       if (T.gap) { path->flags[i] |= AW_FUSED_NO_IMU; rep->imu_gaps++; }
+    }
+    bool frames_here = false;
+    if (use_cam)
+      for (size_t j = fstart[i]; j < fstart[i + 1]; j++) frames_here = frames_here || fdec[flist[j]] != 1;
+    bool zupt_here = imu->still[i] && i % zupt_every == 0;
+    bool node = i == 0 || i + 1 == n || zupt_here || frames_here || i - last_node >= max_run;
+    if (node) {
+      if (i > 0) {
+        propagate_cov(&run, P);
+        if (segs) segs[nn] = run;
+        memset(&run, 0, sizeof run);
+      }
+      nodes[nn] = i;
+      xpri[nn] = x;
+      last_node = i;
     }
     if (imu->sat_acc[i] || imu->sat_gyr[i]) {
       path->flags[i] |= AW_FUSED_IMU_SATURATED;
       rep->imu_samples_saturated++;
     }
     /* Zero-velocity update. */
-    if (imu->still[i] && i % zupt_every == 0) {
+    if (zupt_here) {
       double Hb[3][NH] = { { 0 } }, R[3][3] = { { 0 } }, y[3];
       for (int a = 0; a < 3; a++) {
         Hb[a][IV + a] = 1;
@@ -1093,40 +1242,47 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
         }
       }
     xs[i] = x;
-    if (i % B == 0) memcpy(Pck[i / B], P, sizeof P);
+    if (node) {
+      if (nn % B == 0) memcpy(Pck[nn / B], P, sizeof P);
+      nn++;
+    }
   }
   ustart[n] = ul.n;
   rep->cam_nis_mean = nis_n ? nis_sum / (double)nis_n : (double)NAN;
   for (size_t k = 0; k < cam->n; k++) if (fstat[k] == FR_MISSING) rep->cam_frames_missing++;
 
-  /* Backward pass (Bryson-Frazier). */
+  /* Backward pass (Bryson-Frazier), node by node; the samples between two nodes are written
+   * when the earlier node is reached. */
   {
-    static const int dummy = 0;
-    (void)dummy;
     double (*L)[NS] = calloc(NS, sizeof *L);
     double lam[NS] = { 0 };
     if (!L) { st = AW_ERR_NO_MEMORY; goto out; }
     size_t blk_loaded = SIZE_MAX;
     size_t imid = n / 2;
-    for (size_t ii = n; ii-- > 0;) {
-      size_t b = ii / B;
+    /* The later node of the run being stepped back over: its correction relative to its
+     * nominal state before its updates (the end of the run's nominal chain) and its variance. */
+    double dn[NS] = { 0 }, varn[3] = { 0 };
+    size_t inext = SIZE_MAX;
+    for (size_t q = nn; q-- > 0;) {
+      size_t ii = nodes[q];
+      size_t b = q / B;
       if (B > 1 && b != blk_loaded) {
-        /* Recompute the posterior covariances of this block from its checkpoint (with B = 1
-         * every sample's is stored and read in place). */
-        size_t i0 = b * B, i1 = i0 + B < n ? i0 + B : n;
+        /* Recompute the posterior covariances of this block's nodes from its checkpoint (with
+         * B = 1 every node's is stored and read in place). */
+        size_t q0 = b * B, q1 = q0 + B < nn ? q0 + B : nn;
         memcpy(Pblk[0], Pck[b], sizeof Pblk[0]);
-        for (size_t i = i0 + 1; i < i1; i++) {
-          Trans T;
-          Nom xn;
-          nominal_step(&m, i - 1, &xs[i - 1], &xn, &T);
-          memcpy(Pblk[i - i0], Pblk[i - i0 - 1], sizeof Pblk[0]);
-          propagate_cov(&T, Pblk[i - i0]);
-          for (size_t u = ustart[i]; u < ustart[i + 1]; u++) replay_update(Pblk[i - i0], &ul.v[u]);
+        for (size_t qq = q0 + 1; qq < q1; qq++) {
+          Seg sg;
+          run_transition(&m, xs, nodes[qq - 1], nodes[qq], &sg);
+          memcpy(Pblk[qq - q0], Pblk[qq - q0 - 1], sizeof Pblk[0]);
+          propagate_cov(&sg, Pblk[qq - q0]);
+          size_t i = nodes[qq];
+          for (size_t u = ustart[i]; u < ustart[i + 1]; u++) replay_update(Pblk[qq - q0], &ul.v[u]);
         }
         blk_loaded = b;
       }
-      double (*Pk)[NS] = B > 1 ? Pblk[ii - b * B] : Pck[ii];
-      /* Smoothed error and covariance at this sample. */
+      double (*Pk)[NS] = B > 1 ? Pblk[q - b * B] : Pck[q];
+      /* Smoothed error and covariance at this node. */
       double d[NS];
       /* d = -P lambda as a sum of P's rows (P is exactly symmetric). */
       memset(d, 0, sizeof d);
@@ -1136,18 +1292,9 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
       }
       Nom xsm = xs[ii];
       inject(&xsm, d);
-      double R[3][3], Rl[3], wv[3], wl[3], Rwl[3];
+      double R[3][3], Rl[3];
       aw_quat_to_mat(R, xsm.q);
       aw_mat_mul_v3(Rl, (const double (*)[3])R, xsm.l);
-      for (int a = 0; a < 3; a++) wv[a] = imu->w[ii][a] - xsm.bg[a];
-      aw_v3_cross(wl, wv, xsm.l);
-      path->t_s[ii] = tau[ii] + xsm.c;
-      aw_mat_mul_v3(Rwl, (const double (*)[3])R, wl);
-      for (int a = 0; a < 3; a++) {
-        path->pos_cam_m[ii][a] = xsm.p[a] + Rl[a];
-        path->vel_cam_m_s[ii][a] = xsm.v[a] + Rwl[a];
-      }
-      memcpy(path->q_cam_body[ii], xsm.q, sizeof xsm.q);
       double ksig2[3];
       {
         /* keypoint = p + R l: J = [I, 0, -[Rl]x, R, 0 ...]; smoothed P_s = P - P L P, so
@@ -1185,51 +1332,39 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
           double var = jpj - red;
           if (!(var > 1e-12) || !isfinite(var)) var = jpj;
           ksig2[r] = fmax(var, 1e-12);
-          /* Reported at the sample's stamp, which is off its true time by the jitter. */
-          double vr = path->vel_cam_m_s[ii][r];
-          path->pos_sigma_cam_m[ii][r] = sqrt(ksig2[r] + m.sj2 * vr * vr);
         }
       }
-      if (use_cam && pass + 1 < n_pass)
-        for (size_t j = fstart[ii]; j < fstart[ii + 1]; j++) {
-          size_t k = flist[j];
-          double h[3], Hb[3][NH], Rc[3][3], r2 = 0;
-          cam_predict(&m, &xsm, ii, cam->t_s[k] - tau[ii], h, Hb);
-          cam_noise(s, cam->noise_scale, cam->pos_m[k], cam->conf ? cam->conf[k] : 1, Rc);
-          timing_noise(&m, Hb, Rc);
-          for (int a = 0; a < 3; a++) {
-            double e = cam->pos_m[k][a] - h[a];
-            r2 += e * e / (Rc[a][a] + ksig2[a]);
-          }
-          fres[k] = (float)r2;
+      write_sample(&m, path, ii, &xsm, R, Rl, ksig2);
+      if (use_cam && pass + 1 < n_pass) frame_residuals(&m, cam, fstart, flist, ii, &xsm, ksig2, fres);
+      if (ii == imid) report_mid(rep, &xsm, &c_mid);
+      /* The samples up to the next node: their nominal states continue this node's without an
+       * update, so the correction moves linearly from this node's to the next one's (relative
+       * to the same chain), and so does the variance. */
+      if (inext != SIZE_MAX)
+        for (size_t j = ii + 1; j < inext; j++) {
+          double w = (tau[j] - tau[ii]) / (tau[inext] - tau[ii]), dj[NS], vj[3], Rj[3][3], Rlj[3];
+          for (int k = 0; k < NS; k++) dj[k] = (1 - w) * d[k] + w * dn[k];
+          for (int a = 0; a < 3; a++) vj[a] = (1 - w) * ksig2[a] + w * varn[a];
+          Nom xj = xs[j];
+          inject(&xj, dj);
+          aw_quat_to_mat(Rj, xj.q);
+          aw_mat_mul_v3(Rlj, (const double (*)[3])Rj, xj.l);
+          write_sample(&m, path, j, &xj, Rj, Rlj, vj);
+          /* Frames left out of this pass fall between nodes: they are judged here. */
+          if (use_cam && pass + 1 < n_pass) frame_residuals(&m, cam, fstart, flist, j, &xj, vj, fres);
+          if (j == imid) report_mid(rep, &xj, &c_mid);
         }
-      if (ii == imid) {
-        memcpy(rep->accel_bias_m_s2, xsm.ba, sizeof xsm.ba);
-        memcpy(rep->gyro_bias_rad_s, xsm.bg, sizeof xsm.bg);
-        memcpy(rep->lever_arm_body_m, xsm.l, sizeof xsm.l);
-        rep->clock_offset_s += xsm.c;
-        c_mid = xsm.c;
-        double gn = aw_v3_norm(xsm.g);
-        double up[3], ex[3] = { 1, 0, 0 }, xg[3], yg[3], Rg[3][3];
-        aw_v3_scale(up, xsm.g, -1.0 / (gn > 0 ? gn : 1));
-        double dd = aw_v3_dot(ex, up);
-        for (int a = 0; a < 3; a++) xg[a] = ex[a] - dd * up[a];
-        aw_v3_normalize(xg, xg);
-        aw_v3_cross(yg, up, xg);
-        for (int a = 0; a < 3; a++) { Rg[a][0] = xg[a]; Rg[a][1] = yg[a]; Rg[a][2] = up[a]; }
-        aw_mat_to_quat(rep->q_cam_grav, (const double (*)[3])Rg);
-      }
-      /* Undo this sample's updates (last first), then step back through F. */
+      nom_diff(&xsm, &xpri[q], dn);
+      memcpy(varn, ksig2, sizeof varn);
+      inext = ii;
+      /* Undo this node's updates (last first), then step back through the run before it. */
       for (size_t u = ustart[ii + 1]; u-- > ustart[ii];) bf_update(L, lam, &ul.v[u]);
-      if (ii > 0) {
-        Trans T;
-        if (Ts) T = Ts[ii];
-        else {
-          Nom xn;
-          nominal_step(&m, ii - 1, &xs[ii - 1], &xn, &T);
-        }
-        apply_Ft_vec(&T, lam);
-        congruence_Ft(&T, L);
+      if (q > 0) {
+        Seg sg;
+        const Seg *sp = segs ? &segs[q] : &sg;
+        if (!segs) run_transition(&m, xs, nodes[q - 1], ii, &sg);
+        apply_Ft_vec(sp, lam);
+        congruence_Ft(sp, L);
       }
     }
     free(L);
@@ -1284,7 +1419,9 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
   }
 out:
   free(fstart); free(flist); free(fstat); free(fdec); free(fres); free(xs); free(Pck); free(Pblk); free(ustart);
-  free(Ts);
+  free(segs);
+  free(nodes);
+  free(xpri);
   free(acc_v);
   free(tau);
   free(ul.v);

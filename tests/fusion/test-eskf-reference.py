@@ -18,7 +18,8 @@ per step on the lever arm, none on gravity; prior sigma_p^2 = trace(R_cam(z0)) +
 (0 here: no calibration ran). The case is random (fixed seed), not a recording:
 only the algebra is checked. Smoothed keypoint position p + R l, velocity, keypoint sigma and the
 accelerometer bias at the middle sample must agree to 1e-9 relative (floating-point
-reassociation only). Exit 77 when numpy is absent."""
+reassociation only) at the samples where the engine forms its covariance, and to the bounds of
+its interpolation in between (see below). Exit 77 when numpy is absent."""
 import os
 import subprocess
 import sys
@@ -70,103 +71,138 @@ zc = pos[cam_idx] + lever_true @ R.T
 zc[:, :2] += rng.normal(0, 1, (len(cam_idx), 2)) * (cxy * zc[:, 2:3])
 zc[:, 2] += rng.normal(0, 1, len(cam_idx)) * cz * zc[:, 2] ** 2
 
-with tempfile.TemporaryDirectory() as tmp:
-    path = os.path.join(tmp, "case.txt")
-    with open(path, "w") as fp:
-        fp.write(f"{n} {len(cam_idx)} {dt!r} {cam_every * dt!r}\n")
-        fp.write(" ".join(repr(float(v)) for v in list(q) + list(g_nom)) + "\n")
-        fp.write(" ".join(repr(float(v)) for v in (sa, sba, ba_init, cxy, cz, zs, ls)) + "\n")
-        for i in range(n):
-            fp.write(f"{t[i]!r} {f[i, 0]!r} {f[i, 1]!r} {f[i, 2]!r} {still[i]}\n")
-        for j, i in enumerate(cam_idx):
-            fp.write(f"{t[i]!r} {zc[j, 0]!r} {zc[j, 1]!r} {zc[j, 2]!r}\n")
-    out = subprocess.run([helper, path], capture_output=True, text=True)
-if out.returncode != 0:
-    print(out.stderr)
-    sys.exit(1)
-lines = out.stdout.split("\n")
-eng = np.array([[float(v) for v in lines[i].split()] for i in range(n)])
-ba_eng = np.array([float(v) for v in lines[n].split()[1:]])
+def run_case(sba):
+    """Engine output and the reference for a bias random-walk density sba."""
+    with tempfile.TemporaryDirectory() as tmp:
+        path = os.path.join(tmp, "case.txt")
+        with open(path, "w") as fp:
+            fp.write(f"{n} {len(cam_idx)} {dt!r} {cam_every * dt!r}\n")
+            fp.write(" ".join(repr(float(v)) for v in list(q) + list(g_nom)) + "\n")
+            fp.write(" ".join(repr(float(v)) for v in (sa, sba, ba_init, cxy, cz, zs, ls)) + "\n")
+            for i in range(n):
+                fp.write(f"{t[i]!r} {f[i, 0]!r} {f[i, 1]!r} {f[i, 2]!r} {still[i]}\n")
+            for j, i in enumerate(cam_idx):
+                fp.write(f"{t[i]!r} {zc[j, 0]!r} {zc[j, 1]!r} {zc[j, 2]!r}\n")
+        out = subprocess.run([helper, path], capture_output=True, text=True)
+    if out.returncode != 0:
+        print(out.stderr)
+        sys.exit(1)
+    lines = out.stdout.split("\n")
+    eng = np.array([[float(v) for v in lines[i].split()] for i in range(n)])
+    ba_eng = np.array([float(v) for v in lines[n].split()[1:]])
 
-# Reference: state [p, v, l, ba, dg] (15), textbook Kalman filter (Joseph form) + RTS.
-I3, Z3 = np.eye(3), np.zeros((3, 3))
-def cam_R(zm):
-    zz = max(zm[2], 0.1)
-    return np.diag([(cxy * zz) ** 2, (cxy * zz) ** 2, (cz * zz * zz) ** 2])
-H_cam = np.hstack([I3, Z3, R, Z3, Z3])
-H_zupt = np.hstack([Z3, I3, Z3, Z3, Z3])
-F = np.block([[I3, dt * I3, Z3, -0.5 * dt * dt * R, 0.5 * dt * dt * I3],
-              [Z3, I3, Z3, -dt * R, dt * I3],
-              [Z3, Z3, I3, Z3, Z3], [Z3, Z3, Z3, I3, Z3], [Z3, Z3, Z3, Z3, I3]])
-qv = sa * sa * dt
-Q = np.zeros((15, 15))
-Q[0:3, 0:3] = qv * dt * dt / 3 * I3
-Q[0:3, 3:6] = Q[3:6, 0:3] = qv * dt / 2 * I3
-Q[3:6, 3:6] = qv * I3
-Q[6:9, 6:9] = 1e-12 * I3
-Q[9:12, 9:12] = sba * sba * dt * I3
+    # Reference: state [p, v, l, ba, dg] (15), textbook Kalman filter (Joseph form) + RTS.
+    I3, Z3 = np.eye(3), np.zeros((3, 3))
+    def cam_R(zm):
+        zz = max(zm[2], 0.1)
+        return np.diag([(cxy * zz) ** 2, (cxy * zz) ** 2, (cz * zz * zz) ** 2])
+    H_cam = np.hstack([I3, Z3, R, Z3, Z3])
+    H_zupt = np.hstack([Z3, I3, Z3, Z3, Z3])
+    F = np.block([[I3, dt * I3, Z3, -0.5 * dt * dt * R, 0.5 * dt * dt * I3],
+                  [Z3, I3, Z3, -dt * R, dt * I3],
+                  [Z3, Z3, I3, Z3, Z3], [Z3, Z3, Z3, I3, Z3], [Z3, Z3, Z3, Z3, I3]])
+    qv = sa * sa * dt
+    Q = np.zeros((15, 15))
+    Q[0:3, 0:3] = qv * dt * dt / 3 * I3
+    Q[0:3, 3:6] = Q[3:6, 0:3] = qv * dt / 2 * I3
+    Q[3:6, 3:6] = qv * I3
+    Q[6:9, 6:9] = 1e-12 * I3
+    Q[9:12, 9:12] = sba * sba * dt * I3
 
-def update(xx, P, Hm, Rm, r):
-    S = Hm @ P @ Hm.T + Rm
-    K = np.linalg.solve(S, Hm @ P).T
-    A = np.eye(15) - K @ Hm
-    return xx + K @ r, A @ P @ A.T + K @ Rm @ K.T
+    def update(xx, P, Hm, Rm, r):
+        S = Hm @ P @ Hm.T + Rm
+        K = np.linalg.solve(S, Hm @ P).T
+        A = np.eye(15) - K @ Hm
+        return xx + K @ r, A @ P @ A.T + K @ Rm @ K.T
 
-cam_at = {i: j for j, i in enumerate(cam_idx)}
-xx = np.zeros(15)
-xx[0:3] = zc[0]
-R0 = cam_R(zc[0])
-P = np.diag([np.trace(R0) + 1e-4] * 3 + [0.05 ** 2 if still[0] else 1.5 ** 2] * 3 + [ls * ls] * 3
-            + [ba_init ** 2] * 3 + [ba_init ** 2] * 3)
+    cam_at = {i: j for j, i in enumerate(cam_idx)}
+    xx = np.zeros(15)
+    xx[0:3] = zc[0]
+    R0 = cam_R(zc[0])
+    P = np.diag([np.trace(R0) + 1e-4] * 3 + [0.05 ** 2 if still[0] else 1.5 ** 2] * 3 + [ls * ls] * 3
+                + [ba_init ** 2] * 3 + [ba_init ** 2] * 3)
+    zupt_every = max(1, round(0.02 / dt))
+    xf, Pf, xp, Pp = [], [], [None], [None]
+    for i in range(n):
+        if i > 0:
+            u = np.zeros(15)
+            u[0:3] = dt * dt * (R @ f[i - 1] / 3 + R @ f[i] / 6 + g_nom / 2)
+            u[3:6] = dt * (R @ (f[i - 1] + f[i]) / 2 + g_nom)
+            xx = F @ xx + u
+            P = F @ P @ F.T + Q
+            xp.append(xx.copy())
+            Pp.append(P.copy())
+        if still[i] and i % zupt_every == 0:
+            xx, P = update(xx, P, H_zupt, zs * zs * I3, -xx[3:6])
+        if i in cam_at:
+            zm = zc[cam_at[i]]
+            xx, P = update(xx, P, H_cam, cam_R(zm), zm - H_cam @ xx)
+        xf.append(xx.copy())
+        Pf.append(P.copy())
+    xs, Ps = [None] * n, [None] * n
+    xs[-1], Ps[-1] = xf[-1], Pf[-1]
+    for k in range(n - 2, -1, -1):
+        C = np.linalg.solve(Pp[k + 1], F @ Pf[k]).T      # Pf F^T Pp^-1 (Pp symmetric)
+        xs[k] = xf[k] + C @ (xs[k + 1] - xp[k + 1])
+        Ps[k] = Pf[k] + C @ (Ps[k + 1] - Pp[k + 1]) @ C.T
+    J = np.hstack([I3, Z3, R, Z3, Z3])
+    ref_pos = np.array([J @ s for s in xs])
+    ref_vel = np.array([s[3:6] for s in xs])
+    ref_sig = np.array([np.sqrt(np.diag(J @ S @ J.T)) for S in Ps])
+    flt_pos = np.array([J @ s for s in xf])
+    ref_ba = xs[n // 2][9:12]
+    return eng, ba_eng, ref_pos, ref_vel, ref_sig, flt_pos, ref_ba
+
+
+# The engine forms the covariance only at nodes (eskf.c, "Nodes"): every sample with a camera
+# frame or a zero-velocity update, the first and the last, and at least one per camera interval.
+# There its algebra is exact: with no bias random walk it must agree to 1e-9 relative
+# (floating-point reassociation only). With the walk (sba above) eskf.c leaves out the walk's
+# coupling into velocity inside a run (below 1e-13 m^2/s^2), which moves the node values by
+# about 1e-7 relative: 1e-6 there. Between nodes the smoother's correction and variance are
+# interpolated linearly; there the path may differ by micrometres (1e-5 of its range, 300 mm
+# here: 3 um, three orders below the camera's noise), the velocity by 1e-6 of its range and the
+# sigma by 0.1 %.
 zupt_every = max(1, round(0.02 / dt))
-xf, Pf, xp, Pp = [], [], [None], [None]
+max_run = int(np.ceil(cam_every - 1e-9))
+base = set(cam_idx) | {0, n - 1} | {i for i in range(n) if still[i] and i % zupt_every == 0}
+node = np.zeros(n, dtype=bool)
+last = 0
 for i in range(n):
-    if i > 0:
-        u = np.zeros(15)
-        u[0:3] = dt * dt * (R @ f[i - 1] / 3 + R @ f[i] / 6 + g_nom / 2)
-        u[3:6] = dt * (R @ (f[i - 1] + f[i]) / 2 + g_nom)
-        xx = F @ xx + u
-        P = F @ P @ F.T + Q
-        xp.append(xx.copy())
-        Pp.append(P.copy())
-    if still[i] and i % zupt_every == 0:
-        xx, P = update(xx, P, H_zupt, zs * zs * I3, -xx[3:6])
-    if i in cam_at:
-        zm = zc[cam_at[i]]
-        xx, P = update(xx, P, H_cam, cam_R(zm), zm - H_cam @ xx)
-    xf.append(xx.copy())
-    Pf.append(P.copy())
-xs, Ps = [None] * n, [None] * n
-xs[-1], Ps[-1] = xf[-1], Pf[-1]
-for k in range(n - 2, -1, -1):
-    C = np.linalg.solve(Pp[k + 1], F @ Pf[k]).T      # Pf F^T Pp^-1 (Pp symmetric)
-    xs[k] = xf[k] + C @ (xs[k + 1] - xp[k + 1])
-    Ps[k] = Pf[k] + C @ (Ps[k + 1] - Pp[k + 1]) @ C.T
-J = np.hstack([I3, Z3, R, Z3, Z3])
-ref_pos = np.array([J @ s for s in xs])
-ref_vel = np.array([s[3:6] for s in xs])
-ref_sig = np.array([np.sqrt(np.diag(J @ S @ J.T)) for S in Ps])
-flt_pos = np.array([J @ s for s in xf])
-ref_ba = xs[n // 2][9:12]
+    if i in base or i - last >= max_run:
+        node[i] = True
+        last = i
+mid = ~node
+print(f"{int(node.sum())} nodes of {n} samples")
+ok = int(mid.sum()) > n // 2    # the case must exercise the interpolation
 
-tol = 1e-9
+
 def rel(a, b, scale):
     return float(np.max(np.abs(a - b)) / scale)
-checks = [
-    ("keypoint position", rel(eng[:, 0:3], ref_pos, np.max(np.abs(ref_pos)))),
-    ("velocity", rel(eng[:, 3:6], ref_vel, np.max(np.abs(ref_vel)))),
-    ("position sigma", float(np.max(np.abs(eng[:, 6:9] / ref_sig - 1)))),
-    ("accelerometer bias (middle)", rel(ba_eng, ref_ba, np.max(np.abs(ref_ba)))),
-]
-ok = True
-for name, e in checks:
-    good = e <= tol
-    ok = ok and good
-    print(f"{name}: relative difference {e:.2e} (limit {tol:.0e}) {'ok' if good else 'FAIL'}")
+
+
+for walk, tol in ((0.0, 1e-9), (sba, 1e-6)):
+    eng, ba_eng, ref_pos, ref_vel, ref_sig, flt_pos, ref_ba = run_case(walk)
+    pscale, vscale = np.max(np.abs(ref_pos)), np.max(np.abs(ref_vel))
+    checks = [
+        ("keypoint position at nodes", rel(eng[node, 0:3], ref_pos[node], pscale), tol),
+        ("velocity at nodes", rel(eng[node, 3:6], ref_vel[node], vscale), tol),
+        ("position sigma at nodes", float(np.max(np.abs(eng[node, 6:9] / ref_sig[node] - 1))), tol),
+        ("keypoint position between nodes", rel(eng[mid, 0:3], ref_pos[mid], pscale), 1e-5),
+        ("velocity between nodes", rel(eng[mid, 3:6], ref_vel[mid], vscale), 1e-6),
+        ("position sigma between nodes", float(np.max(np.abs(eng[mid, 6:9] / ref_sig[mid] - 1))), 1e-3),
+        ("accelerometer bias (middle sample%s)" % ("" if node[n // 2] else ", between nodes"),
+         rel(ba_eng, ref_ba, np.max(np.abs(ref_ba))), tol if node[n // 2] else 1e-5),
+    ]
+    print(f"bias random walk {walk:g} m/s^2/sqrt(Hz):")
+    for name, e, lim in checks:
+        good = e <= lim
+        ok = ok and good
+        print(f"  {name}: relative difference {e:.2e} (limit {lim:.0e}) {'ok' if good else 'FAIL'}")
 # The check must be able to tell smoothing from filtering: the forward-only path is far off.
 sep = rel(flt_pos, ref_pos, np.max(np.abs(ref_pos)))
-print(f"filtered vs smoothed reference: {sep:.2e} (must exceed {1e3 * tol:.0e})")
-ok = ok and sep > 1e3 * tol
+print(f"filtered vs smoothed reference: {sep:.2e} (must exceed 1e-6)")
+ok = ok and sep > 1e-6
 # And the smoothed path follows the truth (the case is a sensible one).
 rmse = float(np.sqrt(np.mean(np.sum((ref_pos - (pos + lever_true @ R.T)) ** 2, axis=1))))
 print(f"reference smoothed keypoint RMSE against the truth: {rmse * 1000:.2f} mm")
