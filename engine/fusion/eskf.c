@@ -184,10 +184,11 @@ seg_append(Seg *S, const Trans *T)
   S->dt += dt;
 }
 
-/* rows M[r0..r0+2][*] += B^T X, X three rows (of M itself: the caller orders the calls so that
- * X is not yet changed). */
+/* rows M[r0..r0+2][*] += B^T X, X three other rows of M (restrict: the rows read are not
+ * written here; the caller orders the calls so that X is not yet changed). */
 static inline void
-rows_addmul_t(double M[][NS], int r0, const double B[3][3], const double (*X)[NS])
+rows_addmul_t(double (*restrict M)[NS], int r0, const double B[3][3],
+              const double (*restrict X)[NS])
 {
   for (int c = 0; c < NS; c++) {
     double x0 = X[0][c], x1 = X[1][c], x2 = X[2][c];
@@ -899,6 +900,64 @@ run_transition(const Model *m, const Nom *xs, size_t i0, size_t i1, Seg *sg)
   }
 }
 
+/* One pass's result, kept while later passes run (see "Several passes" below). */
+typedef struct {
+  double *t_s, (*pos)[3], (*vel)[3], (*q)[4], (*sig)[3];
+  uint32_t *flags;
+  unsigned char *fstat;
+  AwFusionReport rep;
+} PassResult;
+
+static void
+pass_result_free(PassResult *r)
+{
+  free(r->t_s); free(r->pos); free(r->vel); free(r->q); free(r->sig); free(r->flags); free(r->fstat);
+  memset(r, 0, sizeof *r);
+}
+
+/* Copies the path's per-sample output, the report and the frames' status into r (allocated on
+ * first use); restore copies them back. */
+static bool
+pass_result_save(PassResult *r, const AwFusedPath *path, const unsigned char *fstat, size_t ncam)
+{
+  size_t n = path->n ? path->n : 1, nc = ncam ? ncam : 1;
+  if (!r->t_s) {
+    r->t_s = malloc(sizeof *r->t_s * n);
+    r->pos = malloc(sizeof *r->pos * n);
+    r->vel = malloc(sizeof *r->vel * n);
+    r->q = malloc(sizeof *r->q * n);
+    r->sig = malloc(sizeof *r->sig * n);
+    r->flags = malloc(sizeof *r->flags * n);
+    r->fstat = malloc(nc);
+    if (!r->t_s || !r->pos || !r->vel || !r->q || !r->sig || !r->flags || !r->fstat) {
+      pass_result_free(r);
+      return false;
+    }
+  }
+  memcpy(r->t_s, path->t_s, sizeof *r->t_s * path->n);
+  memcpy(r->pos, path->pos_cam_m, sizeof *r->pos * path->n);
+  memcpy(r->vel, path->vel_cam_m_s, sizeof *r->vel * path->n);
+  memcpy(r->q, path->q_cam_body, sizeof *r->q * path->n);
+  memcpy(r->sig, path->pos_sigma_cam_m, sizeof *r->sig * path->n);
+  memcpy(r->flags, path->flags, sizeof *r->flags * path->n);
+  memcpy(r->fstat, fstat, ncam);
+  r->rep = path->report;
+  return true;
+}
+
+static void
+pass_result_restore(const PassResult *r, AwFusedPath *path, unsigned char *fstat, size_t ncam)
+{
+  memcpy(path->t_s, r->t_s, sizeof *r->t_s * path->n);
+  memcpy(path->pos_cam_m, r->pos, sizeof *r->pos * path->n);
+  memcpy(path->vel_cam_m_s, r->vel, sizeof *r->vel * path->n);
+  memcpy(path->q_cam_body, r->q, sizeof *r->q * path->n);
+  memcpy(path->pos_sigma_cam_m, r->sig, sizeof *r->sig * path->n);
+  memcpy(path->flags, r->flags, sizeof *r->flags * path->n);
+  memcpy(fstat, r->fstat, ncam);
+  path->report = r->rep;
+}
+
 AwStatus
 aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau_in, const AwCamPrep *cam,
                    const AwFusionSettings *s, double g, const AwCalib *cal, AwFusedPath *path,
@@ -967,6 +1026,7 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
   Seg *segs = B == 1 ? malloc(sizeof *segs * (n ? n : 1)) : NULL;
   size_t *ustart = calloc(n + 1, sizeof *ustart);
   UpdList ul = { 0 };
+  PassResult kept = { 0 };   /* the best pass so far, while later passes run */
   AwStatus st = AW_OK;
   if (!fstart || !flist || !fstat || !fdec || !fres || !xs || !Pck || !Pblk || !ustart || !acc_v ||
       !nodes || !xpri || (B == 1 && !segs)) { st = AW_ERR_NO_MEMORY; goto out; }
@@ -983,13 +1043,18 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
    * A pass that leaves out a snapped frame moves the smoothed path towards the true one, which
    * can reveal further frames in the same occlusion that disagree, so the selection is repeated
    * to a fixed point: until the kept set stops changing, at most AW_FUSION_MAX_REPASS times.
-   * Near the fixed point each pass changes few frames; a pass that would change more than twice
-   * as many as the one before plus a second's worth of frames is running away (seen in a long
-   * still recording whose smoothed path, after a clock error, drifted from the frames and each
-   * pass left out more of them, tens of metres in the end), so the last pass's result stands. */
+   * A pass can also make things worse: in a long still recording whose smoothed path, after a
+   * clock error, drifted from the frames, each pass left out more of them (tens of metres in
+   * the end); on hard swings a pass sometimes lands in a worse basin and the next climbs out.
+   * So the result is the pass whose smoothed path agrees with the most camera frames (chi-square
+   * gate on the residual as above; ties: the later pass), not simply the last one. (A rule that
+   * stopped when a pass changed more than twice as many frames as the one before plus a
+   * second's worth cut off passes that would have recovered: held-out seeds 9000, 60 swings,
+   * RMSE p90 2.24 -> 1.87 cm without it.) */
   const int n_pass = use_cam ? 1 + AW_FUSION_MAX_REPASS : 1;
-  size_t prev_changed = SIZE_MAX;
   double c_mid = 0;
+  size_t agree_best = 0, agree_last = 0;   /* frames agreeing with a pass's smoothed path */
+  bool have_best = false;
   for (int pass = 0; pass < n_pass; pass++) {
   if (pass > 0) {
     /* Only if the smoothed path disagrees with a forward decision, or the first pass had to
@@ -1002,8 +1067,12 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
       if (keep != (fstat[k] == FR_ACCEPTED)) changed++;
     }
     if (changed == 0 && rep->gate_recoveries == 0) break;
-    if (pass > 1 && (double)changed > 2.0 * (double)prev_changed + 1.0 / cam->dt_nom_s) break;
-    prev_changed = changed;
+    /* This pass overwrites the last one's result: keep that if it is the best so far. */
+    if (!have_best || agree_last >= agree_best) {
+      if (!pass_result_save(&kept, path, fstat, cam->n)) { st = AW_ERR_NO_MEMORY; goto out; }
+      agree_best = agree_last;
+      have_best = true;
+    }
     /* This pass runs: the grid moves by the last pass's clock correction (see below). */
     clock_moved = move_next;
     if (clock_moved != 0) {
@@ -1335,7 +1404,7 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
         }
       }
       write_sample(&m, path, ii, &xsm, R, Rl, ksig2);
-      if (use_cam && pass + 1 < n_pass) frame_residuals(&m, cam, fstart, flist, ii, &xsm, ksig2, fres);
+      if (use_cam) frame_residuals(&m, cam, fstart, flist, ii, &xsm, ksig2, fres);
       if (ii == imid) report_mid(rep, &xsm, &c_mid);
       /* The samples up to the next node: their nominal states continue this node's without an
        * update, so the correction moves linearly from this node's to the next one's (relative
@@ -1351,7 +1420,7 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
           aw_mat_mul_v3(Rlj, (const double (*)[3])Rj, xj.l);
           write_sample(&m, path, j, &xj, Rj, Rlj, vj);
           /* Frames left out of this pass fall between nodes: they are judged here. */
-          if (use_cam && pass + 1 < n_pass) frame_residuals(&m, cam, fstart, flist, j, &xj, vj, fres);
+          if (use_cam) frame_residuals(&m, cam, fstart, flist, j, &xj, vj, fres);
           if (j == imid) report_mid(rep, &xj, &c_mid);
         }
       nom_diff(&xsm, &xpri[q], dn);
@@ -1384,7 +1453,11 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
   move_next = 0;
   if (use_cam && pass + 1 < n_pass && fabs(c_mid) > 0.25 * imu->dt_nom_s && fabs(c_mid) < 0.5)
     move_next = c_mid;
+  agree_last = 0;
+  for (size_t k = 0; k < cam->n; k++)
+    if ((fstat[k] == FR_ACCEPTED || fstat[k] == FR_REJECTED) && (double)fres[k] <= s->gate_chi2) agree_last++;
   }   /* passes */
+  if (have_best && agree_last < agree_best) pass_result_restore(&kept, path, fstat, cam->n);
 
   /* Per-sample camera status from the frame nearest the sample's output time (its time on
    * the camera's clock, the grid plus the smoothed clock correction). */
@@ -1420,6 +1493,7 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
 out:
   free(fstart); free(flist); free(fstat); free(fdec); free(fres); free(xs); free(Pck); free(Pblk); free(ustart);
   free(segs);
+  pass_result_free(&kept);
   free(nodes);
   free(xpri);
   free(acc_v);
