@@ -1047,7 +1047,8 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
    * clock error, drifted from the frames, each pass left out more of them (tens of metres in
    * the end); on hard swings a pass sometimes lands in a worse basin and the next climbs out.
    * So the result is the pass whose smoothed path agrees with the most camera frames (chi-square
-   * gate on the residual as above; ties: the later pass), not simply the last one. (A rule that
+   * gate on the residual as above; ties: the later pass; a pass that re-anchored only when no
+   * other ran), not simply the last one. (A rule that
    * stopped when a pass changed more than twice as many frames as the one before plus a
    * second's worth cut off passes that would have recovered: held-out seeds 9000, 60 swings,
    * RMSE p90 2.24 -> 1.87 cm without it.) */
@@ -1067,8 +1068,11 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
       if (keep != (fstat[k] == FR_ACCEPTED)) changed++;
     }
     if (changed == 0 && rep->gate_recoveries == 0) break;
-    /* This pass overwrites the last one's result: keep that if it is the best so far. */
-    if (!have_best || agree_last >= agree_best) {
+    /* This pass overwrites the last one's result: keep that if it is the best so far. A pass
+     * that re-anchored is no candidate: its smoothed path across the re-anchoring is not one
+     * estimate (the covariance was opened by hand there), and its forward gate, not the
+     * smoothed path, chose its frames. */
+    if (rep->gate_recoveries == 0 && (!have_best || agree_last >= agree_best)) {
       if (!pass_result_save(&kept, path, fstat, cam->n)) { st = AW_ERR_NO_MEMORY; goto out; }
       agree_best = agree_last;
       have_best = true;
@@ -1457,7 +1461,8 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
   for (size_t k = 0; k < cam->n; k++)
     if ((fstat[k] == FR_ACCEPTED || fstat[k] == FR_REJECTED) && (double)fres[k] <= s->gate_chi2) agree_last++;
   }   /* passes */
-  if (have_best && agree_last < agree_best) pass_result_restore(&kept, path, fstat, cam->n);
+  if (have_best && (agree_last < agree_best || rep->gate_recoveries > 0))
+    pass_result_restore(&kept, path, fstat, cam->n);
 
   /* Per-sample camera status from the frame nearest the sample's output time (its time on
    * the camera's clock, the grid plus the smoothed clock correction). */

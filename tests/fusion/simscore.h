@@ -13,6 +13,7 @@
 typedef struct {
   double rmse_motion_m;     /* takeaway .. follow-through */
   double rmse_occl_m;       /* inside occlusion windows (NAN if none) */
+  double rmse_finish_m;     /* the finish pose, held after the follow-through (NAN if none) */
   double base_occl_m;       /* depth-only baseline (valid frames linearly interpolated) */
   double offset_err_s;
   double coverage2;         /* per-axis share of |error| <= 2 sigma over the motion */
@@ -36,8 +37,8 @@ aw_simscore(const AwSim *sim, const AwFusedPath *p, AwSimScore *sc)
 {
   const AwSimTruth *tr = aw_sim_truth(sim);
   const AwDepthStream *d = aw_sim_depth(sim);
-  double sm = 0, so = 0, sb = 0;
-  size_t nm = 0, no = 0, cov = 0, cov1 = 0, covn = 0, hint = 0;
+  double sm = 0, so = 0, sb = 0, sf = 0;
+  size_t nf = 0, nm = 0, no = 0, cov = 0, cov1 = 0, covn = 0, hint = 0;
   memset(sc, 0, sizeof *sc);
   for (size_t i = 0; i < p->n; i++) {
     double t = p->t_s[i];
@@ -49,6 +50,7 @@ aw_simscore(const AwSim *sim, const AwFusedPath *p, AwSimScore *sc)
       e2 += e * e;
     }
     bool motion = st.phase >= AW_SIM_PHASE_TAKEAWAY && st.phase <= AW_SIM_PHASE_FOLLOW_THROUGH;
+    if (st.phase == AW_SIM_PHASE_FINISH) { sf += e2; nf++; }
     bool occl = false;
     for (size_t o = 0; o < tr->n_occlusions; o++)
       if (t >= tr->occlusions[o].t0_s && t < tr->occlusions[o].t1_s) occl = true;
@@ -92,6 +94,7 @@ aw_simscore(const AwSim *sim, const AwFusedPath *p, AwSimScore *sc)
   }
   sc->rmse_motion_m = nm ? sqrt(sm / (double)nm) : (double)NAN;
   sc->rmse_occl_m = no ? sqrt(so / (double)no) : (double)NAN;
+  sc->rmse_finish_m = nf ? sqrt(sf / (double)nf) : (double)NAN;
   sc->base_occl_m = no ? sqrt(sb / (double)no) : (double)NAN;
   sc->n_motion = nm;
   sc->n_occl = no;

@@ -10,6 +10,8 @@
  *   clock offset error: median <= 2 ms;
  *   truth inside the reported +-2 sigma band: 90 to 99 % of samples per axis (a Gaussian puts
  *   95.45 % inside +-2 sigma, standard normal table, e.g. Abramowitz & Stegun 26.2).
+ * And the held finish pose, in clear view after the swing: RMSE median <= 1 cm over all swings
+ * and over the hard ones (our floor, from the camera's noise; see below).
  * And a consistency check in the spirit of Bar-Shalom, Li & Kirubarajan (2001, section 5.4: a
  * consistent estimator's normalised errors follow the distribution its covariance claims):
  * inside +-1 sigma 55 to 85 % (Gaussian 68.27 %, same table; the margin for the heavier tails
@@ -52,7 +54,9 @@ main(int argc, char **argv)
   double *rm = calloc((size_t)n, sizeof *rm), *ro = calloc((size_t)n, sizeof *ro),
          *rb = calloc((size_t)n, sizeof *rb), *oe = calloc((size_t)n, sizeof *oe);
   if (!rm || !ro || !rb || !oe) return 1;
-  int m = 0, no = 0, fails = 0;
+  double *rf = calloc((size_t)n, sizeof *rf), *rfh = calloc((size_t)n, sizeof *rfh);
+  if (!rf || !rfh) return 1;
+  int m = 0, no = 0, fails = 0, nf = 0, nfh = 0;
   double cov = 0, cov1 = 0;
   for (int i = 0; i < n; i++) {
     AwSimLevel L = lv[i % nl];
@@ -78,8 +82,13 @@ main(int argc, char **argv)
     AwSimScore sc;
     aw_simscore(sim, p, &sc);
     fprintf(stderr, "swing %2d %-6s RMSE %.2f cm, occluded %.2f cm (baseline %.2f), clock %+.2f ms, "
-            "2-sigma %.1f %%\n", i, aw_sim_level_name(L), 100 * sc.rmse_motion_m,
-            100 * sc.rmse_occl_m, 100 * sc.base_occl_m, 1e3 * sc.offset_err_s, 100 * sc.coverage2);
+            "2-sigma %.1f %%, finish %.2f cm\n", i, aw_sim_level_name(L), 100 * sc.rmse_motion_m,
+            100 * sc.rmse_occl_m, 100 * sc.base_occl_m, 1e3 * sc.offset_err_s, 100 * sc.coverage2,
+            100 * sc.rmse_finish_m);
+    if (isfinite(sc.rmse_finish_m)) {
+      rf[nf++] = sc.rmse_finish_m;
+      if (L == AW_SIM_HARD) rfh[nfh++] = sc.rmse_finish_m;
+    }
     rm[m] = sc.rmse_motion_m;
     oe[m] = fabs(sc.offset_err_s);
     cov += sc.coverage2;
@@ -102,7 +111,19 @@ main(int argc, char **argv)
             "ratio %.3f; clock median %.2f ms; 2-sigma %.1f %% (1-sigma %.1f %%, Gaussian 68.3)\n",
             levels, m, 100 * med, 100 * p90, 100 * omed, omed / bmed, 1e3 * cmed, 100 * c2,
             100 * cov1 / m);
+    /* The finish pose, held in clear view after the swing: the camera alone places a still
+     * wrist within millimetres there (REFERENCES.md section 7's depth noise, 1.4 cm per frame
+     * at 3 m, averaged over the second the pose is held), so the fused path must be within 1 cm
+     * (median), on the hard swings too, where the accelerometer clipped at impact just before. */
+    qsort(rf, (size_t)nf, sizeof *rf, cmp_d);
+    qsort(rfh, (size_t)nfh, sizeof *rfh, cmp_d);
+    if (nf > 0)
+      fprintf(stderr, "held finish: RMSE median %.2f cm over %d swings, hard %.2f cm over %d, worst %.2f cm\n",
+              100 * rf[nf / 2], nf, nfh ? 100 * rfh[nfh / 2] : (double)NAN, nfh, 100 * rf[nf - 1]);
     if (sig_scale == 1.0) {
+      AW_CHECK(nf >= 3);
+      AW_CHECK(nf >= 3 && rf[nf / 2] <= 0.01);
+      AW_CHECK(nfh == 0 || rfh[nfh / 2] <= 0.01);
       AW_CHECK(med <= 0.015);
       AW_CHECK(p90 <= 0.03);
       AW_CHECK(omed <= 0.02);
@@ -112,6 +133,6 @@ main(int argc, char **argv)
     AW_CHECK(c2 >= 0.90 && c2 <= 0.99);
     AW_CHECK(cov1 / m >= 0.55 && cov1 / m <= 0.85);
   }
-  free(rm); free(ro); free(rb); free(oe);
+  free(rm); free(ro); free(rb); free(oe); free(rf); free(rfh);
   return AW_TEST_END();
 }
