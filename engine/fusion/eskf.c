@@ -496,22 +496,27 @@ inv3(double A[3][3], double Ai[3][3])
   return true;
 }
 
-/* HP = H P (3 x NS); S = H P H^T + R. */
+/* HP = H P (3 x NS); S = H P H^T + R, for the camera's H (cam_predict): on the position
+ * columns the identity, on the velocity columns e times it, then the attitude, lever-arm and
+ * clock columns. The products with H's structural zeros and ones are left out; the remaining
+ * terms are summed in the order of the general form, whose values this gives exactly. */
 static void
 innov_cov(double P[NS][NS], double Hb[3][NH], double R[3][3],
           double HP[3][NS], double S[3][3])
 {
-  for (int r = 0; r < 3; r++)
-    for (int c = 0; c < NS; c++) {
-      double acc = 0;
-      for (int k = 0; k < NH; k++) acc += Hb[r][k] * P[k][c];
-      HP[r][c] = acc;
-    }
+  for (int r = 0; r < 3; r++) {
+    const double *h = Hb[r];
+    for (int c = 0; c < NS; c++)
+      HP[r][c] = P[IP + r][c] + h[IV + r] * P[IV + r][c] + h[IT] * P[IT][c] +
+                 h[IT + 1] * P[IT + 1][c] + h[IT + 2] * P[IT + 2][c] + h[IL] * P[IL][c] +
+                 h[IL + 1] * P[IL + 1][c] + h[IL + 2] * P[IL + 2][c] + h[IC] * P[IC][c];
+  }
   for (int r = 0; r < 3; r++)
     for (int c = 0; c < 3; c++) {
-      double acc = 0;
-      for (int k = 0; k < NH; k++) acc += HP[r][k] * Hb[c][k];
-      S[r][c] = acc + R[r][c];
+      const double *h = Hb[c], *x = HP[r];
+      S[r][c] = x[IP + c] + h[IV + c] * x[IV + c] + h[IT] * x[IT] + h[IT + 1] * x[IT + 1] +
+                h[IT + 2] * x[IT + 2] + h[IL] * x[IL] + h[IL + 1] * x[IL + 1] +
+                h[IL + 2] * x[IL + 2] + h[IC] * x[IC] + R[r][c];
     }
   for (int r = 0; r < 3; r++)
     for (int c = r + 1; c < 3; c++) { double a = 0.5 * (S[r][c] + S[c][r]); S[r][c] = a; S[c][r] = a; }
@@ -775,18 +780,35 @@ bf_update(double L[NS][NS], double l[NS], Upd *u)
       M[r][c] = acc + u->Sinv[r][c];
     }
   (void)KLK;
-  /* (Lambda K) H : NS x NH block */
+  /* (Lambda K) H : NS x NH block; H is the camera's (innov_cov): on its position and velocity
+   * columns one non-zero per column (1 and e), whose single products are the general sums. */
   double LKH[NS][NH];
-  for (int r = 0; r < NS; r++)
-    for (int k = 0; k < NH; k++)
-      LKH[r][k] = LK[r][0] * u->Hb[0][k] + LK[r][1] * u->Hb[1][k] + LK[r][2] * u->Hb[2][k];
+  const double (*H)[NH] = (const double (*)[NH])u->Hb;
+  for (int r = 0; r < NS; r++) {
+    for (int j = 0; j < 3; j++) {
+      LKH[r][IP + j] = LK[r][j];
+      LKH[r][IV + j] = LK[r][j] * H[j][IV + j];
+    }
+    for (int k = IT; k < NH; k++)
+      LKH[r][k] = LK[r][0] * H[0][k] + LK[r][1] * H[1][k] + LK[r][2] * H[2][k];
+  }
   double HMH[NH][NH], MH[3][NH];
-  for (int r = 0; r < 3; r++)
-    for (int k = 0; k < NH; k++)
-      MH[r][k] = M[r][0] * u->Hb[0][k] + M[r][1] * u->Hb[1][k] + M[r][2] * u->Hb[2][k];
-  for (int a = 0; a < NH; a++)
+  for (int r = 0; r < 3; r++) {
+    for (int j = 0; j < 3; j++) {
+      MH[r][IP + j] = M[r][j];
+      MH[r][IV + j] = M[r][j] * H[j][IV + j];
+    }
+    for (int k = IT; k < NH; k++)
+      MH[r][k] = M[r][0] * H[0][k] + M[r][1] * H[1][k] + M[r][2] * H[2][k];
+  }
+  for (int b = 0; b < NH; b++)
+    for (int j = 0; j < 3; j++) {
+      HMH[IP + j][b] = MH[j][b];
+      HMH[IV + j][b] = H[j][IV + j] * MH[j][b];
+    }
+  for (int a = IT; a < NH; a++)
     for (int b = 0; b < NH; b++)
-      HMH[a][b] = u->Hb[0][a] * MH[0][b] + u->Hb[1][a] * MH[1][b] + u->Hb[2][a] * MH[2][b];
+      HMH[a][b] = H[0][a] * MH[0][b] + H[1][a] * MH[1][b] + H[2][a] * MH[2][b];
   for (int r = 0; r < NS; r++)
     for (int k = 0; k < NH; k++) {
       L[r][k] -= LKH[r][k];
