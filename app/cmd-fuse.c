@@ -74,6 +74,7 @@ write_report(FILE *f, const AwFusedPath *p)
   fprintf(f, "accel_bias_m_s2: %.5f %.5f %.5f\n", r->accel_bias_m_s2[0], r->accel_bias_m_s2[1], r->accel_bias_m_s2[2]);
   fprintf(f, "gyro_bias_rad_s: %.5f %.5f %.5f\n", r->gyro_bias_rad_s[0], r->gyro_bias_rad_s[1], r->gyro_bias_rad_s[2]);
   fprintf(f, "lever_arm_body_m: %.4f %.4f %.4f\n", r->lever_arm_body_m[0], r->lever_arm_body_m[1], r->lever_arm_body_m[2]);
+  fprintf(f, "lever_arm: %s\n", r->lever_arm_held ? "held (the estimate left its prior)" : "estimated");
   fprintf(f, "still_found: %s\n", r->still_found ? "yes" : "no");
   fprintf(f, "camera_frames_used: %zu\ncamera_frames_rejected: %zu\ncamera_frames_missing: %zu\n",
           r->cam_frames_used, r->cam_frames_rejected, r->cam_frames_missing);

@@ -980,6 +980,15 @@ pass_result_restore(const PassResult *r, AwFusedPath *path, unsigned char *fstat
   path->report = r->rep;
 }
 
+void
+aw_fusion_eskf_lever0(const AwFusionSettings *s, const AwCalib *cal, double l0[3])
+{
+  memcpy(l0, s->lever_arm_body_m, sizeof s->lever_arm_body_m);
+  /* Without a measured lever arm, start from the calibration's estimate. */
+  if (cal->have_joint && aw_v3_norm(l0) == 0 && s->lever_arm_sigma_m > 0.01)
+    memcpy(l0, cal->lever_body_m, sizeof cal->lever_body_m);
+}
+
 AwStatus
 aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau_in, const AwCamPrep *cam,
                    const AwFusionSettings *s, double g, const AwCalib *cal, AwFusedPath *path,
@@ -1151,10 +1160,7 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
   memcpy(x.q, cal->q_cam_body0, sizeof x.q);
   memcpy(x.bg, cal->gyro_bias_rad_s, sizeof x.bg);
   memcpy(x.g, cal->g_cam_m_s2, sizeof x.g);
-  memcpy(x.l, m.lever, sizeof x.l);
-  /* Without a measured lever arm, start from the calibration's estimate. */
-  if (cal->have_joint && aw_v3_norm(m.lever) == 0 && s->lever_arm_sigma_m > 0.01)
-    memcpy(x.l, cal->lever_body_m, sizeof x.l);
+  aw_fusion_eskf_lever0(s, cal, x.l);
   double P[NS][NS];
   memset(P, 0, sizeof P);
   {
@@ -1214,6 +1220,8 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
     if (freeze & AW_ESKF_FREEZE_ATTITUDE)
       for (int a = 0; a < 3; a++) P[IT + a][IT + a] = P[IBG + a][IBG + a] = 0;
     if (freeze & AW_ESKF_FREEZE_CLOCK) P[IC][IC] = 0;
+    if (freeze & AW_ESKF_FREEZE_LEVER)
+      for (int a = 0; a < 3; a++) P[IL + a][IL + a] = 0;
   }
 
   /* Forward pass. */

@@ -259,8 +259,26 @@ aw_fuse(const AwImuStream *imu, const AwDepthStream *depth, const AwFusionSettin
     memcpy(rep->accel_bias_m_s2, (double[3]){ 0, 0, 0 }, sizeof rep->accel_bias_m_s2);
   } else {
     lap(times, AW_FUSION_STAGE_OUTPUT, &mark);
+    AwFusionReport rep_in = *rep;
     st = aw_fusion_eskf_run(&im, tau, &cam, s, g, &cal, path, err);
     if (st != AW_OK) goto fail;
+    /* The lever arm is a constant of how the watch sits, a few centimetres (its prior, sigma
+     * lever_arm_sigma_m per axis). A smoothed estimate outside the prior's chi-square gate is
+     * the filter explaining something else with it (seen: 28 cm on a hard swing, the path 6 cm
+     * off the camera at rest): fuse again with the starting value held. */
+    double l0[3], d2 = 0;
+    aw_fusion_eskf_lever0(s, &cal, l0);
+    for (int a = 0; a < 3; a++) {
+      double d = (rep->lever_arm_body_m[a] - l0[a]) / s->lever_arm_sigma_m;
+      d2 += d * d;
+    }
+    if (s->lever_arm_sigma_m > 0 && d2 > s->gate_chi2) {
+      *rep = rep_in;
+      memset(path->flags, 0, sizeof *path->flags * path->n);
+      st = aw_fusion_eskf_run_ext(&im, tau, &cam, s, g, &cal, AW_ESKF_FREEZE_LEVER, path, err);
+      if (st != AW_OK) goto fail;
+      rep->lever_arm_held = true;
+    }
     lap(times, AW_FUSION_STAGE_FILTER, &mark);
     if (s->mask == AW_FUSION_CAMERA_MASKED) {
       for (size_t i = 0; i < imu->n; i++) path->cam_info_share[i] = 0;

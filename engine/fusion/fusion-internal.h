@@ -175,7 +175,11 @@ AwStatus aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCam
  * attitude (attitude and gyro bias; the IMU's rotation is then taken as exact) or a known clock
  * offset. With both, a fixed attitude and camera frames on IMU sample times the filter is
  * linear-Gaussian, which is what tests/fusion/test-eskf-reference.py checks it on. */
-enum { AW_ESKF_FREEZE_ATTITUDE = 1u << 0, AW_ESKF_FREEZE_CLOCK = 1u << 1 };
+enum { AW_ESKF_FREEZE_ATTITUDE = 1u << 0, AW_ESKF_FREEZE_CLOCK = 1u << 1,
+       AW_ESKF_FREEZE_LEVER = 1u << 2 };
+/* The lever arm the filter starts from: the settings' when measured, else the calibration's
+ * joint estimate (when it ran and the prior is wide), else none. */
+void aw_fusion_eskf_lever0(const AwFusionSettings *s, const AwCalib *cal, double l0[3]);
 AwStatus aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam,
                                 const AwFusionSettings *s, double g, const AwCalib *cal,
                                 unsigned freeze, AwFusedPath *path, AwError *err);

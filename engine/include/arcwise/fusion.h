@@ -105,6 +105,8 @@ typedef struct {
   size_t imu_gaps;              /* IMU gaps bridged by the motion model */
   size_t gate_recoveries;       /* re-anchorings after long rejections */
   double lever_arm_body_m[3];   /* keypoint relative to the IMU as refined by the filter */
+  bool lever_arm_held;          /* the filter's lever arm left its prior: fused again with the
+                                   starting value held (see README, "Fusion") */
   /* Wall time of each stage of this run (monotonic clock), for benchmarks and profiling. */
   double stage_time_s[AW_FUSION_STAGE_COUNT];
   /* 1-sigma of the clock offset after the calibration's vector fit refined it (sigma_t, from
