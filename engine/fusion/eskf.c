@@ -3,9 +3,10 @@
  * positions and zero-velocity updates, then a fixed-interval smoother over the recording.
  *
  * Everything is expressed in the camera frame, so the output needs no further rotation.
- * Nominal state: IMU position p and velocity v (camera frame), attitude q_cam_body, accelerometer
- * bias ba and gyro bias bg (body frame), gravity g (camera frame). Error state (18):
- *   dp, dv, dtheta (global-frame small rotation: R = exp([dtheta]x) R_nom), dba, dbg, dg.
+ * Nominal state: IMU position p and velocity v (camera frame), attitude q_cam_body, lever arm l
+ * (keypoint relative to the IMU, body frame), clock correction c, accelerometer bias ba and gyro
+ * bias bg (body frame), gravity g (camera frame). Error state (22, in this order): dp, dv,
+ * dtheta (global-frame small rotation: R = exp([dtheta]x) R_nom), dl, dc, dba, dbg, dg.
  * The gravity error lets the filter refine the camera-to-gravity rotation found by the Wahba
  * step (a 1 degree tilt error is 0.17 m/s^2, 2 cm over half a second of occlusion).
  *
