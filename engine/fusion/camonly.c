@@ -22,28 +22,37 @@
 
 typedef struct { double x[3], P[3][3]; } Ax;
 
+/* The covariance step of predict: F P F^T + sign(dt) q Q(|dt|). F's zeros and ones are left
+ * out of the products (a product with 1 is exact and one with 0 adds nothing), so every sum is
+ * the full 3 x 3 product's, term for term in the same order, at a third of the operations. */
 static void
-predict(Ax *in, double dt, double q, Ax *out)
+predict_P(const double P[3][3], double dt, double q, double out[3][3])
 {
-  double F[3][3] = { { 1, dt, 0.5 * dt * dt }, { 0, 1, dt }, { 0, 0, 1 } };
+  double h = 0.5 * dt * dt;   /* F = { { 1, dt, h }, { 0, 1, dt }, { 0, 0, 1 } } */
   double d2 = dt * dt, d3 = d2 * dt, d4 = d3 * dt, d5 = d4 * dt;
   double Q[3][3] = { { d5 / 20, d4 / 8, d3 / 6 }, { d4 / 8, d3 / 3, d2 / 2 }, { d3 / 6, d2 / 2, dt } };
   double FP[3][3];
-  for (int r = 0; r < 3; r++) {
-    out->x[r] = 0;
-    for (int c = 0; c < 3; c++) {
-      out->x[r] += F[r][c] * in->x[c];
-      FP[r][c] = 0;
-      for (int k = 0; k < 3; k++) FP[r][c] += F[r][k] * in->P[k][c];
-    }
+  for (int c = 0; c < 3; c++) {
+    FP[0][c] = P[0][c] + dt * P[1][c] + h * P[2][c];
+    FP[1][c] = P[1][c] + dt * P[2][c];
+    FP[2][c] = P[2][c];
   }
   double sdt = dt >= 0 ? 1.0 : -1.0;   /* backward extrapolation still adds noise */
-  for (int r = 0; r < 3; r++)
-    for (int c = 0; c < 3; c++) {
-      double a = 0;
-      for (int k = 0; k < 3; k++) a += FP[r][k] * F[c][k];
-      out->P[r][c] = a + sdt * q * Q[r][c];
-    }
+  for (int r = 0; r < 3; r++) {
+    out[r][0] = FP[r][0] + dt * FP[r][1] + h * FP[r][2] + sdt * q * Q[r][0];
+    out[r][1] = FP[r][1] + dt * FP[r][2] + sdt * q * Q[r][1];
+    out[r][2] = FP[r][2] + sdt * q * Q[r][2];
+  }
+}
+
+static void
+predict(const Ax *in, double dt, double q, Ax *out)
+{
+  double h = 0.5 * dt * dt;
+  out->x[0] = in->x[0] + dt * in->x[1] + h * in->x[2];
+  out->x[1] = in->x[1] + dt * in->x[2];
+  out->x[2] = in->x[2];
+  predict_P((const double (*)[3])in->P, dt, q, out->P);
 }
 
 static bool
@@ -105,26 +114,25 @@ rts(Ax *f, Ax *p, Ax *sn, double dt, Ax *s)
     for (int c = r + 1; c < 3; c++) { double m = 0.5 * (s->P[r][c] + s->P[c][r]); s->P[r][c] = m; s->P[c][r] = m; }
 }
 
-/* Only s->P[0][0] of rts (the position variance), with the same arithmetic in the same order. */
+/* Only s->P[0][0] of rts (the position variance) from the three covariances, with the same
+ * arithmetic in the same order (F's zeros and ones left out as in predict_P). */
 static double
-rts_p00(Ax *f, Ax *p, Ax *sn, double dt)
+rts_p00(const double Pf[3][3], double Pp[3][3], const double Ps[3][3], double dt)
 {
-  double F[3][3] = { { 1, dt, 0.5 * dt * dt }, { 0, 1, dt }, { 0, 0, 1 } };
-  double Pi[3][3], PFt0[3], G0[3], GdP0[3];
-  if (!inv3s(p->P, Pi)) return f->P[0][0];
-  for (int c = 0; c < 3; c++) {
-    PFt0[c] = 0;
-    for (int k = 0; k < 3; k++) PFt0[c] += f->P[0][k] * F[c][k];
-  }
+  double h = 0.5 * dt * dt;
+  double Pi[3][3], G0[3], GdP0[3];
+  if (!inv3s(Pp, Pi)) return Pf[0][0];
+  /* row 0 of Pf F^T */
+  double PFt0[3] = { Pf[0][0] + dt * Pf[0][1] + h * Pf[0][2], Pf[0][1] + dt * Pf[0][2], Pf[0][2] };
   for (int c = 0; c < 3; c++) {
     G0[c] = 0;
     for (int k = 0; k < 3; k++) G0[c] += PFt0[k] * Pi[k][c];
   }
   for (int c = 0; c < 3; c++) {
     GdP0[c] = 0;
-    for (int k = 0; k < 3; k++) GdP0[c] += G0[k] * (sn->P[k][c] - p->P[k][c]);
+    for (int k = 0; k < 3; k++) GdP0[c] += G0[k] * (Ps[k][c] - Pp[k][c]);
   }
-  double a = f->P[0][0];
+  double a = Pf[0][0];
   for (int k = 0; k < 3; k++) a += GdP0[k] * G0[k];
   return a;
 }
@@ -364,10 +372,11 @@ aw_fusion_camonly_run(const AwCamPrep *cam, const double *tau, size_t n,
           out[1].P[0][0] = out[0].P[0][0];
           continue;
         }
-        Ax ft, pn;
-        predict(&F[j][a], t - tk[j], q, &ft);
-        predict(&ft, tk[j + 1] - t, q, &pn);
-        out[a].P[0][0] = rts_p00(&ft, &pn, &Sm[j + 1][a], tk[j + 1] - t);
+        double Pft[3][3], Ppn[3][3];
+        predict_P((const double (*)[3])F[j][a].P, t - tk[j], q, Pft);
+        predict_P((const double (*)[3])Pft, tk[j + 1] - t, q, Ppn);
+        out[a].P[0][0] = rts_p00((const double (*)[3])Pft, Ppn, (const double (*)[3])Sm[j + 1][a].P,
+                                 tk[j + 1] - t);
       }
     } else {
       size_t j = aw_fusion_locate(tk, m, t, &hint);
