@@ -124,6 +124,18 @@ aw_fusion_wahba(double B[3][3], double q[4])
   aw_quat_normalize(q);
 }
 
+/* The joint fit's operators (F, M and whether they are defined, per entry of the frames) at
+ * the last W_MEMO shifts it was evaluated at: the re-trimming fits and the final solution come
+ * back to the shift the steps ended on, and the clock's sigma counts the frames at one. */
+enum { W_MEMO = 4 };
+typedef struct {
+  double shift[W_MEMO];
+  size_t n_put;           /* slots filled so far (the oldest is replaced next) */
+  double (*F)[3];         /* W_MEMO x m */
+  double (*M)[3][3];
+  unsigned char *def;
+} WMemo;
+
 /* Camera-fit operator applied to the double integral of f_b0 (exact for f linear between
  * samples), so both sides of a_cam = R f_b0 + g pass through the same linear filter. */
 typedef struct {
@@ -146,6 +158,7 @@ typedef struct {
    * continuous in the shift. keep_out (if set) receives the set a trimming fit ends with. */
   const unsigned char *keep;
   unsigned char *keep_out;
+  WMemo *memo;            /* for w_ops; valid for these frames only (NULL elsewhere) */
 } WCtx;
 
 /* Tables of the shapes enough frames share to repay them (a table costs one operator per
@@ -266,6 +279,28 @@ w_imu_acc(const WCtx *w, size_t k, double shift, size_t *hint, double out[3], do
   return true;
 }
 
+/* F, M (the lever term) and their definedness for every entry of the frames at a shift, from
+ * the memo or computed into its oldest slot. */
+static void
+w_ops(const WCtx *w, double shift, const double (**F)[3], const double (**M)[3][3],
+      const unsigned char **def)
+{
+  WMemo *mo = w->memo;
+  size_t nm = mo->n_put < W_MEMO ? mo->n_put : W_MEMO, slot = 0;
+  while (slot < nm && mo->shift[slot] != shift) slot++;
+  if (slot == nm) {
+    slot = mo->n_put++ % W_MEMO;
+    mo->shift[slot] = shift;
+    size_t hint = 0;
+    for (size_t j = 0; j < w->m; j++)
+      mo->def[slot * w->m + j] = w_imu_acc(w, w->frames[j], shift, &hint, mo->F[slot * w->m + j],
+                                           mo->M[slot * w->m + j]);
+  }
+  *F = (const double (*)[3])mo->F + slot * w->m;
+  *M = (const double (*)[3][3])mo->M + slot * w->m;
+  *def = mo->def + slot * w->m;
+}
+
 /* Wahba's problem at a clock shift, with the lever arm l (body frame) solved alternately:
  * a_cam_k = R (F_k + M_k l) + g. Returns the residual rms.
  * Each round needs only sums over the frames in use, and those are moments of the set formed
@@ -277,16 +312,17 @@ w_imu_acc(const WCtx *w, size_t k, double shift, size_t *hint, double out[3], do
 static double
 w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[3], double l_out[3])
 {
-  double (*F)[3] = malloc(sizeof *F * (w->m ? w->m : 1));
-  double (*M)[3][3] = malloc(sizeof *M * (w->m ? w->m : 1));
+  const double (*F)[3], (*M)[3][3];
+  const unsigned char *def;
   unsigned char *ok = malloc(w->m ? w->m : 1);
-  if (!F || !M || !ok) { free(F); free(M); free(ok); return INFINITY; }
-  size_t cnt = 0, hint = 0;
+  if (!ok) return INFINITY;
+  w_ops(w, shift, &F, &M, &def);
+  size_t cnt = 0;
   for (size_t j = 0; j < w->m; j++) {
-    ok[j] = w_imu_acc(w, w->frames[j], shift, &hint, F[j], M[j]) && (!w->keep || w->keep[j]);
+    ok[j] = def[j] && (!w->keep || w->keep[j]);
     cnt += ok[j];
   }
-  if (cnt < 10) { free(F); free(M); free(ok); return INFINITY; }
+  if (cnt < 10) { free(ok); return INFINITY; }
   double l[3] = { 0, 0, 0 }, q[4] = { 1, 0, 0, 0 }, R[3][3], g[3] = { 0, 0, 0 }, rms = INFINITY;
   /* the set's moments (see above); N0 = S(M^T M), the lever's normal matrix */
   double ac[3], Fb[3], Mb[3][3], Saa = 0, SFF = 0, SFa[3][3], T[3][3][3], P[3], Q[3][3],
@@ -423,8 +459,6 @@ w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[
   if (q_out) memcpy(q_out, q, sizeof q);
   if (g_out) aw_v3_copy(g_out, g);
   if (l_out) aw_v3_copy(l_out, l);
-  free(F);
-  free(M);
   free(ok);
   return rms;
 }
@@ -438,10 +472,11 @@ static double
 clock_sigma(const WCtx *w, const AwCamPrep *cam, double shift, double rm, double r0, double rp,
             double h)
 {
-  size_t cnt = 0, hint = 0;
-  double F[3];
-  for (size_t j = 0; j < w->m; j++)
-    cnt += w_imu_acc(w, w->frames[j], shift, &hint, F, NULL) && (!w->keep || w->keep[j]);
+  const double (*F)[3], (*M)[3][3];
+  const unsigned char *def;
+  w_ops(w, shift, &F, &M, &def);   /* the fit at this shift has just run: from the memo */
+  size_t cnt = 0;
+  for (size_t j = 0; j < w->m; j++) cnt += def[j] && (!w->keep || w->keep[j]);
   if (cnt < 10) return 0;
   /* J(s) = cnt rms(s)^2 */
   double d2 = (double)cnt * (rm * rm - 2 * r0 * r0 + rp * rp) / (h * h);
@@ -581,6 +616,7 @@ calib_drift(const WCtx *w0, const size_t *all, size_t n_all, double best, double
     w.m = j1 - j0;
     w.keep = NULL;
     w.keep_out = NULL;
+    w.memo = NULL;
     double tc = 0;
     for (size_t j = j0; j < j1; j++) tc += cam->t_s[all[j]];
     tc /= (double)(j1 - j0);
@@ -826,9 +862,14 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
       if (Rb0) for (size_t i = 0; i < n; i++) aw_quat_to_mat(Rb0[i], qb0[i]);
       WCtx w = { tau, (const double (*)[3])fb0, (const double (*)[3])cum, (const double (*)[3])pb0,
                  (const double (*)[4])qb0, (const double (*)[3][3])Rb0, n_ok, cam, frames, m0,
-                 fmax(s->lever_arm_sigma_m, 1e-3), { NULL }, { NULL }, { NULL }, NULL, NULL };
+                 fmax(s->lever_arm_sigma_m, 1e-3), { NULL }, { NULL }, { NULL }, NULL, NULL, NULL };
+      WMemo memo = { .n_put = 0 };
+      memo.F = malloc(sizeof *memo.F * W_MEMO * (m0 ? m0 : 1));
+      memo.M = malloc(sizeof *memo.M * W_MEMO * (m0 ? m0 : 1));
+      memo.def = malloc(W_MEMO * (m0 ? m0 : 1));
+      w.memo = &memo;
       if (m0 >= 10 && Rb0) w_tables(&w);
-      if (m0 >= 10 && Rb0) {
+      if (m0 >= 10 && Rb0 && memo.F && memo.M && memo.def) {
         /* +-250 ms on a 10 ms grid (the magnitude-based stage-1 peak can be 200 ms off on
          * hard swings; the basin of the vector fit is several times wider than 10 ms) with the
          * closed-form rotation-only cost on every other frame, a parabola through the grid's
@@ -837,6 +878,7 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
          * shift. */
         const double step = 0.010;
         WCtx wc = w;
+        wc.memo = NULL;   /* other frames */
         size_t *sub = malloc(sizeof *sub * (m0 / 2 + 1));
         if (sub && m0 >= 40) {
           wc.m = 0;
@@ -941,6 +983,7 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
         free(keep2);
       }
       w_tables_free(&w);
+      free(memo.F); free(memo.M); free(memo.def);
       free(Rb0);
       free(all_f);
     }
