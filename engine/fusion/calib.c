@@ -153,7 +153,10 @@ typedef struct {
    * shape's frames one by one. */
   double (*ftab[AW_CAM_MAX_SHAPES])[3];
   double (*dftab[AW_CAM_MAX_SHAPES])[3];   /* the operator on the running integral: d ftab / dt */
+  /* The rotation's entries are filled when first read (w_mtab): only the joint fit reads them,
+   * at the few shifts around its minimum, so most samples never need one. mdone: filled. */
   double (*mtab[AW_CAM_MAX_SHAPES])[3][3];
+  unsigned char *mdone[AW_CAM_MAX_SHAPES];
   /* Fixed inlier set (per entry of frames; NULL = trim inside each fit): with it the cost is
    * continuous in the shift. keep_out (if set) receives the set a trimming fit ends with. */
   const unsigned char *keep;
@@ -179,13 +182,13 @@ w_tables(WCtx *w)
     double (*ft)[3] = malloc(sizeof *ft * w->n);
     double (*dft)[3] = malloc(sizeof *dft * w->n);
     double (*mt)[3][3] = malloc(sizeof *mt * w->n);
-    if (!ft || !dft || !mt) { free(ft); free(dft); free(mt); continue; }
+    unsigned char *md = calloc(w->n, 1);
+    if (!ft || !dft || !mt || !md) { free(ft); free(dft); free(mt); free(md); continue; }
     size_t q0 = cam->shape_start[sh], q1 = cam->shape_start[sh + 1], hint[64] = { 0 };
     for (size_t i = 0; i < w->n; i++) {
       /* sums in locals (kept in registers, the same additions in the same order) */
-      double fa[3] = { 0, 0, 0 }, da[3] = { 0, 0, 0 }, ma[3][3] = { { 0 } };
+      double fa[3] = { 0, 0, 0 }, da[3] = { 0, 0, 0 };
       if (!(w->tau[i] + cam->shape_u[q0] >= w->tau[0] && w->tau[i] + cam->shape_u[q1 - 1] <= w->tau[w->n - 1])) {
-        memset(mt[i], 0, sizeof mt[i]);
         memset(dft[i], 0, sizeof dft[i]);
         ft[i][0] = ft[i][1] = ft[i][2] = (double)NAN;
         continue;
@@ -195,33 +198,62 @@ w_tables(WCtx *w)
         size_t a0 = aw_fusion_locate(w->tau, w->n, t, &hint[q - q0]);
         if (a0 + 1 >= w->n) a0 = w->n - 2;
         double dt = w->tau[a0 + 1] - w->tau[a0], u = t - w->tau[a0];
-        double r = u / dt, wq = cam->shape_w[q];
+        double wq = cam->shape_w[q];
         for (int a = 0; a < 3; a++) {
           double f0 = w->fb0[a0][a], f1 = w->fb0[a0 + 1][a];
           fa[a] += wq * (w->pb0[a0][a] + u * w->vb0[a0][a] + 0.5 * u * u * f0 +
                          u * u * u * (f1 - f0) / (6 * dt));
           da[a] += wq * (w->vb0[a0][a] + u * f0 + 0.5 * u * u * (f1 - f0) / dt);
         }
-        for (int a = 0; a < 3; a++)
-          for (int c = 0; c < 3; c++)
-            ma[a][c] += wq * ((1 - r) * w->Rb0[a0][a][c] + r * w->Rb0[a0 + 1][a][c]);
       }
       memcpy(ft[i], fa, sizeof fa);
       memcpy(dft[i], da, sizeof da);
-      memcpy(mt[i], ma, sizeof ma);
     }
     w->ftab[sh] = ft;
     w->dftab[sh] = dft;
     w->mtab[sh] = mt;
+    w->mdone[sh] = md;
   }
   free(use);
   free(ok);
 }
 
+/* Entry i of shape sh's rotation table (i inside the span where ftab is defined): the fit
+ * operator on R_b0_body(t), the rotation matrices of the samples interpolated linearly (the
+ * lever is centimetres: second-order errors in a 10 ms step's rotation are far below the
+ * camera's acceleration noise). */
+static const double (*w_mtab(const WCtx *w, size_t sh, size_t i))[3]
+{
+  double (*mt)[3] = w->mtab[sh][i];
+  if (w->mdone[sh][i]) return (const double (*)[3])mt;
+  const AwCamPrep *cam = w->cam;
+  double ma[3][3] = { { 0 } };   /* sums in locals */
+  size_t q0 = cam->shape_start[sh];
+  /* the first tap's sample from the mean interval (aw_fusion_locate walks the rest of the way;
+   * the later taps walk on from the one before) */
+  double di = cam->shape_u[q0] * (double)(w->n - 1) / (w->tau[w->n - 1] - w->tau[0]);
+  size_t hint = di <= -(double)i ? 0 : (size_t)((double)i + di);
+  for (size_t q = q0; q < cam->shape_start[sh + 1]; q++) {
+    double t = w->tau[i] + cam->shape_u[q];
+    size_t a0 = aw_fusion_locate(w->tau, w->n, t, &hint);
+    if (a0 + 1 >= w->n) a0 = w->n - 2;
+    double dt = w->tau[a0 + 1] - w->tau[a0], u = t - w->tau[a0];
+    double r = u / dt, wq = cam->shape_w[q];
+    for (int a = 0; a < 3; a++)
+      for (int c = 0; c < 3; c++)
+        ma[a][c] += wq * ((1 - r) * w->Rb0[a0][a][c] + r * w->Rb0[a0 + 1][a][c]);
+  }
+  memcpy(mt, ma, sizeof ma);
+  w->mdone[sh][i] = 1;
+  return (const double (*)[3])mt;
+}
+
 static void
 w_tables_free(WCtx *w)
 {
-  for (size_t sh = 0; sh < AW_CAM_MAX_SHAPES; sh++) { free(w->ftab[sh]); free(w->dftab[sh]); free(w->mtab[sh]); }
+  for (size_t sh = 0; sh < AW_CAM_MAX_SHAPES; sh++) {
+    free(w->ftab[sh]); free(w->dftab[sh]); free(w->mtab[sh]); free(w->mdone[sh]);
+  }
 }
 
 static bool
@@ -247,9 +279,9 @@ w_imu_acc(const WCtx *w, size_t k, double shift, size_t *hint, double out[3], do
     for (int a = 0; a < 3; a++)
       out[a] = h00 * f0[i][a] + h10 * d0[i][a] + h01 * f0[i + 1][a] + h11 * d0[i + 1][a];
     if (!M) return true;
-    const double (*m0)[3][3] = (const double (*)[3][3])w->mtab[sh];
+    const double (*ma)[3] = w_mtab(w, (size_t)sh, i), (*mb)[3] = w_mtab(w, (size_t)sh, i + 1);
     for (int a = 0; a < 3; a++)
-      for (int c = 0; c < 3; c++) M[a][c] = m0[i][a][c] + r * (m0[i + 1][a][c] - m0[i][a][c]);
+      for (int c = 0; c < 3; c++) M[a][c] = ma[a][c] + r * (mb[a][c] - ma[a][c]);
     return true;
   }
   /* sums in locals (the same additions in the same order), stored at the end */
@@ -862,7 +894,7 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
       if (Rb0) for (size_t i = 0; i < n; i++) aw_quat_to_mat(Rb0[i], qb0[i]);
       WCtx w = { tau, (const double (*)[3])fb0, (const double (*)[3])cum, (const double (*)[3])pb0,
                  (const double (*)[4])qb0, (const double (*)[3][3])Rb0, n_ok, cam, frames, m0,
-                 fmax(s->lever_arm_sigma_m, 1e-3), { NULL }, { NULL }, { NULL }, NULL, NULL, NULL };
+                 fmax(s->lever_arm_sigma_m, 1e-3), { NULL }, { NULL }, { NULL }, { NULL }, NULL, NULL, NULL };
       WMemo memo = { .n_put = 0 };
       memo.F = malloc(sizeof *memo.F * W_MEMO * (m0 ? m0 : 1));
       memo.M = malloc(sizeof *memo.M * W_MEMO * (m0 ? m0 : 1));
