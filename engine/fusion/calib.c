@@ -136,6 +136,14 @@ typedef struct {
   unsigned char *def;
 } WMemo;
 
+/* One camera frame's time minus a shift on the IMU side (w_tap). */
+typedef struct {
+  double at, at_R;        /* shift p and R hold (NaN = none) */
+  double p[3];            /* double integral of f_b0 */
+  double R[3][3];         /* R_b0_body, interpolated */
+  bool in;                /* inside tau's span */
+} WTap;
+
 /* Camera-fit operator applied to the double integral of f_b0 (exact for f linear between
  * samples), so both sides of a_cam = R f_b0 + g pass through the same linear filter. */
 typedef struct {
@@ -162,6 +170,7 @@ typedef struct {
   const unsigned char *keep;
   unsigned char *keep_out;
   WMemo *memo;            /* for w_ops; valid for these frames only (NULL elsewhere) */
+  WTap *taps;             /* per camera frame, for w_tap */
 } WCtx;
 
 /* Tables of the shapes enough frames share to repay them (a table costs one operator per
@@ -256,6 +265,39 @@ w_tables_free(WCtx *w)
   }
 }
 
+/* The IMU side at camera frame j's time minus a shift, for the operators evaluated tap by tap:
+ * the double integral of f_b0 there and (with_R) the rotation, from the frame's entry in
+ * w->taps when it holds this shift (a frame is a tap of the dozen operators around it, all
+ * evaluated at the same shift one after the other). NULL when the time falls outside tau. */
+static const WTap *
+w_tap(const WCtx *w, size_t j, double shift, size_t *hint, bool with_R)
+{
+  WTap *tp = &w->taps[j];
+  if (tp->at == shift && (!with_R || tp->at_R == shift)) return tp->in ? tp : NULL;
+  double t = w->cam->t_s[j] - shift;
+  tp->at = shift;
+  tp->at_R = NAN;
+  tp->in = !(t < w->tau[0] || t > w->tau[w->n - 1]);
+  if (!tp->in) return NULL;
+  size_t i = aw_fusion_locate(w->tau, w->n, t, hint);
+  if (i + 1 >= w->n) i = w->n - 2;
+  double dt = w->tau[i + 1] - w->tau[i], u = t - w->tau[i];
+  for (int a = 0; a < 3; a++) {
+    double f0 = w->fb0[i][a], f1 = w->fb0[i + 1][a];
+    tp->p[a] = w->pb0[i][a] + u * w->vb0[i][a] + 0.5 * u * u * f0 + u * u * u * (f1 - f0) / (6 * dt);
+  }
+  /* the lever term: the fit operator on R_b0_body(t), the rotation matrices of the samples
+   * interpolated linearly (the lever is centimetres: second-order errors in a 10 ms step's
+   * rotation are far below the camera's acceleration noise) */
+  if (with_R) {
+    double r = u / dt;
+    for (int a = 0; a < 3; a++)
+      for (int c = 0; c < 3; c++) tp->R[a][c] = (1 - r) * w->Rb0[i][a][c] + r * w->Rb0[i + 1][a][c];
+    tp->at_R = shift;
+  }
+  return tp;
+}
+
 static bool
 w_imu_acc(const WCtx *w, size_t k, double shift, size_t *hint, double out[3], double M[3][3])
 {
@@ -287,24 +329,13 @@ w_imu_acc(const WCtx *w, size_t k, double shift, size_t *hint, double out[3], do
   /* sums in locals (the same additions in the same order), stored at the end */
   double oa[3] = { 0, 0, 0 }, ma[3][3] = { { 0 } };
   for (size_t q = cam->wstart[k]; q < cam->wstart[k + 1]; q++) {
-    double t = cam->t_s[cam->widx[q]] - shift;
-    if (t < w->tau[0] || t > w->tau[w->n - 1]) return false;
-    size_t i = aw_fusion_locate(w->tau, w->n, t, hint);
-    if (i + 1 >= w->n) i = w->n - 2;
-    double dt = w->tau[i + 1] - w->tau[i], u = t - w->tau[i];
-    for (int a = 0; a < 3; a++) {
-      double f0 = w->fb0[i][a], f1 = w->fb0[i + 1][a];
-      double pj = w->pb0[i][a] + u * w->vb0[i][a] + 0.5 * u * u * f0 + u * u * u * (f1 - f0) / (6 * dt);
-      oa[a] += cam->wval[q] * pj;
-    }
-    /* the lever term: the fit operator on R_b0_body(t), the rotation matrices of the samples
-     * interpolated linearly (the lever is centimetres: second-order errors in a 10 ms step's
-     * rotation are far below the camera's acceleration noise) */
+    const WTap *tp = w_tap(w, cam->widx[q], shift, hint, M != NULL);
+    if (!tp) return false;
+    for (int a = 0; a < 3; a++) oa[a] += cam->wval[q] * tp->p[a];
     if (!M) continue;
-    double r = u / dt, wq = cam->wval[q];
+    double wq = cam->wval[q];
     for (int a = 0; a < 3; a++)
-      for (int c = 0; c < 3; c++)
-        ma[a][c] += wq * ((1 - r) * w->Rb0[i][a][c] + r * w->Rb0[i + 1][a][c]);
+      for (int c = 0; c < 3; c++) ma[a][c] += wq * tp->R[a][c];
   }
   memcpy(out, oa, sizeof oa);
   if (M) memcpy(M, ma, sizeof ma);
@@ -894,14 +925,16 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
       if (Rb0) for (size_t i = 0; i < n; i++) aw_quat_to_mat(Rb0[i], qb0[i]);
       WCtx w = { tau, (const double (*)[3])fb0, (const double (*)[3])cum, (const double (*)[3])pb0,
                  (const double (*)[4])qb0, (const double (*)[3][3])Rb0, n_ok, cam, frames, m0,
-                 fmax(s->lever_arm_sigma_m, 1e-3), { NULL }, { NULL }, { NULL }, { NULL }, NULL, NULL, NULL };
+                 fmax(s->lever_arm_sigma_m, 1e-3), { NULL }, { NULL }, { NULL }, { NULL }, NULL, NULL, NULL, NULL };
       WMemo memo = { .n_put = 0 };
       memo.F = malloc(sizeof *memo.F * W_MEMO * (m0 ? m0 : 1));
       memo.M = malloc(sizeof *memo.M * W_MEMO * (m0 ? m0 : 1));
       memo.def = malloc(W_MEMO * (m0 ? m0 : 1));
       w.memo = &memo;
+      w.taps = malloc(sizeof *w.taps * (cam->n ? cam->n : 1));
+      if (w.taps) for (size_t k = 0; k < cam->n; k++) w.taps[k].at = w.taps[k].at_R = NAN;
       if (m0 >= 10 && Rb0) w_tables(&w);
-      if (m0 >= 10 && Rb0 && memo.F && memo.M && memo.def) {
+      if (m0 >= 10 && Rb0 && memo.F && memo.M && memo.def && w.taps) {
         /* +-250 ms on a 10 ms grid (the magnitude-based stage-1 peak can be 200 ms off on
          * hard swings; the basin of the vector fit is several times wider than 10 ms) with the
          * closed-form rotation-only cost on every other frame, a parabola through the grid's
@@ -1015,7 +1048,7 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
         free(keep2);
       }
       w_tables_free(&w);
-      free(memo.F); free(memo.M); free(memo.def);
+      free(memo.F); free(memo.M); free(memo.def); free(w.taps);
       free(Rb0);
       free(all_f);
     }
