@@ -593,7 +593,11 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
    * maxima refined on the first 60 s of motion (drift over 60 s is below 6 ms); segments
    * refine the drift below. */
   const double step0 = 0.02;
-  size_t nstep = (size_t)ceil(2 * max_off / step0) + 1;
+  /* The grid at twice the refinement's scale: the score is a correlation of accelerations
+   * smoothed over >= 0.4 s, whose peaks span well over 0.1 s, and the refinement's uphill walk
+   * (4 steps of 5 ms) reaches halfway to the next grid point. */
+  const double grid_step = 2 * step0;
+  size_t nstep = (size_t)ceil(2 * max_off / grid_step) + 1;
   double *rc = malloc(sizeof *rc * nstep);
   if (!rc) { ctx_free(&c); return AW_ERR_NO_MEMORY; }
   /* The grid and the choice between candidates use the most common operator for frames whose
@@ -604,10 +608,10 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
    * carry nearly the same information, and every other one places the coarse grid's peaks
    * (the candidates are refined with every frame) at half the cost. */
   c.stride = n_acc >= 40 ? 2 : 1;
-  grid_scores(&c, -max_off, step0, nstep, 0, -INFINITY, INFINITY, rc);
+  grid_scores(&c, -max_off, grid_step, nstep, 0, -INFINITY, INFINITY, rc);
   c.stride = 1;
   double cand[3], rho2;
-  int nc = coarse_peaks(rc, nstep, -max_off, step0, cand, &rho2);
+  int nc = coarse_peaks(rc, nstep, -max_off, grid_step, cand, &rho2);
   free(rc);
   double ta_motion = tc0;
   for (size_t k = 0; k < cam->n; k++) if (!isnan(c.sc[k])) { ta_motion = cam->t_s[k]; break; }
