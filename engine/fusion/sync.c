@@ -31,6 +31,13 @@ typedef struct {
   bool approx, local;
 } ScoreMemo;
 
+/* One camera frame's time on the IMU clock and pb there (SyncCtx.taps). */
+typedef struct {
+  double off, drift;       /* what p was computed for (off NaN = nothing) */
+  double p[3];
+  bool in;                 /* inside the IMU's span */
+} SyncTap;
+
 /* Half-width of the per-frame tables (SyncCtx.loc): the winner's scans and polish stay within
  * +-30 ms of where they start. */
 #define LOC_HALF_S 0.035
@@ -68,13 +75,17 @@ typedef struct {
    * around the winner come back to offsets they tried): a ring of the last few. */
   ScoreMemo memo[SYNC_MEMO];
   size_t n_memo;
+  /* Per camera frame: the double integral pb at its time mapped to the IMU clock by the
+   * offset and drift it holds (tap_at); frames evaluated one by one share their taps (a frame
+   * is a tap of the dozen operators around it, all evaluated at one offset in turn). */
+  SyncTap *taps;
 } SyncCtx;
 
 static void
 ctx_free(SyncCtx *c)
 {
   free(c->sc); free(c->fb0); free(c->cumb); free(c->pb); free(c->mm); free(c->tab_ok);
-  free(c->loc); free(c->loc_at); free(c->loc_i0); free(c->loc_len);
+  free(c->loc); free(c->loc_at); free(c->loc_i0); free(c->loc_len); free(c->taps);
   for (size_t s = 0; s < AW_CAM_MAX_SHAPES; s++) free(c->tab[s]);
 }
 
@@ -99,6 +110,24 @@ tab_at(const SyncCtx *c, const double (*tab)[3], double ti, size_t *hint, double
   double u = (ti - imu->t_s[i]) / (imu->t_s[i + 1] - imu->t_s[i]);
   for (int a = 0; a < 3; a++) out[a] = tab[i][a] + u * (tab[i + 1][a] - tab[i][a]);
   return !isnan(out[0]);
+}
+
+/* pb at camera frame j's time on the IMU clock (offset off, drift), from the frame's entry in
+ * c->taps when it holds them; NULL outside the IMU's span. */
+static const double *
+tap_at(const SyncCtx *c, size_t j, double off, double drift, size_t *hint)
+{
+  SyncTap *tp = &c->taps[j];
+  if (tp->off == off && tp->drift == drift) return tp->in ? tp->p : NULL;
+  const AwImuPrep *imu = c->imu;
+  double tj = imu_time(c->cam->t_s[j], off, drift, c->t_mid);
+  tp->off = off;
+  tp->drift = drift;
+  tp->in = !(tj < imu->t_s[0] || tj > imu->t_s[imu->n - 1]);
+  if (tp->in)
+    aw_fusion_pos_at(imu->t_s, imu->n, (const double (*)[3])c->fb0, (const double (*)[3])c->cumb,
+                     (const double (*)[3])c->pb, tj, hint, tp->p);
+  return tp->in ? tp->p : NULL;
 }
 
 /* The IMU's dynamic acceleration as the camera's fit for frame k would see it at clock offset
@@ -131,10 +160,8 @@ imu_seen(const SyncCtx *c, size_t k, double ti, double off, double drift, size_t
   if (!tab_at(c, (const double (*)[3])c->mm, ti, hint, mm)) return false;
   double acc[3] = { 0, 0, 0 };
   for (size_t q = cam->wstart[k]; q < cam->wstart[k + 1]; q++) {
-    double tj = imu_time(cam->t_s[cam->widx[q]], off, drift, c->t_mid), pj[3];
-    if (tj < imu->t_s[0] || tj > imu->t_s[imu->n - 1]) return false;
-    aw_fusion_pos_at(imu->t_s, imu->n, (const double (*)[3])c->fb0, (const double (*)[3])c->cumb,
-                     (const double (*)[3])c->pb, tj, h3, pj);
+    const double *pj = tap_at(c, cam->widx[q], off, drift, h3);
+    if (!pj) return false;
     for (int a = 0; a < 3; a++) acc[a] += cam->wval[q] * pj[a];
   }
   for (int a = 0; a < 3; a++) out[a] = acc[a] - mm[a];
@@ -475,7 +502,9 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
   c.pb = malloc(sizeof *c.pb * imu->n);
   c.mm = malloc(sizeof *c.mm * imu->n);
   c.tab_ok = malloc(imu->n);
-  if (!c.sc || !c.fb0 || !c.cumb || !c.pb || !c.mm || !c.tab_ok) { ctx_free(&c); return AW_ERR_NO_MEMORY; }
+  c.taps = malloc(sizeof *c.taps * cam->n);
+  if (!c.sc || !c.fb0 || !c.cumb || !c.pb || !c.mm || !c.tab_ok || !c.taps) { ctx_free(&c); return AW_ERR_NO_MEMORY; }
+  for (size_t k = 0; k < cam->n; k++) c.taps[k].off = (double)NAN;
   {
     /* Gyro bias from the still samples (if any), then the attitude chain. */
     double bg[3] = { 0 };
