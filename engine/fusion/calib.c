@@ -136,6 +136,9 @@ typedef struct {
   unsigned char *def;
 } WMemo;
 
+/* Spacing of the shape tables' knots (w_tables). */
+#define W_KNOT_S 0.04
+
 /* One camera frame's time minus a shift on the IMU side (w_tap). */
 typedef struct {
   double at, at_R;        /* shift p and R hold (NaN = none) */
@@ -156,9 +159,10 @@ typedef struct {
   const size_t *frames;   /* camera frames used */
   size_t m;
   double lever_sigma;     /* prior 1-sigma of the lever arm */
-  /* Per operator shape (prep.c): the fit operator on the double integral (ftab) and on the
-   * rotation (mtab) at every sample of tau, NaN where a tap falls outside; NULL = evaluate the
-   * shape's frames one by one. */
+  /* Per operator shape (prep.c): the fit operator on the double integral (ftab) at the knots
+   * (w_knot: every kdec-th sample of tau and the last) and on the rotation (mtab) at every
+   * sample, NaN where a tap falls outside; NULL = evaluate the shape's frames one by one. */
+  size_t kdec, nk;
   double (*ftab[AW_CAM_MAX_SHAPES])[3];
   double (*dftab[AW_CAM_MAX_SHAPES])[3];   /* the operator on the running integral: d ftab / dt */
   /* The rotation's entries are filled when first read (w_mtab): only the joint fit reads them,
@@ -173,12 +177,26 @@ typedef struct {
   WTap *taps;             /* per camera frame, for w_tap */
 } WCtx;
 
+/* Sample of tau at table knot j. */
+static inline size_t
+w_knot(const WCtx *w, size_t j)
+{
+  return j + 1 < w->nk ? j * w->kdec : w->n - 1;
+}
+
 /* Tables of the shapes enough frames share to repay them (a table costs one operator per
- * sample; a frame alone costs one per shift tried, ~80). */
+ * knot; a frame alone costs one per shift tried, ~80). The knots are about W_KNOT_S apart:
+ * the operator is a second derivative fitted over >= 0.4 s, so its output holds little
+ * above a few hertz, and the cubic Hermite interpolation on values and derivatives between
+ * knots (w_imu_acc) is good to (2 pi f h)^4 / 384: 1e-3 of it at 3 Hz, 7e-3 at 5 Hz. */
 static void
 w_tables(WCtx *w)
 {
   const AwCamPrep *cam = w->cam;
+  w->kdec = 1;
+  if (w->n >= 2 && w->tau[w->n - 1] > w->tau[0])
+    w->kdec = (size_t)fmax(1.0, floor(W_KNOT_S * (double)(w->n - 1) / (w->tau[w->n - 1] - w->tau[0]) + 0.5));
+  w->nk = w->n >= 2 ? (w->n - 2) / w->kdec + 2 : w->n;
   size_t *use = calloc(AW_CAM_MAX_SHAPES, sizeof *use);
   unsigned char *ok = malloc(w->n ? w->n : 1);
   if (!use || !ok) { free(use); free(ok); return; }
@@ -188,18 +206,19 @@ w_tables(WCtx *w)
   }
   for (size_t sh = 0; sh < cam->n_shape; sh++) {
     if (use[sh] * 80 < w->n || w->n < 2) continue;
-    double (*ft)[3] = malloc(sizeof *ft * w->n);
-    double (*dft)[3] = malloc(sizeof *dft * w->n);
+    double (*ft)[3] = malloc(sizeof *ft * w->nk);
+    double (*dft)[3] = malloc(sizeof *dft * w->nk);
     double (*mt)[3][3] = malloc(sizeof *mt * w->n);
     unsigned char *md = calloc(w->n, 1);
     if (!ft || !dft || !mt || !md) { free(ft); free(dft); free(mt); free(md); continue; }
     size_t q0 = cam->shape_start[sh], q1 = cam->shape_start[sh + 1], hint[64] = { 0 };
-    for (size_t i = 0; i < w->n; i++) {
+    for (size_t j = 0; j < w->nk; j++) {
+      size_t i = w_knot(w, j);
       /* sums in locals (kept in registers, the same additions in the same order) */
       double fa[3] = { 0, 0, 0 }, da[3] = { 0, 0, 0 };
       if (!(w->tau[i] + cam->shape_u[q0] >= w->tau[0] && w->tau[i] + cam->shape_u[q1 - 1] <= w->tau[w->n - 1])) {
-        memset(dft[i], 0, sizeof dft[i]);
-        ft[i][0] = ft[i][1] = ft[i][2] = (double)NAN;
+        memset(dft[j], 0, sizeof dft[j]);
+        ft[j][0] = ft[j][1] = ft[j][2] = (double)NAN;
         continue;
       }
       for (size_t q = q0; q < q1; q++) {
@@ -215,8 +234,8 @@ w_tables(WCtx *w)
           da[a] += wq * (w->vb0[a0][a] + u * f0 + 0.5 * u * u * (f1 - f0) / dt);
         }
       }
-      memcpy(ft[i], fa, sizeof fa);
-      memcpy(dft[i], da, sizeof da);
+      memcpy(ft[j], fa, sizeof fa);
+      memcpy(dft[j], da, sizeof da);
     }
     w->ftab[sh] = ft;
     w->dftab[sh] = dft;
@@ -230,7 +249,8 @@ w_tables(WCtx *w)
 /* Entry i of shape sh's rotation table (i inside the span where ftab is defined): the fit
  * operator on R_b0_body(t), the rotation matrices of the samples interpolated linearly (the
  * lever is centimetres: second-order errors in a 10 ms step's rotation are far below the
- * camera's acceleration noise). */
+ * camera's acceleration noise). Per sample, not per knot: the joint fit reads the entries
+ * around each frame at a few shifts within milliseconds, about as many at either spacing. */
 static const double (*w_mtab(const WCtx *w, size_t sh, size_t i))[3]
 {
   double (*mt)[3] = w->mtab[sh][i];
@@ -304,12 +324,14 @@ w_imu_acc(const WCtx *w, size_t k, double shift, size_t *hint, double out[3], do
   const AwCamPrep *cam = w->cam;
   int sh = cam->shape ? cam->shape[k] : -1;
   if (sh >= 0 && w->ftab[sh]) {
-    /* tabulated: linear interpolation in the frame's time on the IMU grid */
+    /* tabulated: interpolation in the frame's time between the knots around it */
     double t = cam->t_s[k] - shift;
     if (t < w->tau[0] || t >= w->tau[w->n - 1]) return false;
-    size_t i = aw_fusion_locate(w->tau, w->n, t, hint);
-    if (i + 1 >= w->n) return false;
-    double h = w->tau[i + 1] - w->tau[i], r = (t - w->tau[i]) / h;
+    size_t s = aw_fusion_locate(w->tau, w->n, t, hint);
+    if (s + 1 >= w->n) return false;
+    size_t i = s / w->kdec;
+    if (i + 2 > w->nk) i = w->nk - 2;
+    double t0 = w->tau[w_knot(w, i)], h = w->tau[w_knot(w, i + 1)] - t0, r = (t - t0) / h;
     const double (*f0)[3] = (const double (*)[3])w->ftab[sh];
     const double (*d0)[3] = (const double (*)[3])w->dftab[sh];
     if (isnan(f0[i][0]) || isnan(f0[i + 1][0])) return false;
@@ -321,9 +343,10 @@ w_imu_acc(const WCtx *w, size_t k, double shift, size_t *hint, double out[3], do
     for (int a = 0; a < 3; a++)
       out[a] = h00 * f0[i][a] + h10 * d0[i][a] + h01 * f0[i + 1][a] + h11 * d0[i + 1][a];
     if (!M) return true;
-    const double (*ma)[3] = w_mtab(w, (size_t)sh, i), (*mb)[3] = w_mtab(w, (size_t)sh, i + 1);
+    const double (*ma)[3] = w_mtab(w, (size_t)sh, s), (*mb)[3] = w_mtab(w, (size_t)sh, s + 1);
+    double rs = (t - w->tau[s]) / (w->tau[s + 1] - w->tau[s]);
     for (int a = 0; a < 3; a++)
-      for (int c = 0; c < 3; c++) M[a][c] = ma[a][c] + r * (mb[a][c] - ma[a][c]);
+      for (int c = 0; c < 3; c++) M[a][c] = ma[a][c] + rs * (mb[a][c] - ma[a][c]);
     return true;
   }
   /* sums in locals (the same additions in the same order), stored at the end */
@@ -925,7 +948,7 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
       if (Rb0) for (size_t i = 0; i < n; i++) aw_quat_to_mat(Rb0[i], qb0[i]);
       WCtx w = { tau, (const double (*)[3])fb0, (const double (*)[3])cum, (const double (*)[3])pb0,
                  (const double (*)[4])qb0, (const double (*)[3][3])Rb0, n_ok, cam, frames, m0,
-                 fmax(s->lever_arm_sigma_m, 1e-3), { NULL }, { NULL }, { NULL }, { NULL }, NULL, NULL, NULL, NULL };
+                 fmax(s->lever_arm_sigma_m, 1e-3), 1, n_ok, { NULL }, { NULL }, { NULL }, { NULL }, NULL, NULL, NULL, NULL };
       WMemo memo = { .n_put = 0 };
       memo.F = malloc(sizeof *memo.F * W_MEMO * (m0 ? m0 : 1));
       memo.M = malloc(sizeof *memo.M * W_MEMO * (m0 ? m0 : 1));
