@@ -181,7 +181,7 @@ typedef struct {
 static inline size_t
 w_knot(const WCtx *w, size_t j)
 {
-  return j + 1 < w->nk ? j * w->kdec : w->n - 1;
+  return aw_fusion_knot(j, w->kdec, w->nk, w->n);
 }
 
 /* Tables of the shapes enough frames share to repay them (a table costs one operator per
@@ -193,10 +193,7 @@ static void
 w_tables(WCtx *w)
 {
   const AwCamPrep *cam = w->cam;
-  w->kdec = 1;
-  if (w->n >= 2 && w->tau[w->n - 1] > w->tau[0])
-    w->kdec = (size_t)fmax(1.0, floor(W_KNOT_S * (double)(w->n - 1) / (w->tau[w->n - 1] - w->tau[0]) + 0.5));
-  w->nk = w->n >= 2 ? (w->n - 2) / w->kdec + 2 : w->n;
+  aw_fusion_knots(w->tau, w->n, W_KNOT_S, &w->kdec, &w->nk);
   size_t *use = calloc(AW_CAM_MAX_SHAPES, sizeof *use);
   unsigned char *ok = malloc(w->n ? w->n : 1);
   if (!use || !ok) { free(use); free(ok); return; }
@@ -211,32 +208,12 @@ w_tables(WCtx *w)
     double (*mt)[3][3] = malloc(sizeof *mt * w->n);
     unsigned char *md = calloc(w->n, 1);
     if (!ft || !dft || !mt || !md) { free(ft); free(dft); free(mt); free(md); continue; }
-    size_t q0 = cam->shape_start[sh], q1 = cam->shape_start[sh + 1], hint[64] = { 0 };
-    for (size_t j = 0; j < w->nk; j++) {
-      size_t i = w_knot(w, j);
-      /* sums in locals (kept in registers, the same additions in the same order) */
-      double fa[3] = { 0, 0, 0 }, da[3] = { 0, 0, 0 };
-      if (!(w->tau[i] + cam->shape_u[q0] >= w->tau[0] && w->tau[i] + cam->shape_u[q1 - 1] <= w->tau[w->n - 1])) {
+    aw_fusion_shape_table(cam, sh, w->tau, w->n, w->fb0, w->vb0, w->pb0, w->kdec, w->nk, ft, dft, ok);
+    for (size_t j = 0; j < w->nk; j++)
+      if (!ok[j]) {
         memset(dft[j], 0, sizeof dft[j]);
         ft[j][0] = ft[j][1] = ft[j][2] = (double)NAN;
-        continue;
       }
-      for (size_t q = q0; q < q1; q++) {
-        double t = w->tau[i] + cam->shape_u[q];
-        size_t a0 = aw_fusion_locate(w->tau, w->n, t, &hint[q - q0]);
-        if (a0 + 1 >= w->n) a0 = w->n - 2;
-        double dt = w->tau[a0 + 1] - w->tau[a0], u = t - w->tau[a0];
-        double wq = cam->shape_w[q];
-        for (int a = 0; a < 3; a++) {
-          double f0 = w->fb0[a0][a], f1 = w->fb0[a0 + 1][a];
-          fa[a] += wq * (w->pb0[a0][a] + u * w->vb0[a0][a] + 0.5 * u * u * f0 +
-                         u * u * u * (f1 - f0) / (6 * dt));
-          da[a] += wq * (w->vb0[a0][a] + u * f0 + 0.5 * u * u * (f1 - f0) / dt);
-        }
-      }
-      memcpy(ft[j], fa, sizeof fa);
-      memcpy(dft[j], da, sizeof da);
-    }
     w->ftab[sh] = ft;
     w->dftab[sh] = dft;
     w->mtab[sh] = mt;

@@ -163,23 +163,55 @@ find_shapes(AwCamPrep *c)
 }
 
 void
-aw_fusion_shape_table(const AwCamPrep *cam, size_t shape, const double *t, size_t n,
-                      const double (*f)[3], const double (*v)[3], const double (*p)[3],
-                      double (*out)[3], unsigned char *ok)
+aw_fusion_knots(const double *t, size_t n, double h_s, size_t *kdec, size_t *nk)
+{
+  size_t d = 1;
+  if (n >= 2 && t[n - 1] > t[0])
+    d = (size_t)fmax(1.0, floor(h_s * (double)(n - 1) / (t[n - 1] - t[0]) + 0.5));
+  *kdec = d;
+  *nk = n >= 2 ? (n - 2) / d + 2 : n;
+}
+
+/* aw_fusion_shape_table with or without the derivative (with_d a constant where it is
+ * inlined, so each version has only its own arithmetic). */
+static inline __attribute__((always_inline)) void
+shape_table_run(const AwCamPrep *cam, size_t shape, const double *t, size_t n,
+                const double (*f)[3], const double (*v)[3], const double (*p)[3], size_t kdec,
+                size_t nk, double (*out)[3], double (*dout)[3], unsigned char *ok, bool with_d)
 {
   size_t q0 = cam->shape_start[shape], q1 = cam->shape_start[shape + 1];
   size_t hints[64] = { 0 };
-  for (size_t i = 0; i < n; i++) {
-    double acc[3] = { 0, 0, 0 };
-    ok[i] = n >= 2 && t[i] + cam->shape_u[q0] >= t[0] && t[i] + cam->shape_u[q1 - 1] <= t[n - 1];
-    if (ok[i])
+  for (size_t j = 0; j < nk; j++) {
+    size_t i = aw_fusion_knot(j, kdec, nk, n);
+    /* sums in locals (kept in registers: the compiler cannot tell that out aliases no input) */
+    double acc[3] = { 0, 0, 0 }, dacc[3] = { 0, 0, 0 };
+    ok[j] = n >= 2 && t[i] + cam->shape_u[q0] >= t[0] && t[i] + cam->shape_u[q1 - 1] <= t[n - 1];
+    if (ok[j])
       for (size_t q = q0; q < q1; q++) {
-        double pj[3];
-        aw_fusion_pos_at(t, n, f, v, p, t[i] + cam->shape_u[q], &hints[q - q0], pj);
-        for (int a = 0; a < 3; a++) acc[a] += cam->shape_w[q] * pj[a];
+        /* p as aw_fusion_pos_at, and its derivative */
+        double x = t[i] + cam->shape_u[q], wq = cam->shape_w[q];
+        size_t a0 = aw_fusion_locate(t, n, x, &hints[q - q0]);
+        if (a0 + 1 >= n) a0 = n - 2;
+        double dt = t[a0 + 1] - t[a0], u = x - t[a0];
+        for (int a = 0; a < 3; a++) {
+          double f0 = f[a0][a], f1 = f[a0 + 1][a];
+          acc[a] += wq * (p[a0][a] + u * v[a0][a] + 0.5 * u * u * f0 + u * u * u * (f1 - f0) / (6 * dt));
+          if (with_d) dacc[a] += wq * (v[a0][a] + u * f0 + 0.5 * u * u * (f1 - f0) / dt);
+        }
       }
-    for (int a = 0; a < 3; a++) out[i][a] = acc[a];
+    for (int a = 0; a < 3; a++) out[j][a] = acc[a];
+    if (with_d) for (int a = 0; a < 3; a++) dout[j][a] = dacc[a];
   }
+}
+
+void
+aw_fusion_shape_table(const AwCamPrep *cam, size_t shape, const double *t, size_t n,
+                      const double (*f)[3], const double (*v)[3], const double (*p)[3],
+                      size_t kdec, size_t nk, double (*out)[3], double (*dout)[3],
+                      unsigned char *ok)
+{
+  if (dout) shape_table_run(cam, shape, t, n, f, v, p, kdec, nk, out, dout, ok, true);
+  else shape_table_run(cam, shape, t, n, f, v, p, kdec, nk, out, NULL, ok, false);
 }
 
 AwStatus

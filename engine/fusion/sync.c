@@ -556,7 +556,8 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
       double (*t)[3] = malloc(sizeof *t * imu->n);
       if (!t) continue;
       aw_fusion_shape_table(cam, sh, imu->t_s, imu->n, (const double (*)[3])c.fb0,
-                            (const double (*)[3])c.cumb, (const double (*)[3])c.pb, t, c.tab_ok);
+                            (const double (*)[3])c.cumb, (const double (*)[3])c.pb, 1, imu->n, t,
+                            NULL, c.tab_ok);
       for (size_t i = 0; i < imu->n; i++)
         for (int a = 0; a < 3; a++) t[i][a] = c.tab_ok[i] ? t[i][a] - c.mm[i][a] : (double)NAN;
       c.tab[sh] = t;
