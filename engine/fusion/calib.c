@@ -314,11 +314,7 @@ w_imu_acc(const WCtx *w, size_t k, double shift, size_t *hint, double out[3], do
     if (isnan(f0[i][0]) || isnan(f0[i + 1][0])) return false;
     /* cubic Hermite on the values and their time derivatives: smooth in the shift, so the
      * cost's minimum and curvature are not those of a piecewise-linear interpolant */
-    double r2 = r * r, r3 = r2 * r;
-    double h00 = 2 * r3 - 3 * r2 + 1, h10 = (r3 - 2 * r2 + r) * h, h01 = 3 * r2 - 2 * r3,
-           h11 = (r3 - r2) * h;
-    for (int a = 0; a < 3; a++)
-      out[a] = h00 * f0[i][a] + h10 * d0[i][a] + h01 * f0[i + 1][a] + h11 * d0[i + 1][a];
+    aw_fusion_hermite(f0[i], d0[i], f0[i + 1], d0[i + 1], r, h, out);
     if (!M) return true;
     const double (*ma)[3] = w_mtab(w, (size_t)sh, s), (*mb)[3] = w_mtab(w, (size_t)sh, s + 1);
     double rs = (t - w->tau[s]) / (w->tau[s + 1] - w->tau[s]);

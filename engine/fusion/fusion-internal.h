@@ -77,6 +77,18 @@ aw_fusion_knot(size_t j, size_t kdec, size_t nk, size_t n)
   return j + 1 < nk ? j * kdec : n - 1;
 }
 
+/* Cubic Hermite interpolation at r in [0, 1] of an interval of length h between values y0, y1
+ * with time derivatives d0, d1. */
+static inline void
+aw_fusion_hermite(const double y0[3], const double d0[3], const double y1[3], const double d1[3],
+                  double r, double h, double out[3])
+{
+  double r2 = r * r, r3 = r2 * r;
+  double h00 = 2 * r3 - 3 * r2 + 1, h10 = (r3 - 2 * r2 + r) * h, h01 = 3 * r2 - 2 * r3,
+         h11 = (r3 - r2) * h;
+  for (int a = 0; a < 3; a++) out[a] = h00 * y0[a] + h10 * d0[a] + h01 * y1[a] + h11 * d1[a];
+}
+
 /* A camera-fit operator shape applied to the double integral p of a specific force f
  * (running integral v) on the sample times t, at the knots (kdec, nk as from aw_fusion_knots;
  * kdec 1, nk n for every sample): out[j] = sum over taps of w * p(t[i] + u) with i the knot's
