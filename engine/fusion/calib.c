@@ -298,6 +298,14 @@ w_tap(const WCtx *w, size_t j, double shift, size_t *hint, bool with_R)
   return tp;
 }
 
+/* Whether frame k's operator has a shape table. */
+static bool
+w_tabled(const WCtx *w, size_t k)
+{
+  int sh = w->cam->shape ? w->cam->shape[k] : -1;
+  return sh >= 0 && w->ftab[sh];
+}
+
 static bool
 w_imu_acc(const WCtx *w, size_t k, double shift, size_t *hint, double out[3], double M[3][3])
 {
@@ -951,37 +959,58 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
         /* The 10 ms grid coarse to fine: every third point (30 ms) first, then the points
          * within 20 ms of the two lowest local minima of those: the lowest 10 ms point of
          * either basin and both its neighbours are evaluated (a basin spans several 30 ms
-         * steps). 25 evaluations instead of 51. */
-        double gc_[51];
-        unsigned char done[51] = { 0 };
+         * steps). 27 evaluations instead of 51. The 30 ms pass only brackets the basins: it
+         * takes the frames whose operator has a table (the frames beside occlusions and
+         * trimmed outliers have none, are evaluated tap by tap, and are the least sure) when
+         * they are at least half of them and 20; the points around the minima take all, and
+         * only they are compared. */
+        double gcoarse[51], gfine[51];
+        unsigned char cdone[51] = { 0 }, fdone[51] = { 0 };
         int jb = -1;
         double (*sF)[3] = malloc(sizeof *sF * wc.m), (*sA)[3] = malloc(sizeof *sA * wc.m);
         double *se = malloc(sizeof *se * 2 * wc.m);
         unsigned char *su = malloc(wc.m);
-        bool scratch = sF && sA && se && su;
-        for (int j = 0; j < 51; j++) gc_[j] = INFINITY;
+        size_t *tabbed = malloc(sizeof *tabbed * (wc.m ? wc.m : 1));
+        bool scratch = sF && sA && se && su && tabbed;
+        WCtx wk = wc;   /* the coarse pass's frames */
+        if (scratch) {
+          wk.m = 0;
+          for (size_t j = 0; j < wc.m; j++)
+            if (w_tabled(&w, wc.frames[j])) tabbed[wk.m++] = wc.frames[j];
+          if (wk.m >= 20 && 2 * wk.m >= wc.m) wk.frames = tabbed;
+          else wk = wc;
+        }
+        bool same = wk.frames == wc.frames;
+        for (int j = 0; j < 51; j++) gcoarse[j] = gfine[j] = INFINITY;
         for (int j = 1; j < 51 && scratch; j += 3) {
-          gc_[j] = w_cost_rot(&wc, (j - 25) * step, sF, sA, se, su);
-          done[j] = 1;
+          gcoarse[j] = w_cost_rot(&wk, (j - 25) * step, sF, sA, se, su);
+          cdone[j] = 1;
         }
         int mins[2] = { -1, -1 };
         for (int j = 1; j < 51 && scratch; j += 3) {
-          if (!isfinite(gc_[j])) continue;
-          if ((j >= 4 && gc_[j - 3] < gc_[j]) || (j + 3 < 51 && gc_[j + 3] < gc_[j])) continue;
-          if (mins[0] < 0 || gc_[j] < gc_[mins[0]]) { mins[1] = mins[0]; mins[0] = j; }
-          else if (mins[1] < 0 || gc_[j] < gc_[mins[1]]) mins[1] = j;
+          if (!isfinite(gcoarse[j])) continue;
+          if ((j >= 4 && gcoarse[j - 3] < gcoarse[j]) || (j + 3 < 51 && gcoarse[j + 3] < gcoarse[j])) continue;
+          if (mins[0] < 0 || gcoarse[j] < gcoarse[mins[0]]) { mins[1] = mins[0]; mins[0] = j; }
+          else if (mins[1] < 0 || gcoarse[j] < gcoarse[mins[1]]) mins[1] = j;
         }
+        /* gfine[j] on all the grid's frames (the coarse value when the frames are the same) */
+#define W_FINE(j)                                                                          \
+  do {                                                                                     \
+    if ((j) >= 0 && (j) < 51 && !fdone[j]) {                                               \
+      gfine[j] = same && cdone[j] ? gcoarse[j] : w_cost_rot(&wc, ((j) - 25) * step, sF, sA, se, su); \
+      fdone[j] = 1;                                                                        \
+    }                                                                                      \
+  } while (0)
         for (int mq = 0; mq < 2; mq++)
-          for (int j = mins[mq] - 2; mins[mq] >= 0 && j <= mins[mq] + 2; j++)
-            if (j >= 0 && j < 51 && !done[j]) {
-              gc_[j] = w_cost_rot(&wc, (j - 25) * step, sF, sA, se, su);
-              done[j] = 1;
-            }
+          for (int j = mins[mq] - 2; mins[mq] >= 0 && j <= mins[mq] + 2; j++) W_FINE(j);
         for (int j = 0; j < 51; j++)
-          if (done[j] && isfinite(gc_[j]) && (jb < 0 || gc_[j] < gc_[jb])) jb = j;
-        free(sub); free(sF); free(sA); free(se); free(su);
+          if (fdone[j] && isfinite(gfine[j]) && (jb < 0 || gfine[j] < gfine[jb])) jb = j;
+        /* the parabola's neighbours of a minimum at a window's edge */
+        if (jb >= 0) { W_FINE(jb - 1); W_FINE(jb + 1); }
+#undef W_FINE
+        free(sub); free(sF); free(sA); free(se); free(su); free(tabbed);
         double best = jb >= 0 ? (jb - 25) * step : 0;
-        if (jb > 0 && jb < 50) best += step * parabola_min(gc_[jb - 1], gc_[jb], gc_[jb + 1]);
+        if (jb > 0 && jb < 50) best += step * parabola_min(gfine[jb - 1], gfine[jb], gfine[jb + 1]);
         /* The inlier set of the joint fit at the coarse minimum, then held fixed: trimming
          * inside every evaluation makes the cost jump by tens of percent between shifts a
          * millisecond apart. Re-trimmed once at the refined shift (and refined again when the
