@@ -44,7 +44,7 @@ typedef struct {
 /* Half-width of the per-frame tables (SyncCtx.loc): the winner's scans and polish stay within
  * +-30 ms of where they start. */
 #define LOC_HALF_S 0.035
-/* At most this many IMU samples per frame table (the scans and polish evaluate a frame's own
+/* At most this many entries per frame table (the scans and polish evaluate a frame's own
  * operator at about 25 offsets; a longer table would cost more than it saves). */
 #define LOC_MAX 20
 
@@ -69,9 +69,9 @@ typedef struct {
   bool approx;             /* frames without a table of their own use tab_main's */
   size_t stride;           /* score every stride-th frame (the coarse grid: 2) */
   /* Frames without a shape table, for the winner's exact refinement: each frame's own
-   * operator tabulated on the IMU samples within LOC_HALF_S of where the frame falls at the
-   * winner's offset (loc_build), looked up as the shape tables are; without drift only, and
-   * exact evaluation outside. */
+   * operator tabulated on every kdec-th IMU sample within LOC_HALF_S of where the frame falls
+   * at the winner's offset (loc_build), looked up as the shape tables are; without drift
+   * only, and exact evaluation outside. */
   bool local;              /* use them */
   double (*loc)[3];
   size_t *loc_at, *loc_i0; /* per frame: first entry in loc, its IMU sample */
@@ -157,12 +157,12 @@ imu_seen(const SyncCtx *c, size_t k, double ti, double off, double drift, size_t
     return tab_at(c, (const double (*)[3])c->tab[c->tab_main], c->kdec, c->nk, ti, hint, out);
   const AwImuPrep *imu = c->imu;
   if (c->local && drift == 0 && c->loc_len[k]) {
-    size_t i0 = c->loc_i0[k], len = c->loc_len[k];
-    if (ti >= imu->t_s[i0] && ti < imu->t_s[i0 + len - 1]) {
+    size_t i0 = c->loc_i0[k], len = c->loc_len[k], d = c->kdec;
+    if (ti >= imu->t_s[i0] && ti < imu->t_s[i0 + (len - 1) * d]) {
       size_t j = 0;
-      while (imu->t_s[i0 + j + 1] <= ti) j++;
+      while (imu->t_s[i0 + (j + 1) * d] <= ti) j++;
       const double (*L)[3] = (const double (*)[3])c->loc + c->loc_at[k];
-      double u = (ti - imu->t_s[i0 + j]) / (imu->t_s[i0 + j + 1] - imu->t_s[i0 + j]);
+      double ta = imu->t_s[i0 + j * d], u = (ti - ta) / (imu->t_s[i0 + (j + 1) * d] - ta);
       for (int a = 0; a < 3; a++) out[a] = L[j][a] + u * (L[j + 1][a] - L[j][a]);
       return !isnan(out[0]);
     }
@@ -251,9 +251,10 @@ typedef struct {
 } Peak;
 
 /* The per-frame tables of SyncCtx.loc around offset off: for every usable frame without a
- * shape table, its own operator (minus the +-5 s mean) at the IMU samples whose times cover
+ * shape table, its own operator (minus the +-5 s mean) at every kdec-th IMU sample (the
+ * spacing of the shape tables' knots, with the same interpolation error) over times covering
  * t_k - off +- LOC_HALF_S, NaN where a tap falls outside the recording. Frames near the ends,
- * or at IMU rates that would need more than LOC_MAX samples, get none (exact evaluation).
+ * or at IMU rates that would need more than LOC_MAX entries, get none (exact evaluation).
  * Fails quietly (no tables) without memory. */
 static void
 loc_build(SyncCtx *c, double off)
@@ -284,9 +285,13 @@ loc_build(SyncCtx *c, double off)
     if (tc - LOC_HALF_S < t0 || tc + LOC_HALF_S >= t1) continue;
     size_t i0 = aw_fusion_locate(imu->t_s, imu->n, tc - LOC_HALF_S, &hint);
     size_t i1 = aw_fusion_locate(imu->t_s, imu->n, tc + LOC_HALF_S, &hint) + 1;
-    if (i1 >= imu->n || i1 - i0 + 1 > LOC_MAX) continue;
+    /* entries every kdec-th sample from i0 (the shape tables' spacing), the last at or
+     * beyond i1 */
+    size_t len = (i1 - i0 + c->kdec - 1) / c->kdec + 1, last = i0 + (len - 1) * c->kdec;
+    if (last >= imu->n || len > LOC_MAX) continue;
     double (*L)[3] = c->loc + used;
-    for (size_t i = i0; i <= i1; i++) {
+    for (size_t e = 0; e < len; e++) {
+      size_t i = i0 + e * c->kdec;
       double acc[3] = { 0, 0, 0 };
       bool ok = !isnan(c->mm[i][0]);
       for (size_t q = cam->wstart[k]; ok && q < cam->wstart[k + 1]; q++) {
@@ -296,12 +301,12 @@ loc_build(SyncCtx *c, double off)
                          (const double (*)[3])c->cumb, (const double (*)[3])c->pb, tj, &h3, pj);
         for (int a = 0; a < 3; a++) acc[a] += cam->wval[q] * pj[a];
       }
-      for (int a = 0; a < 3; a++) L[i - i0][a] = ok ? acc[a] - c->mm[i][a] : (double)NAN;
+      for (int a = 0; a < 3; a++) L[e][a] = ok ? acc[a] - c->mm[i][a] : (double)NAN;
     }
     c->loc_at[k] = used;
     c->loc_i0[k] = i0;
-    c->loc_len[k] = (unsigned char)(i1 - i0 + 1);
-    used += i1 - i0 + 1;
+    c->loc_len[k] = (unsigned char)len;
+    used += len;
   }
 }
 
