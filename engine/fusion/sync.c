@@ -552,13 +552,18 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
     }
   }
   {
-    /* The +-5 s mean at every sample (two running indices: O(n)). */
-    size_t lo = 0, hi = 0;
+    /* The +-5 s mean at every sample (two running indices: O(n)); where the window is cut to
+     * the same span at both ends as for the sample before (within 5 s of both ends of the
+     * recording, so everywhere in one under 10 s), the same mean. */
+    size_t lo = 0;
+    double pt0 = NAN, pt1 = NAN;
     for (size_t i = 0; i < imu->n; i++) {
       double t = imu->t_s[i], t0 = fmax(imu->t_s[0], t - 5.0), t1 = fmin(imu->t_s[imu->n - 1], t + 5.0);
-      if (!aw_fusion_box_mean(imu->t_s, c.cumb, c.fb0, imu->n, t0, t1, &lo, c.mm[i]))
+      if (t0 == pt0 && t1 == pt1) memcpy(c.mm[i], c.mm[i - 1], sizeof c.mm[i]);
+      else if (!aw_fusion_box_mean(imu->t_s, c.cumb, c.fb0, imu->n, t0, t1, &lo, c.mm[i]))
         c.mm[i][0] = c.mm[i][1] = c.mm[i][2] = (double)NAN;
-      (void)hi;
+      pt0 = t0;
+      pt1 = t1;
     }
     /* One table per operator shape that enough frames share to repay it (a frame evaluated
      * alone costs one operator per offset its own operator is tried at: about 32, the winner's
