@@ -63,6 +63,7 @@ typedef struct {
    * frames are evaluated one by one), at the knots (aw_fusion_knots, about SYNC_KNOT_S apart);
    * NaN where undefined. */
   size_t kdec, nk;
+  double *kt;              /* the knots' times */
   double (*tab[AW_CAM_MAX_SHAPES])[3];
   unsigned char *tab_ok;   /* scratch for aw_fusion_shape_table */
   int tab_main;            /* the most common shape (its table exists), -1 = none */
@@ -90,7 +91,7 @@ static void
 ctx_free(SyncCtx *c)
 {
   free(c->sc); free(c->fb0); free(c->cumb); free(c->pb); free(c->mm); free(c->tab_ok);
-  free(c->loc); free(c->loc_at); free(c->loc_i0); free(c->loc_len); free(c->taps);
+  free(c->loc); free(c->loc_at); free(c->loc_i0); free(c->loc_len); free(c->taps); free(c->kt);
   for (size_t s = 0; s < AW_CAM_MAX_SHAPES; s++) free(c->tab[s]);
 }
 
@@ -103,21 +104,16 @@ imu_time(double t_depth, double off_mid, double drift, double t_mid)
   return (t_depth - off_mid + drift * t_mid) / (1.0 + drift);
 }
 
-/* Linear interpolation at IMU time ti of a table at the knots kdec, nk (1, n: every sample);
- * false where undefined. The tables are smooth on the scale of their knots' spacing (the +-5 s
- * mean; the fit spans >= 0.4 s). */
+/* Linear interpolation at IMU time ti of a table on the times t[0..n) (the knots c->kt, or
+ * every IMU sample); false where undefined. The tables are smooth on the scale of their
+ * spacing (the +-5 s mean; the fit spans >= 0.4 s). */
 static inline bool
-tab_at(const SyncCtx *c, const double (*tab)[3], size_t kdec, size_t nk, double ti, size_t *hint,
-       double out[3])
+tab_at(const double (*tab)[3], const double *t, size_t n, double ti, size_t *hint, double out[3])
 {
-  const AwImuPrep *imu = c->imu;
-  if (ti < imu->t_s[0] || ti >= imu->t_s[imu->n - 1]) return false;
-  size_t s = aw_fusion_locate(imu->t_s, imu->n, ti, hint);
-  if (s + 1 >= imu->n) return false;
-  size_t i = s / kdec;
-  if (i + 2 > nk) i = nk - 2;
-  double t0 = imu->t_s[aw_fusion_knot(i, kdec, nk, imu->n)];
-  double u = (ti - t0) / (imu->t_s[aw_fusion_knot(i + 1, kdec, nk, imu->n)] - t0);
+  if (ti < t[0] || ti >= t[n - 1]) return false;
+  size_t i = aw_fusion_locate(t, n, ti, hint);
+  if (i + 1 >= n) return false;
+  double u = (ti - t[i]) / (t[i + 1] - t[i]);
   for (int a = 0; a < 3; a++) out[a] = tab[i][a] + u * (tab[i + 1][a] - tab[i][a]);
   return !isnan(out[0]);
 }
@@ -152,9 +148,9 @@ imu_seen(const SyncCtx *c, size_t k, double ti, double off, double drift, size_t
   const AwCamPrep *cam = c->cam;
   int sh = cam->shape ? cam->shape[k] : -1;
   if (sh >= 0 && c->tab[sh])
-    return tab_at(c, (const double (*)[3])c->tab[sh], c->kdec, c->nk, ti, hint, out);
+    return tab_at((const double (*)[3])c->tab[sh], c->kt, c->nk, ti, hint, out);
   if (c->approx && c->tab_main >= 0)
-    return tab_at(c, (const double (*)[3])c->tab[c->tab_main], c->kdec, c->nk, ti, hint, out);
+    return tab_at((const double (*)[3])c->tab[c->tab_main], c->kt, c->nk, ti, hint, out);
   const AwImuPrep *imu = c->imu;
   if (c->local && drift == 0 && c->loc_len[k]) {
     size_t i0 = c->loc_i0[k], len = c->loc_len[k], d = c->kdec;
@@ -168,7 +164,8 @@ imu_seen(const SyncCtx *c, size_t k, double ti, double off, double drift, size_t
     }
   }
   double mm[3];
-  if (!tab_at(c, (const double (*)[3])c->mm, 1, c->imu->n, ti, hint, mm)) return false;
+  /* (h3: the IMU samples' walk, as the taps') */
+  if (!tab_at((const double (*)[3])c->mm, imu->t_s, imu->n, ti, h3, mm)) return false;
   double acc[3] = { 0, 0, 0 };
   for (size_t q = cam->wstart[k]; q < cam->wstart[k + 1]; q++) {
     const double *pj = tap_at(c, cam->widx[q], off, drift, h3);
@@ -574,6 +571,9 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
      * >= 0.4 s whose output holds little above a few hertz, and linear interpolation between
      * knots is good to (pi f h)^2 / 8 of it, 0.4 % at 3 Hz. */
     aw_fusion_knots(imu->t_s, imu->n, SYNC_KNOT_S, &c.kdec, &c.nk);
+    c.kt = malloc(sizeof *c.kt * c.nk);
+    if (!c.kt) { ctx_free(&c); return AW_ERR_NO_MEMORY; }
+    for (size_t j = 0; j < c.nk; j++) c.kt[j] = imu->t_s[aw_fusion_knot(j, c.kdec, c.nk, imu->n)];
     c.tab_main = -1;
     for (size_t sh = 0; sh < cam->n_shape; sh++)
       if (c.tab_main < 0 || cam->shape_count[sh] > cam->shape_count[c.tab_main]) c.tab_main = (int)sh;
