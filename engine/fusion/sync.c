@@ -6,12 +6,13 @@
  * IMU's dynamic acceleration (specific force rotated into the gyro-stabilised first-sample frame
  * minus its +-5 s mean) seen through the same fit operator: the camera's fit weights applied to
  * the IMU's double integral at the frames' times. Frames whose taps sit on the nominal frame
- * grid share an operator shape, tabulated once on the IMU samples (prep.c), so a score costs a
- * table look-up per frame; other frames are evaluated alone. Occluded frames (no fit) and IMU
- * look-ups outside the recording drop out of the Pearson sums. A 20 ms grid over the whole
- * range (frames without a table of their own use the commonest shape's), then the best three
- * local maxima refined with every frame's own operator (5 ms, 1 ms, parabola) and the winner
- * polished by two parabola steps. Recordings over a minute are cut into 30 s segments whose
+ * grid share an operator shape, tabulated once at knots every ~20 ms of the IMU samples
+ * (prep.c), so a score costs a table look-up per frame; other frames are evaluated alone.
+ * Occluded frames (no fit) and IMU look-ups outside the recording drop out of the Pearson
+ * sums. A 40 ms grid over the whole range (frames without a table of their own use the
+ * commonest shape's), the best three local maxima ranked after a 5 ms parabola step, the
+ * winner scanned with every frame's own operator (5 ms, 1 ms, parabola) and polished by two
+ * parabola steps. Recordings over a minute are cut into 30 s segments whose
  * offsets give the drift by a weighted straight-line fit.
  */
 #include "fusion-internal.h"
