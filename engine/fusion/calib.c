@@ -266,14 +266,14 @@ w_tables_free(WCtx *w)
 }
 
 /* The IMU side at camera frame j's time minus a shift, for the operators evaluated tap by tap:
- * the double integral of f_b0 there and (with_R) the rotation, from the frame's entry in
- * w->taps when it holds this shift (a frame is a tap of the dozen operators around it, all
- * evaluated at the same shift one after the other). NULL when the time falls outside tau. */
+ * the double integral of f_b0 there and (with_R) the rotation, computed into the frame's entry
+ * in w->taps (w_tap reads it while it holds this shift: a frame is a tap of the dozen
+ * operators around it, all evaluated at the same shift one after the other). NULL when the
+ * time falls outside tau. */
 static const WTap *
-w_tap(const WCtx *w, size_t j, double shift, size_t *hint, bool with_R)
+w_tap_fill(const WCtx *w, size_t j, double shift, size_t *hint, bool with_R)
 {
   WTap *tp = &w->taps[j];
-  if (tp->at == shift && (!with_R || tp->at_R == shift)) return tp->in ? tp : NULL;
   double t = w->cam->t_s[j] - shift;
   tp->at = shift;
   tp->at_R = NAN;
@@ -296,6 +296,15 @@ w_tap(const WCtx *w, size_t j, double shift, size_t *hint, bool with_R)
     tp->at_R = shift;
   }
   return tp;
+}
+
+/* w_tap_fill's entry when it holds the shift (most calls: inline) */
+static inline const WTap *
+w_tap(const WCtx *w, size_t j, double shift, size_t *hint, bool with_R)
+{
+  const WTap *tp = &w->taps[j];
+  if (tp->at == shift && (!with_R || tp->at_R == shift)) return tp->in ? tp : NULL;
+  return w_tap_fill(w, j, shift, hint, with_R);
 }
 
 /* Whether frame k's operator has a shape table. */
