@@ -127,6 +127,12 @@ aw_fusion_wahba(double B[3][3], double q[4])
 /* The joint fit's operators (F, M and whether they are defined, per entry of the frames) at
  * the last W_MEMO shifts it was evaluated at: the re-trimming fits and the final solution come
  * back to the shift the steps ended on, and the clock's sigma counts the frames at one. */
+/* The moments of the joint fit's frame set (w_resid_n): means of a, F, M and the centred sums;
+ * N0 = S(M^T M), the lever's normal matrix. */
+typedef struct {
+  double ac[3], Fb[3], Mb[3][3], Saa, SFF, SFa[3][3], T[3][3][3], P[3], Q[3][3], MM[3][3], N0[3][3];
+} WMoments;
+
 enum { W_MEMO = 4 };
 typedef struct {
   double shift[W_MEMO];
@@ -134,6 +140,10 @@ typedef struct {
   double (*F)[3];         /* W_MEMO x m */
   double (*M)[3][3];
   unsigned char *def;
+  /* per slot, the moments of the last two frame sets fitted there (w_moments_at) */
+  WMoments *mom;          /* W_MEMO x 2 */
+  unsigned char *mset;    /* W_MEMO x 2 x m: those sets */
+  int n_mom[W_MEMO];
 } WMemo;
 
 /* Spacing of the shape tables' knots (w_tables). */
@@ -359,7 +369,7 @@ w_imu_acc(const WCtx *w, size_t k, double shift, size_t *hint, double out[3], do
 
 /* F, M (the lever term) and their definedness for every entry of the frames at a shift, from
  * the memo or computed into its oldest slot. */
-static void
+static size_t
 w_ops(const WCtx *w, double shift, const double (**F)[3], const double (**M)[3][3],
       const unsigned char **def)
 {
@@ -369,6 +379,7 @@ w_ops(const WCtx *w, double shift, const double (**F)[3], const double (**M)[3][
   if (slot == nm) {
     slot = mo->n_put++ % W_MEMO;
     mo->shift[slot] = shift;
+    mo->n_mom[slot] = 0;
     size_t hint = 0;
     for (size_t j = 0; j < w->m; j++)
       mo->def[slot * w->m + j] = w_imu_acc(w, w->frames[j], shift, &hint, mo->F[slot * w->m + j],
@@ -377,6 +388,7 @@ w_ops(const WCtx *w, double shift, const double (**F)[3], const double (**M)[3][
   *F = (const double (*)[3])mo->F + slot * w->m;
   *M = (const double (*)[3][3])mo->M + slot * w->m;
   *def = mo->def + slot * w->m;
+  return slot;
 }
 
 /* Wahba's problem at a clock shift, with the lever arm l (body frame) solved alternately:
@@ -387,6 +399,78 @@ w_ops(const WCtx *w, double shift, const double (**F)[3], const double (**M)[3][
  * T[r][c][s] = S(M~[r][c] a~[s]); the residual sum is S|a~|^2 + S|F~ + M~ l|^2 - 2 tr(R B) (R
  * orthonormal); the normal equations' right side is sum_rs R[s][r] T[r][c][s] - S(M~^T F~) +
  * n mean(M)^T mean(M) l. Centred sums keep the cancellation small. */
+static void
+w_moments(const WCtx *w, const double (*F)[3], const double (*M)[3][3], const unsigned char *ok,
+          size_t cnt, WMoments *out)
+{
+  /* sums in a local (kept in registers: the compiler cannot tell that out aliases no input) */
+  WMoments m, *mo = &m;
+  double n = (double)cnt;
+  memset(mo->ac, 0, sizeof mo->ac); memset(mo->Fb, 0, sizeof mo->Fb); memset(mo->Mb, 0, sizeof mo->Mb);
+  for (size_t j = 0; j < w->m; j++) {
+    if (!ok[j]) continue;
+    const double *a = w->cam->acc_m_s2[w->frames[j]];
+    for (int r = 0; r < 3; r++) {
+      mo->ac[r] += a[r];
+      mo->Fb[r] += F[j][r];
+      for (int c = 0; c < 3; c++) mo->Mb[r][c] += M[j][r][c];
+    }
+  }
+  for (int r = 0; r < 3; r++) {
+    mo->ac[r] /= n;
+    mo->Fb[r] /= n;
+    for (int c = 0; c < 3; c++) mo->Mb[r][c] /= n;
+  }
+  mo->Saa = 0; mo->SFF = 0;
+  memset(mo->SFa, 0, sizeof mo->SFa); memset(mo->T, 0, sizeof mo->T); memset(mo->P, 0, sizeof mo->P);
+  memset(mo->Q, 0, sizeof mo->Q);
+  for (size_t j = 0; j < w->m; j++) {
+    if (!ok[j]) continue;
+    const double *a = w->cam->acc_m_s2[w->frames[j]];
+    double at[3], ft[3], mt[3][3];
+    for (int r = 0; r < 3; r++) {
+      at[r] = a[r] - mo->ac[r];
+      ft[r] = F[j][r] - mo->Fb[r];
+      for (int c = 0; c < 3; c++) mt[r][c] = M[j][r][c] - mo->Mb[r][c];
+    }
+    for (int r = 0; r < 3; r++) {
+      mo->Saa += at[r] * at[r];
+      mo->SFF += ft[r] * ft[r];
+      for (int s = 0; s < 3; s++) mo->SFa[r][s] += ft[r] * at[s];
+      for (int c = 0; c < 3; c++) {
+        mo->P[c] += mt[r][c] * ft[r];
+        for (int s = 0; s < 3; s++) mo->T[r][c][s] += mt[r][c] * at[s];
+        for (int k = c; k < 3; k++) mo->Q[c][k] += mt[r][c] * mt[r][k];
+      }
+    }
+  }
+  for (int c = 0; c < 3; c++)
+    for (int k = c; k < 3; k++) {
+      double s = 0;
+      for (int r = 0; r < 3; r++) s += mo->Mb[r][c] * mo->Mb[r][k];
+      mo->MM[c][k] = mo->MM[k][c] = n * s;
+      mo->Q[k][c] = mo->Q[c][k];
+      mo->N0[c][k] = mo->N0[k][c] = mo->Q[c][k] + mo->MM[c][k];
+    }
+  *out = m;
+}
+
+/* The moments of the set ok at the memo's slot (its shift): kept for the last two sets there
+ * (the re-trimming fits come back to the shift the steps ended on with the set they trimmed
+ * to), computed otherwise. */
+static const WMoments *
+w_moments_at(const WCtx *w, size_t slot, const double (*F)[3], const double (*M)[3][3],
+             const unsigned char *ok, size_t cnt)
+{
+  WMemo *mo = w->memo;
+  for (int e = 0; e < mo->n_mom[slot] && e < 2; e++)
+    if (memcmp(mo->mset + (slot * 2 + (size_t)e) * w->m, ok, w->m) == 0) return &mo->mom[slot * 2 + (size_t)e];
+  size_t e = mo->n_mom[slot]++ % 2, at = slot * 2 + e;
+  memcpy(mo->mset + at * w->m, ok, w->m);
+  w_moments(w, F, M, ok, cnt, &mo->mom[at]);
+  return &mo->mom[at];
+}
+
 static double
 w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[3], double l_out[3])
 {
@@ -394,7 +478,7 @@ w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[
   const unsigned char *def;
   unsigned char *ok = malloc(w->m ? w->m : 1);
   if (!ok) return INFINITY;
-  w_ops(w, shift, &F, &M, &def);
+  size_t slot = w_ops(w, shift, &F, &M, &def);
   size_t cnt = 0;
   for (size_t j = 0; j < w->m; j++) {
     ok[j] = def[j] && (!w->keep || w->keep[j]);
@@ -402,86 +486,34 @@ w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[
   }
   if (cnt < 10) { free(ok); return INFINITY; }
   double l[3] = { 0, 0, 0 }, q[4] = { 1, 0, 0, 0 }, R[3][3], g[3] = { 0, 0, 0 }, rms = INFINITY;
-  /* the set's moments (see above); N0 = S(M^T M), the lever's normal matrix */
-  double ac[3], Fb[3], Mb[3][3], Saa = 0, SFF = 0, SFa[3][3], T[3][3][3], P[3], Q[3][3],
-         MM[3][3], N0[3][3];
-  bool mom_ok = false;
+  const WMoments *mo = NULL;   /* the set's moments (see above) */
   for (int it = 0; it < iters; it++) {
-    if (!mom_ok) {
-      double n = (double)cnt;
-      memset(ac, 0, sizeof ac); memset(Fb, 0, sizeof Fb); memset(Mb, 0, sizeof Mb);
-      for (size_t j = 0; j < w->m; j++) {
-        if (!ok[j]) continue;
-        const double *a = w->cam->acc_m_s2[w->frames[j]];
-        for (int r = 0; r < 3; r++) {
-          ac[r] += a[r];
-          Fb[r] += F[j][r];
-          for (int c = 0; c < 3; c++) Mb[r][c] += M[j][r][c];
-        }
-      }
-      for (int r = 0; r < 3; r++) {
-        ac[r] /= n;
-        Fb[r] /= n;
-        for (int c = 0; c < 3; c++) Mb[r][c] /= n;
-      }
-      Saa = 0; SFF = 0;
-      memset(SFa, 0, sizeof SFa); memset(T, 0, sizeof T); memset(P, 0, sizeof P);
-      memset(Q, 0, sizeof Q);
-      for (size_t j = 0; j < w->m; j++) {
-        if (!ok[j]) continue;
-        const double *a = w->cam->acc_m_s2[w->frames[j]];
-        double at[3], ft[3], mt[3][3];
-        for (int r = 0; r < 3; r++) {
-          at[r] = a[r] - ac[r];
-          ft[r] = F[j][r] - Fb[r];
-          for (int c = 0; c < 3; c++) mt[r][c] = M[j][r][c] - Mb[r][c];
-        }
-        for (int r = 0; r < 3; r++) {
-          Saa += at[r] * at[r];
-          SFF += ft[r] * ft[r];
-          for (int s = 0; s < 3; s++) SFa[r][s] += ft[r] * at[s];
-          for (int c = 0; c < 3; c++) {
-            P[c] += mt[r][c] * ft[r];
-            for (int s = 0; s < 3; s++) T[r][c][s] += mt[r][c] * at[s];
-            for (int k = c; k < 3; k++) Q[c][k] += mt[r][c] * mt[r][k];
-          }
-        }
-      }
-      for (int c = 0; c < 3; c++)
-        for (int k = c; k < 3; k++) {
-          double s = 0;
-          for (int r = 0; r < 3; r++) s += Mb[r][c] * Mb[r][k];
-          MM[c][k] = MM[k][c] = n * s;
-          Q[k][c] = Q[c][k];
-          N0[c][k] = N0[k][c] = Q[c][k] + MM[c][k];
-        }
-      mom_ok = true;
-    }
+    if (!mo) mo = w_moments_at(w, slot, F, M, ok, cnt);
     double fc[3], B[3][3];
-    aw_mat_mul_v3(fc, (const double (*)[3])Mb, l);
-    for (int r = 0; r < 3; r++) fc[r] += Fb[r];
+    aw_mat_mul_v3(fc, (const double (*)[3])mo->Mb, l);
+    for (int r = 0; r < 3; r++) fc[r] += mo->Fb[r];
     for (int r = 0; r < 3; r++)
       for (int s = 0; s < 3; s++)
-        B[r][s] = SFa[r][s] + T[r][0][s] * l[0] + T[r][1][s] * l[1] + T[r][2][s] * l[2];
+        B[r][s] = mo->SFa[r][s] + mo->T[r][0][s] * l[0] + mo->T[r][1][s] * l[1] + mo->T[r][2][s] * l[2];
     aw_fusion_wahba(B, q);
     aw_quat_to_mat(R, q);
     double Rf[3];
     aw_mat_mul_v3(Rf, (const double (*)[3])R, fc);
-    aw_v3_sub(g, ac, Rf);
+    aw_v3_sub(g, mo->ac, Rf);
     /* residual, and the normal equations for l: R^T (a - g) - F = M l */
     double N[3][3], bv[3], Ql[3], MMl[3], trRB = 0;
-    memcpy(N, N0, sizeof N);
-    aw_mat_mul_v3(Ql, (const double (*)[3])Q, l);
-    aw_mat_mul_v3(MMl, (const double (*)[3])MM, l);
+    memcpy(N, mo->N0, sizeof N);
+    aw_mat_mul_v3(Ql, (const double (*)[3])mo->Q, l);
+    aw_mat_mul_v3(MMl, (const double (*)[3])mo->MM, l);
     for (int c = 0; c < 3; c++) {
       double s = 0;
       for (int r = 0; r < 3; r++)
-        for (int u = 0; u < 3; u++) s += R[u][r] * T[r][c][u];
-      bv[c] = s - P[c] + MMl[c];
+        for (int u = 0; u < 3; u++) s += R[u][r] * mo->T[r][c][u];
+      bv[c] = s - mo->P[c] + MMl[c];
     }
     for (int r = 0; r < 3; r++)
       for (int u = 0; u < 3; u++) trRB += R[u][r] * B[r][u];
-    double ss = Saa + SFF + 2 * aw_v3_dot(l, P) + aw_v3_dot(l, Ql) - 2 * trRB;
+    double ss = mo->Saa + mo->SFF + 2 * aw_v3_dot(l, mo->P) + aw_v3_dot(l, Ql) - 2 * trRB;
     rms = sqrt(fmax(0.0, ss) / (double)cnt);
     if (it == 1 && cnt > 20 && !w->keep) {
       /* Trim frames far off the fit (snapped or mis-detected keypoints agree with their
@@ -508,7 +540,7 @@ w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[
         if (kept >= 10) {
           for (size_t j = 0; j < w->m; j++) if (ok[j] && ev[j] > lim) ok[j] = 0;
           cnt = kept;
-          mom_ok = false;
+          mo = NULL;
         }
       }
       free(e2);
@@ -945,11 +977,13 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
       memo.F = malloc(sizeof *memo.F * W_MEMO * (m0 ? m0 : 1));
       memo.M = malloc(sizeof *memo.M * W_MEMO * (m0 ? m0 : 1));
       memo.def = malloc(W_MEMO * (m0 ? m0 : 1));
+      memo.mom = malloc(sizeof *memo.mom * W_MEMO * 2);
+      memo.mset = malloc(W_MEMO * 2 * (m0 ? m0 : 1));
       w.memo = &memo;
       w.taps = malloc(sizeof *w.taps * (cam->n ? cam->n : 1));
       if (w.taps) for (size_t k = 0; k < cam->n; k++) w.taps[k].at = w.taps[k].at_R = NAN;
       if (m0 >= 10 && Rb0) w_tables(&w);
-      if (m0 >= 10 && Rb0 && memo.F && memo.M && memo.def && w.taps) {
+      if (m0 >= 10 && Rb0 && memo.F && memo.M && memo.def && memo.mom && memo.mset && w.taps) {
         /* +-250 ms on a 10 ms grid (the magnitude-based stage-1 peak can be 200 ms off on
          * hard swings; the basin of the vector fit is several times wider than 10 ms) with the
          * closed-form rotation-only cost on every other frame, a parabola through the grid's
@@ -1084,7 +1118,7 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
         free(keep2);
       }
       w_tables_free(&w);
-      free(memo.F); free(memo.M); free(memo.def); free(w.taps);
+      free(memo.F); free(memo.M); free(memo.def); free(memo.mom); free(memo.mset); free(w.taps);
       free(Rb0);
       free(all_f);
     }
