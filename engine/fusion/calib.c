@@ -147,7 +147,7 @@ typedef struct {
 } WMemo;
 
 /* Spacing of the shape tables' knots (w_tables). */
-#define W_KNOT_S 0.04
+#define W_KNOT_S 0.02
 
 /* One camera frame's time minus a shift on the IMU side (w_tap). */
 typedef struct {
@@ -198,7 +198,9 @@ w_knot(const WCtx *w, size_t j)
  * knot; a frame alone costs one per shift tried, ~80). The knots are about W_KNOT_S apart:
  * the operator is a second derivative fitted over >= 0.4 s, so its output holds little
  * above a few hertz, and the cubic Hermite interpolation on values and derivatives between
- * knots (w_imu_acc) is good to (2 pi f h)^4 / 384: 1e-3 of it at 3 Hz, 7e-3 at 5 Hz. */
+ * knots (w_imu_acc) is good to (2 pi f h)^4 / 384: 5e-5 of it at 3 Hz, 4e-4 at 5 Hz. (At
+ * 40 ms, 1e-3 and 7e-3, one hard swing of the development seeds 5000 came out 1.3 ms further
+ * off in its clock; at 20 ms none moves beyond the printed digits against per-sample tables.) */
 static void
 w_tables(WCtx *w)
 {
@@ -238,8 +240,8 @@ w_tables(WCtx *w)
  * lever is centimetres: second-order errors in a 10 ms step's rotation are far below the
  * camera's acceleration noise). Between knots the table is interpolated linearly: the
  * operator's output (a second derivative of the rotation over >= 0.4 s, up to ~1000 s^-2 in a
- * downswing) moves by a few hertz, so the error is (pi f h)^2 / 8, about 1 % at 40 ms: ~0.1
- * m/s^2 times the lever in units of 3 cm, below the camera's acceleration noise. */
+ * downswing) moves by a few hertz, so the error is (pi f h)^2 / 8, about 0.4 % at 20 ms:
+ * ~0.05 m/s^2 times the lever in units of 3 cm, below the camera's acceleration noise. */
 static const double (*w_mtab(const WCtx *w, size_t sh, size_t j))[3]
 {
   double (*mt)[3] = w->mtab[sh][j];
