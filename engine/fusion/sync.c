@@ -6,8 +6,8 @@
  * IMU's dynamic acceleration (specific force rotated into the gyro-stabilised first-sample frame
  * minus its +-5 s mean) seen through the same fit operator: the camera's fit weights applied to
  * the IMU's double integral at the frames' times. Frames whose taps sit on the nominal frame
- * grid share an operator shape, tabulated once at knots every ~20 ms of the IMU samples
- * (prep.c), so a score costs a table look-up per frame; other frames are evaluated alone.
+ * grid share an operator shape, tabulated once on the IMU samples (prep.c), so a score costs a
+ * table look-up per frame; other frames are evaluated alone.
  * Occluded frames (no fit) and IMU look-ups outside the recording drop out of the Pearson
  * sums. A 40 ms grid over the whole range (frames without a table of their own use the
  * commonest shape's), the best three local maxima ranked after a 5 ms parabola step, the
@@ -39,9 +39,6 @@ typedef struct {
   bool in;                 /* inside the IMU's span */
 } SyncTap;
 
-/* Spacing of the shape tables' knots, s. */
-#define SYNC_KNOT_S 0.02
-
 /* Half-width of the per-frame tables (SyncCtx.loc): the winner's scans and polish stay within
  * +-30 ms of where they start. */
 #define LOC_HALF_S 0.035
@@ -60,18 +57,18 @@ typedef struct {
   double (*cumb)[3];   /* its running integral */
   double (*pb)[3];     /* its double integral */
   double (*mm)[3];     /* its mean over +-5 s at each IMU sample (NaN where undefined) */
-  /* The camera's fit operator applied to pb minus mm, one table per shape (NULL: that shape's
-   * frames are evaluated one by one), at the knots (aw_fusion_knots, about SYNC_KNOT_S apart);
-   * NaN where undefined. */
-  size_t kdec, nk;
-  double *kt;              /* the knots' times */
+  /* The camera's fit operator applied to pb at each IMU sample, minus mm, one table per shape
+   * (NULL: that shape's frames are evaluated one by one); NaN where undefined. Every sample:
+   * with tables at 20 ms, read linearly, the polish's +-1 ms curvature (the reported sigma)
+   * met half as many of the interpolation's kinks and came out up to 14 times smaller or 3
+   * times larger on single swings. */
   double (*tab[AW_CAM_MAX_SHAPES])[3];
   unsigned char *tab_ok;   /* scratch for aw_fusion_shape_table */
   int tab_main;            /* the most common shape (its table exists), -1 = none */
   bool approx;             /* frames without a table of their own use tab_main's */
   size_t stride;           /* score every stride-th frame (the coarse grid: 2) */
   /* Frames without a shape table, for the winner's exact refinement: each frame's own
-   * operator tabulated on every kdec-th IMU sample within LOC_HALF_S of where the frame falls
+   * operator tabulated on the IMU samples within LOC_HALF_S of where the frame falls
    * at the winner's offset (loc_build), looked up as the shape tables are; without drift
    * only, and exact evaluation outside. */
   bool local;              /* use them */
@@ -92,7 +89,7 @@ static void
 ctx_free(SyncCtx *c)
 {
   free(c->sc); free(c->fb0); free(c->cumb); free(c->pb); free(c->mm); free(c->tab_ok);
-  free(c->loc); free(c->loc_at); free(c->loc_i0); free(c->loc_len); free(c->taps); free(c->kt);
+  free(c->loc); free(c->loc_at); free(c->loc_i0); free(c->loc_len); free(c->taps);
   for (size_t s = 0; s < AW_CAM_MAX_SHAPES; s++) free(c->tab[s]);
 }
 
@@ -105,8 +102,8 @@ imu_time(double t_depth, double off_mid, double drift, double t_mid)
   return (t_depth - off_mid + drift * t_mid) / (1.0 + drift);
 }
 
-/* Linear interpolation at IMU time ti of a table on the times t[0..n) (the knots c->kt, or
- * every IMU sample); false where undefined. The tables are smooth on the scale of their
+/* Linear interpolation at IMU time ti of a table on the IMU sample times t[0..n); false where
+ * undefined. The tables are smooth on the scale of their
  * spacing (the +-5 s mean; the fit spans >= 0.4 s). */
 static inline bool
 tab_at(const double (*tab)[3], const double *t, size_t n, double ti, size_t *hint, double out[3])
@@ -149,17 +146,17 @@ imu_seen(const SyncCtx *c, size_t k, double ti, double off, double drift, size_t
   const AwCamPrep *cam = c->cam;
   int sh = cam->shape ? cam->shape[k] : -1;
   if (sh >= 0 && c->tab[sh])
-    return tab_at((const double (*)[3])c->tab[sh], c->kt, c->nk, ti, hint, out);
+    return tab_at((const double (*)[3])c->tab[sh], c->imu->t_s, c->imu->n, ti, hint, out);
   if (c->approx && c->tab_main >= 0)
-    return tab_at((const double (*)[3])c->tab[c->tab_main], c->kt, c->nk, ti, hint, out);
+    return tab_at((const double (*)[3])c->tab[c->tab_main], c->imu->t_s, c->imu->n, ti, hint, out);
   const AwImuPrep *imu = c->imu;
   if (c->local && drift == 0 && c->loc_len[k]) {
-    size_t i0 = c->loc_i0[k], len = c->loc_len[k], d = c->kdec;
-    if (ti >= imu->t_s[i0] && ti < imu->t_s[i0 + (len - 1) * d]) {
+    size_t i0 = c->loc_i0[k], len = c->loc_len[k];
+    if (ti >= imu->t_s[i0] && ti < imu->t_s[i0 + len - 1]) {
       size_t j = 0;
-      while (imu->t_s[i0 + (j + 1) * d] <= ti) j++;
+      while (imu->t_s[i0 + j + 1] <= ti) j++;
       const double (*L)[3] = (const double (*)[3])c->loc + c->loc_at[k];
-      double ta = imu->t_s[i0 + j * d], u = (ti - ta) / (imu->t_s[i0 + (j + 1) * d] - ta);
+      double ta = imu->t_s[i0 + j], u = (ti - ta) / (imu->t_s[i0 + j + 1] - ta);
       for (int a = 0; a < 3; a++) out[a] = L[j][a] + u * (L[j + 1][a] - L[j][a]);
       return !isnan(out[0]);
     }
@@ -249,8 +246,7 @@ typedef struct {
 } Peak;
 
 /* The per-frame tables of SyncCtx.loc around offset off: for every usable frame without a
- * shape table, its own operator (minus the +-5 s mean) at every kdec-th IMU sample (the
- * spacing of the shape tables' knots, with the same interpolation error) over times covering
+ * shape table, its own operator (minus the +-5 s mean) at the IMU samples whose times cover
  * t_k - off +- LOC_HALF_S, NaN where a tap falls outside the recording. Frames near the ends,
  * or at IMU rates that would need more than LOC_MAX entries, get none (exact evaluation).
  * Fails quietly (no tables) without memory. */
@@ -283,13 +279,11 @@ loc_build(SyncCtx *c, double off)
     if (tc - LOC_HALF_S < t0 || tc + LOC_HALF_S >= t1) continue;
     size_t i0 = aw_fusion_locate(imu->t_s, imu->n, tc - LOC_HALF_S, &hint);
     size_t i1 = aw_fusion_locate(imu->t_s, imu->n, tc + LOC_HALF_S, &hint) + 1;
-    /* entries every kdec-th sample from i0 (the shape tables' spacing), the last at or
-     * beyond i1 */
-    size_t len = (i1 - i0 + c->kdec - 1) / c->kdec + 1, last = i0 + (len - 1) * c->kdec;
-    if (last >= imu->n || len > LOC_MAX) continue;
+    size_t len = i1 - i0 + 1;
+    if (i1 >= imu->n || len > LOC_MAX) continue;
     double (*L)[3] = c->loc + used;
     for (size_t e = 0; e < len; e++) {
-      size_t i = i0 + e * c->kdec;
+      size_t i = i0 + e;
       double acc[3] = { 0, 0, 0 };
       bool ok = !isnan(c->mm[i][0]);
       for (size_t q = cam->wstart[k]; ok && q < cam->wstart[k + 1]; q++) {
@@ -563,32 +557,22 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
       pt0 = t0;
       pt1 = t1;
     }
-    /* One table per operator shape that enough frames share to repay it (a frame evaluated
-     * alone costs one operator per offset its own operator is tried at: about 32, the winner's
-     * scans and polish, since the grid and the candidates' refinement use the commonest shape's
-     * table for it; the rule counts a table as one operator per IMU sample, as before the
-     * knots, since the winner's per-frame tables (loc_build) made a lone frame cheaper too).
-     * The knots are about SYNC_KNOT_S apart: the operator is a second derivative fitted over
-     * >= 0.4 s whose output holds little above a few hertz, and linear interpolation between
-     * knots is good to (pi f h)^2 / 8 of it, 0.4 % at 3 Hz. */
-    aw_fusion_knots(imu->t_s, imu->n, SYNC_KNOT_S, &c.kdec, &c.nk);
-    c.kt = malloc(sizeof *c.kt * c.nk);
-    if (!c.kt) { ctx_free(&c); return AW_ERR_NO_MEMORY; }
-    for (size_t j = 0; j < c.nk; j++) c.kt[j] = imu->t_s[aw_fusion_knot(j, c.kdec, c.nk, imu->n)];
+    /* One table per operator shape that enough frames share to repay it (a table costs one
+     * operator per IMU sample; a frame evaluated alone costs one per offset its own operator
+     * is tried at: about 32, the winner's scans and polish, since the grid and the candidates'
+     * refinement use the commonest shape's table for it). */
     c.tab_main = -1;
     for (size_t sh = 0; sh < cam->n_shape; sh++)
       if (c.tab_main < 0 || cam->shape_count[sh] > cam->shape_count[c.tab_main]) c.tab_main = (int)sh;
     for (size_t sh = 0; sh < cam->n_shape; sh++) {
       if (cam->shape_count[sh] * 32 < imu->n && (int)sh != c.tab_main) continue;
-      double (*t)[3] = malloc(sizeof *t * c.nk);
+      double (*t)[3] = malloc(sizeof *t * imu->n);
       if (!t) continue;
       aw_fusion_shape_table(cam, sh, imu->t_s, imu->n, (const double (*)[3])c.fb0,
-                            (const double (*)[3])c.cumb, (const double (*)[3])c.pb, c.kdec, c.nk,
-                            t, NULL, c.tab_ok);
-      for (size_t j = 0; j < c.nk; j++) {
-        size_t i = aw_fusion_knot(j, c.kdec, c.nk, imu->n);
-        for (int a = 0; a < 3; a++) t[j][a] = c.tab_ok[j] ? t[j][a] - c.mm[i][a] : (double)NAN;
-      }
+                            (const double (*)[3])c.cumb, (const double (*)[3])c.pb, 1, imu->n, t,
+                            NULL, c.tab_ok);
+      for (size_t i = 0; i < imu->n; i++)
+        for (int a = 0; a < 3; a++) t[i][a] = c.tab_ok[i] ? t[i][a] - c.mm[i][a] : (double)NAN;
       c.tab[sh] = t;
     }
     if (c.tab_main >= 0 && !c.tab[c.tab_main]) c.tab_main = -1;
