@@ -124,6 +124,39 @@ aw_fusion_wahba(double B[3][3], double q[4])
   aw_quat_normalize(q);
 }
 
+/* The joint fit's operators (F, M and whether they are defined, per entry of the frames) at
+ * the last W_MEMO shifts it was evaluated at: the re-trimming fits and the final solution come
+ * back to the shift the steps ended on, and the clock's sigma counts the frames at one. */
+/* The moments of the joint fit's frame set (w_resid_n): means of a, F, M and the centred sums;
+ * N0 = S(M^T M), the lever's normal matrix. */
+typedef struct {
+  double ac[3], Fb[3], Mb[3][3], Saa, SFF, SFa[3][3], T[3][3][3], P[3], Q[3][3], MM[3][3], N0[3][3];
+} WMoments;
+
+enum { W_MEMO = 4 };
+typedef struct {
+  double shift[W_MEMO];
+  size_t n_put;           /* slots filled so far (the oldest is replaced next) */
+  double (*F)[3];         /* W_MEMO x m */
+  double (*M)[3][3];
+  unsigned char *def;
+  /* per slot, the moments of the last two frame sets fitted there (w_moments_at) */
+  WMoments *mom;          /* W_MEMO x 2 */
+  unsigned char *mset;    /* W_MEMO x 2 x m: those sets */
+  int n_mom[W_MEMO];
+} WMemo;
+
+/* Spacing of the shape tables' knots (w_tables). */
+#define W_KNOT_S 0.02
+
+/* One camera frame's time minus a shift on the IMU side (w_tap). */
+typedef struct {
+  double at, at_R;        /* shift p and R hold (NaN = none) */
+  double p[3];            /* double integral of f_b0 */
+  double R[3][3];         /* R_b0_body, interpolated */
+  bool in;                /* inside tau's span */
+} WTap;
+
 /* Camera-fit operator applied to the double integral of f_b0 (exact for f linear between
  * samples), so both sides of a_cam = R f_b0 + g pass through the same linear filter. */
 typedef struct {
@@ -137,23 +170,42 @@ typedef struct {
   size_t m;
   double lever_sigma;     /* prior 1-sigma of the lever arm */
   /* Per operator shape (prep.c): the fit operator on the double integral (ftab) and on the
-   * rotation (mtab) at every sample of tau, NaN where a tap falls outside; NULL = evaluate the
-   * shape's frames one by one. */
+   * rotation (mtab) at the knots (w_knot: every kdec-th sample of tau and the last), NaN where
+   * a tap falls outside; NULL = evaluate the shape's frames one by one. */
+  size_t kdec, nk;
   double (*ftab[AW_CAM_MAX_SHAPES])[3];
   double (*dftab[AW_CAM_MAX_SHAPES])[3];   /* the operator on the running integral: d ftab / dt */
+  /* The rotation's entries are filled when first read (w_mtab): only the joint fit reads them,
+   * at the few shifts around its minimum, so most knots never need one. mdone: filled. */
   double (*mtab[AW_CAM_MAX_SHAPES])[3][3];
+  unsigned char *mdone[AW_CAM_MAX_SHAPES];
   /* Fixed inlier set (per entry of frames; NULL = trim inside each fit): with it the cost is
    * continuous in the shift. keep_out (if set) receives the set a trimming fit ends with. */
   const unsigned char *keep;
   unsigned char *keep_out;
+  WMemo *memo;            /* for w_ops; valid for these frames only (NULL elsewhere) */
+  WTap *taps;             /* per camera frame, for w_tap */
 } WCtx;
 
+/* Sample of tau at table knot j. */
+static inline size_t
+w_knot(const WCtx *w, size_t j)
+{
+  return aw_fusion_knot(j, w->kdec, w->nk, w->n);
+}
+
 /* Tables of the shapes enough frames share to repay them (a table costs one operator per
- * sample; a frame alone costs one per shift tried, ~80). */
+ * knot; a frame alone costs one per shift tried, ~80). The knots are about W_KNOT_S apart:
+ * the operator is a second derivative fitted over >= 0.4 s, so its output holds little
+ * above a few hertz, and the cubic Hermite interpolation on values and derivatives between
+ * knots (w_imu_acc) is good to (2 pi f h)^4 / 384: 5e-5 of it at 3 Hz, 4e-4 at 5 Hz. (At
+ * 40 ms, 1e-3 and 7e-3, one hard swing of the development seeds 5000 came out 1.3 ms further
+ * off in its clock; at 20 ms none moves beyond the printed digits against per-sample tables.) */
 static void
 w_tables(WCtx *w)
 {
   const AwCamPrep *cam = w->cam;
+  aw_fusion_knots(w->tau, w->n, W_KNOT_S, &w->kdec, &w->nk);
   size_t *use = calloc(AW_CAM_MAX_SHAPES, sizeof *use);
   unsigned char *ok = malloc(w->n ? w->n : 1);
   if (!use || !ok) { free(use); free(ok); return; }
@@ -163,52 +215,116 @@ w_tables(WCtx *w)
   }
   for (size_t sh = 0; sh < cam->n_shape; sh++) {
     if (use[sh] * 80 < w->n || w->n < 2) continue;
-    double (*ft)[3] = malloc(sizeof *ft * w->n);
-    double (*dft)[3] = malloc(sizeof *dft * w->n);
-    double (*mt)[3][3] = malloc(sizeof *mt * w->n);
-    if (!ft || !dft || !mt) { free(ft); free(dft); free(mt); continue; }
-    size_t q0 = cam->shape_start[sh], q1 = cam->shape_start[sh + 1], hint[64] = { 0 };
-    for (size_t i = 0; i < w->n; i++) {
-      /* sums in locals (kept in registers, the same additions in the same order) */
-      double fa[3] = { 0, 0, 0 }, da[3] = { 0, 0, 0 }, ma[3][3] = { { 0 } };
-      if (!(w->tau[i] + cam->shape_u[q0] >= w->tau[0] && w->tau[i] + cam->shape_u[q1 - 1] <= w->tau[w->n - 1])) {
-        memset(mt[i], 0, sizeof mt[i]);
-        memset(dft[i], 0, sizeof dft[i]);
-        ft[i][0] = ft[i][1] = ft[i][2] = (double)NAN;
-        continue;
+    double (*ft)[3] = malloc(sizeof *ft * w->nk);
+    double (*dft)[3] = malloc(sizeof *dft * w->nk);
+    double (*mt)[3][3] = malloc(sizeof *mt * w->nk);
+    unsigned char *md = calloc(w->nk, 1);
+    if (!ft || !dft || !mt || !md) { free(ft); free(dft); free(mt); free(md); continue; }
+    aw_fusion_shape_table(cam, sh, w->tau, w->n, w->fb0, w->vb0, w->pb0, w->kdec, w->nk, ft, dft, ok);
+    for (size_t j = 0; j < w->nk; j++)
+      if (!ok[j]) {
+        memset(dft[j], 0, sizeof dft[j]);
+        ft[j][0] = ft[j][1] = ft[j][2] = (double)NAN;
       }
-      for (size_t q = q0; q < q1; q++) {
-        double t = w->tau[i] + cam->shape_u[q];
-        size_t a0 = aw_fusion_locate(w->tau, w->n, t, &hint[q - q0]);
-        if (a0 + 1 >= w->n) a0 = w->n - 2;
-        double dt = w->tau[a0 + 1] - w->tau[a0], u = t - w->tau[a0];
-        double r = u / dt, wq = cam->shape_w[q];
-        for (int a = 0; a < 3; a++) {
-          double f0 = w->fb0[a0][a], f1 = w->fb0[a0 + 1][a];
-          fa[a] += wq * (w->pb0[a0][a] + u * w->vb0[a0][a] + 0.5 * u * u * f0 +
-                         u * u * u * (f1 - f0) / (6 * dt));
-          da[a] += wq * (w->vb0[a0][a] + u * f0 + 0.5 * u * u * (f1 - f0) / dt);
-        }
-        for (int a = 0; a < 3; a++)
-          for (int c = 0; c < 3; c++)
-            ma[a][c] += wq * ((1 - r) * w->Rb0[a0][a][c] + r * w->Rb0[a0 + 1][a][c]);
-      }
-      memcpy(ft[i], fa, sizeof fa);
-      memcpy(dft[i], da, sizeof da);
-      memcpy(mt[i], ma, sizeof ma);
-    }
     w->ftab[sh] = ft;
     w->dftab[sh] = dft;
     w->mtab[sh] = mt;
+    w->mdone[sh] = md;
   }
   free(use);
   free(ok);
 }
 
+/* Knot j of shape sh's rotation table (j inside the span where ftab is defined): the fit
+ * operator on R_b0_body(t), the rotation matrices of the samples interpolated linearly (the
+ * lever is centimetres: second-order errors in a 10 ms step's rotation are far below the
+ * camera's acceleration noise). Between knots the table is interpolated linearly: the
+ * operator's output (a second derivative of the rotation over >= 0.4 s, up to ~1000 s^-2 in a
+ * downswing) moves by a few hertz, so the error is (pi f h)^2 / 8, about 0.4 % at 20 ms:
+ * ~0.05 m/s^2 times the lever in units of 3 cm, below the camera's acceleration noise. */
+static const double (*w_mtab(const WCtx *w, size_t sh, size_t j))[3]
+{
+  double (*mt)[3] = w->mtab[sh][j];
+  if (w->mdone[sh][j]) return (const double (*)[3])mt;
+  size_t i = w_knot(w, j);
+  const AwCamPrep *cam = w->cam;
+  double ma[3][3] = { { 0 } };   /* sums in locals */
+  size_t q0 = cam->shape_start[sh];
+  /* the first tap's sample from the mean interval (aw_fusion_locate walks the rest of the way;
+   * the later taps walk on from the one before) */
+  double di = cam->shape_u[q0] * (double)(w->n - 1) / (w->tau[w->n - 1] - w->tau[0]);
+  size_t hint = di <= -(double)i ? 0 : (size_t)((double)i + di);
+  for (size_t q = q0; q < cam->shape_start[sh + 1]; q++) {
+    double t = w->tau[i] + cam->shape_u[q];
+    size_t a0 = aw_fusion_locate(w->tau, w->n, t, &hint);
+    if (a0 + 1 >= w->n) a0 = w->n - 2;
+    double dt = w->tau[a0 + 1] - w->tau[a0], u = t - w->tau[a0];
+    double r = u / dt, wq = cam->shape_w[q];
+    for (int a = 0; a < 3; a++)
+      for (int c = 0; c < 3; c++)
+        ma[a][c] += wq * ((1 - r) * w->Rb0[a0][a][c] + r * w->Rb0[a0 + 1][a][c]);
+  }
+  memcpy(mt, ma, sizeof ma);
+  w->mdone[sh][j] = 1;
+  return (const double (*)[3])mt;
+}
+
 static void
 w_tables_free(WCtx *w)
 {
-  for (size_t sh = 0; sh < AW_CAM_MAX_SHAPES; sh++) { free(w->ftab[sh]); free(w->dftab[sh]); free(w->mtab[sh]); }
+  for (size_t sh = 0; sh < AW_CAM_MAX_SHAPES; sh++) {
+    free(w->ftab[sh]); free(w->dftab[sh]); free(w->mtab[sh]); free(w->mdone[sh]);
+  }
+}
+
+/* The IMU side at camera frame j's time minus a shift, for the operators evaluated tap by tap:
+ * the double integral of f_b0 there and (with_R) the rotation, computed into the frame's entry
+ * in w->taps (w_tap reads it while it holds this shift: a frame is a tap of the dozen
+ * operators around it, all evaluated at the same shift one after the other). NULL when the
+ * time falls outside tau. */
+static const WTap *
+w_tap_fill(const WCtx *w, size_t j, double shift, size_t *hint, bool with_R)
+{
+  WTap *tp = &w->taps[j];
+  double t = w->cam->t_s[j] - shift;
+  tp->at = shift;
+  tp->at_R = NAN;
+  tp->in = !(t < w->tau[0] || t > w->tau[w->n - 1]);
+  if (!tp->in) return NULL;
+  size_t i = aw_fusion_locate(w->tau, w->n, t, hint);
+  if (i + 1 >= w->n) i = w->n - 2;
+  double dt = w->tau[i + 1] - w->tau[i], u = t - w->tau[i];
+  for (int a = 0; a < 3; a++) {
+    double f0 = w->fb0[i][a], f1 = w->fb0[i + 1][a];
+    tp->p[a] = w->pb0[i][a] + u * w->vb0[i][a] + 0.5 * u * u * f0 + u * u * u * (f1 - f0) / (6 * dt);
+  }
+  /* the lever term: the fit operator on R_b0_body(t), the rotation matrices of the samples
+   * interpolated linearly (the lever is centimetres: second-order errors in a 10 ms step's
+   * rotation are far below the camera's acceleration noise) */
+  if (with_R) {
+    double r = u / dt;
+    for (int a = 0; a < 3; a++)
+      for (int c = 0; c < 3; c++) tp->R[a][c] = (1 - r) * w->Rb0[i][a][c] + r * w->Rb0[i + 1][a][c];
+    tp->at_R = shift;
+  }
+  return tp;
+}
+
+/* w_tap_fill's entry when it holds the shift (most calls: inline) */
+static inline const WTap *
+w_tap(const WCtx *w, size_t j, double shift, size_t *hint, bool with_R)
+{
+  const WTap *tp = &w->taps[j];
+  if (tp->at == shift && (!with_R || tp->at_R == shift)) return tp->in ? tp : NULL;
+  return w_tap_fill(w, j, shift, hint, with_R);
+}
+
+/* Whether frame k's operator has a shape table. */
+static bool
+w_tabled(const WCtx *w, size_t k)
+{
+  int sh = w->cam->shape ? w->cam->shape[k] : -1;
+  return sh >= 0 && w->ftab[sh];
 }
 
 static bool
@@ -217,53 +333,64 @@ w_imu_acc(const WCtx *w, size_t k, double shift, size_t *hint, double out[3], do
   const AwCamPrep *cam = w->cam;
   int sh = cam->shape ? cam->shape[k] : -1;
   if (sh >= 0 && w->ftab[sh]) {
-    /* tabulated: linear interpolation in the frame's time on the IMU grid */
+    /* tabulated: interpolation in the frame's time between the knots around it */
     double t = cam->t_s[k] - shift;
     if (t < w->tau[0] || t >= w->tau[w->n - 1]) return false;
-    size_t i = aw_fusion_locate(w->tau, w->n, t, hint);
-    if (i + 1 >= w->n) return false;
-    double h = w->tau[i + 1] - w->tau[i], r = (t - w->tau[i]) / h;
+    size_t s = aw_fusion_locate(w->tau, w->n, t, hint);
+    if (s + 1 >= w->n) return false;
+    size_t i = s / w->kdec;
+    if (i + 2 > w->nk) i = w->nk - 2;
+    double t0 = w->tau[w_knot(w, i)], h = w->tau[w_knot(w, i + 1)] - t0, r = (t - t0) / h;
     const double (*f0)[3] = (const double (*)[3])w->ftab[sh];
     const double (*d0)[3] = (const double (*)[3])w->dftab[sh];
     if (isnan(f0[i][0]) || isnan(f0[i + 1][0])) return false;
     /* cubic Hermite on the values and their time derivatives: smooth in the shift, so the
      * cost's minimum and curvature are not those of a piecewise-linear interpolant */
-    double r2 = r * r, r3 = r2 * r;
-    double h00 = 2 * r3 - 3 * r2 + 1, h10 = (r3 - 2 * r2 + r) * h, h01 = 3 * r2 - 2 * r3,
-           h11 = (r3 - r2) * h;
-    for (int a = 0; a < 3; a++)
-      out[a] = h00 * f0[i][a] + h10 * d0[i][a] + h01 * f0[i + 1][a] + h11 * d0[i + 1][a];
+    aw_fusion_hermite(f0[i], d0[i], f0[i + 1], d0[i + 1], r, h, out);
     if (!M) return true;
-    const double (*m0)[3][3] = (const double (*)[3][3])w->mtab[sh];
+    const double (*ma)[3] = w_mtab(w, (size_t)sh, i), (*mb)[3] = w_mtab(w, (size_t)sh, i + 1);
     for (int a = 0; a < 3; a++)
-      for (int c = 0; c < 3; c++) M[a][c] = m0[i][a][c] + r * (m0[i + 1][a][c] - m0[i][a][c]);
+      for (int c = 0; c < 3; c++) M[a][c] = ma[a][c] + r * (mb[a][c] - ma[a][c]);
     return true;
   }
   /* sums in locals (the same additions in the same order), stored at the end */
   double oa[3] = { 0, 0, 0 }, ma[3][3] = { { 0 } };
   for (size_t q = cam->wstart[k]; q < cam->wstart[k + 1]; q++) {
-    double t = cam->t_s[cam->widx[q]] - shift;
-    if (t < w->tau[0] || t > w->tau[w->n - 1]) return false;
-    size_t i = aw_fusion_locate(w->tau, w->n, t, hint);
-    if (i + 1 >= w->n) i = w->n - 2;
-    double dt = w->tau[i + 1] - w->tau[i], u = t - w->tau[i];
-    for (int a = 0; a < 3; a++) {
-      double f0 = w->fb0[i][a], f1 = w->fb0[i + 1][a];
-      double pj = w->pb0[i][a] + u * w->vb0[i][a] + 0.5 * u * u * f0 + u * u * u * (f1 - f0) / (6 * dt);
-      oa[a] += cam->wval[q] * pj;
-    }
-    /* the lever term: the fit operator on R_b0_body(t), the rotation matrices of the samples
-     * interpolated linearly (the lever is centimetres: second-order errors in a 10 ms step's
-     * rotation are far below the camera's acceleration noise) */
+    const WTap *tp = w_tap(w, cam->widx[q], shift, hint, M != NULL);
+    if (!tp) return false;
+    for (int a = 0; a < 3; a++) oa[a] += cam->wval[q] * tp->p[a];
     if (!M) continue;
-    double r = u / dt, wq = cam->wval[q];
+    double wq = cam->wval[q];
     for (int a = 0; a < 3; a++)
-      for (int c = 0; c < 3; c++)
-        ma[a][c] += wq * ((1 - r) * w->Rb0[i][a][c] + r * w->Rb0[i + 1][a][c]);
+      for (int c = 0; c < 3; c++) ma[a][c] += wq * tp->R[a][c];
   }
   memcpy(out, oa, sizeof oa);
   if (M) memcpy(M, ma, sizeof ma);
   return true;
+}
+
+/* F, M (the lever term) and their definedness for every entry of the frames at a shift, from
+ * the memo or computed into its oldest slot. */
+static size_t
+w_ops(const WCtx *w, double shift, const double (**F)[3], const double (**M)[3][3],
+      const unsigned char **def)
+{
+  WMemo *mo = w->memo;
+  size_t nm = mo->n_put < W_MEMO ? mo->n_put : W_MEMO, slot = 0;
+  while (slot < nm && mo->shift[slot] != shift) slot++;
+  if (slot == nm) {
+    slot = mo->n_put++ % W_MEMO;
+    mo->shift[slot] = shift;
+    mo->n_mom[slot] = 0;
+    size_t hint = 0;
+    for (size_t j = 0; j < w->m; j++)
+      mo->def[slot * w->m + j] = w_imu_acc(w, w->frames[j], shift, &hint, mo->F[slot * w->m + j],
+                                           mo->M[slot * w->m + j]);
+  }
+  *F = (const double (*)[3])mo->F + slot * w->m;
+  *M = (const double (*)[3][3])mo->M + slot * w->m;
+  *def = mo->def + slot * w->m;
+  return slot;
 }
 
 /* Wahba's problem at a clock shift, with the lever arm l (body frame) solved alternately:
@@ -274,100 +401,121 @@ w_imu_acc(const WCtx *w, size_t k, double shift, size_t *hint, double out[3], do
  * T[r][c][s] = S(M~[r][c] a~[s]); the residual sum is S|a~|^2 + S|F~ + M~ l|^2 - 2 tr(R B) (R
  * orthonormal); the normal equations' right side is sum_rs R[s][r] T[r][c][s] - S(M~^T F~) +
  * n mean(M)^T mean(M) l. Centred sums keep the cancellation small. */
+static void
+w_moments(const WCtx *w, const double (*F)[3], const double (*M)[3][3], const unsigned char *ok,
+          size_t cnt, WMoments *out)
+{
+  /* sums in a local (kept in registers: the compiler cannot tell that out aliases no input) */
+  WMoments m, *mo = &m;
+  double n = (double)cnt;
+  memset(mo->ac, 0, sizeof mo->ac); memset(mo->Fb, 0, sizeof mo->Fb); memset(mo->Mb, 0, sizeof mo->Mb);
+  for (size_t j = 0; j < w->m; j++) {
+    if (!ok[j]) continue;
+    const double *a = w->cam->acc_m_s2[w->frames[j]];
+    for (int r = 0; r < 3; r++) {
+      mo->ac[r] += a[r];
+      mo->Fb[r] += F[j][r];
+      for (int c = 0; c < 3; c++) mo->Mb[r][c] += M[j][r][c];
+    }
+  }
+  for (int r = 0; r < 3; r++) {
+    mo->ac[r] /= n;
+    mo->Fb[r] /= n;
+    for (int c = 0; c < 3; c++) mo->Mb[r][c] /= n;
+  }
+  mo->Saa = 0; mo->SFF = 0;
+  memset(mo->SFa, 0, sizeof mo->SFa); memset(mo->T, 0, sizeof mo->T); memset(mo->P, 0, sizeof mo->P);
+  memset(mo->Q, 0, sizeof mo->Q);
+  for (size_t j = 0; j < w->m; j++) {
+    if (!ok[j]) continue;
+    const double *a = w->cam->acc_m_s2[w->frames[j]];
+    double at[3], ft[3], mt[3][3];
+    for (int r = 0; r < 3; r++) {
+      at[r] = a[r] - mo->ac[r];
+      ft[r] = F[j][r] - mo->Fb[r];
+      for (int c = 0; c < 3; c++) mt[r][c] = M[j][r][c] - mo->Mb[r][c];
+    }
+    for (int r = 0; r < 3; r++) {
+      mo->Saa += at[r] * at[r];
+      mo->SFF += ft[r] * ft[r];
+      for (int s = 0; s < 3; s++) mo->SFa[r][s] += ft[r] * at[s];
+      for (int c = 0; c < 3; c++) {
+        mo->P[c] += mt[r][c] * ft[r];
+        for (int s = 0; s < 3; s++) mo->T[r][c][s] += mt[r][c] * at[s];
+        for (int k = c; k < 3; k++) mo->Q[c][k] += mt[r][c] * mt[r][k];
+      }
+    }
+  }
+  for (int c = 0; c < 3; c++)
+    for (int k = c; k < 3; k++) {
+      double s = 0;
+      for (int r = 0; r < 3; r++) s += mo->Mb[r][c] * mo->Mb[r][k];
+      mo->MM[c][k] = mo->MM[k][c] = n * s;
+      mo->Q[k][c] = mo->Q[c][k];
+      mo->N0[c][k] = mo->N0[k][c] = mo->Q[c][k] + mo->MM[c][k];
+    }
+  *out = m;
+}
+
+/* The moments of the set ok at the memo's slot (its shift): kept for the last two sets there
+ * (the re-trimming fits come back to the shift the steps ended on with the set they trimmed
+ * to), computed otherwise. */
+static const WMoments *
+w_moments_at(const WCtx *w, size_t slot, const double (*F)[3], const double (*M)[3][3],
+             const unsigned char *ok, size_t cnt)
+{
+  WMemo *mo = w->memo;
+  for (int e = 0; e < mo->n_mom[slot] && e < 2; e++)
+    if (memcmp(mo->mset + (slot * 2 + (size_t)e) * w->m, ok, w->m) == 0) return &mo->mom[slot * 2 + (size_t)e];
+  size_t e = mo->n_mom[slot]++ % 2, at = slot * 2 + e;
+  memcpy(mo->mset + at * w->m, ok, w->m);
+  w_moments(w, F, M, ok, cnt, &mo->mom[at]);
+  return &mo->mom[at];
+}
+
 static double
 w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[3], double l_out[3])
 {
-  double (*F)[3] = malloc(sizeof *F * (w->m ? w->m : 1));
-  double (*M)[3][3] = malloc(sizeof *M * (w->m ? w->m : 1));
+  const double (*F)[3], (*M)[3][3];
+  const unsigned char *def;
   unsigned char *ok = malloc(w->m ? w->m : 1);
-  if (!F || !M || !ok) { free(F); free(M); free(ok); return INFINITY; }
-  size_t cnt = 0, hint = 0;
+  if (!ok) return INFINITY;
+  size_t slot = w_ops(w, shift, &F, &M, &def);
+  size_t cnt = 0;
   for (size_t j = 0; j < w->m; j++) {
-    ok[j] = w_imu_acc(w, w->frames[j], shift, &hint, F[j], M[j]) && (!w->keep || w->keep[j]);
+    ok[j] = def[j] && (!w->keep || w->keep[j]);
     cnt += ok[j];
   }
-  if (cnt < 10) { free(F); free(M); free(ok); return INFINITY; }
+  if (cnt < 10) { free(ok); return INFINITY; }
   double l[3] = { 0, 0, 0 }, q[4] = { 1, 0, 0, 0 }, R[3][3], g[3] = { 0, 0, 0 }, rms = INFINITY;
-  /* the set's moments (see above); N0 = S(M^T M), the lever's normal matrix */
-  double ac[3], Fb[3], Mb[3][3], Saa = 0, SFF = 0, SFa[3][3], T[3][3][3], P[3], Q[3][3],
-         MM[3][3], N0[3][3];
-  bool mom_ok = false;
+  const WMoments *mo = NULL;   /* the set's moments (see above) */
   for (int it = 0; it < iters; it++) {
-    if (!mom_ok) {
-      double n = (double)cnt;
-      memset(ac, 0, sizeof ac); memset(Fb, 0, sizeof Fb); memset(Mb, 0, sizeof Mb);
-      for (size_t j = 0; j < w->m; j++) {
-        if (!ok[j]) continue;
-        const double *a = w->cam->acc_m_s2[w->frames[j]];
-        for (int r = 0; r < 3; r++) {
-          ac[r] += a[r];
-          Fb[r] += F[j][r];
-          for (int c = 0; c < 3; c++) Mb[r][c] += M[j][r][c];
-        }
-      }
-      for (int r = 0; r < 3; r++) {
-        ac[r] /= n;
-        Fb[r] /= n;
-        for (int c = 0; c < 3; c++) Mb[r][c] /= n;
-      }
-      Saa = 0; SFF = 0;
-      memset(SFa, 0, sizeof SFa); memset(T, 0, sizeof T); memset(P, 0, sizeof P);
-      memset(Q, 0, sizeof Q);
-      for (size_t j = 0; j < w->m; j++) {
-        if (!ok[j]) continue;
-        const double *a = w->cam->acc_m_s2[w->frames[j]];
-        double at[3], ft[3], mt[3][3];
-        for (int r = 0; r < 3; r++) {
-          at[r] = a[r] - ac[r];
-          ft[r] = F[j][r] - Fb[r];
-          for (int c = 0; c < 3; c++) mt[r][c] = M[j][r][c] - Mb[r][c];
-        }
-        for (int r = 0; r < 3; r++) {
-          Saa += at[r] * at[r];
-          SFF += ft[r] * ft[r];
-          for (int s = 0; s < 3; s++) SFa[r][s] += ft[r] * at[s];
-          for (int c = 0; c < 3; c++) {
-            P[c] += mt[r][c] * ft[r];
-            for (int s = 0; s < 3; s++) T[r][c][s] += mt[r][c] * at[s];
-            for (int k = c; k < 3; k++) Q[c][k] += mt[r][c] * mt[r][k];
-          }
-        }
-      }
-      for (int c = 0; c < 3; c++)
-        for (int k = c; k < 3; k++) {
-          double s = 0;
-          for (int r = 0; r < 3; r++) s += Mb[r][c] * Mb[r][k];
-          MM[c][k] = MM[k][c] = n * s;
-          Q[k][c] = Q[c][k];
-          N0[c][k] = N0[k][c] = Q[c][k] + MM[c][k];
-        }
-      mom_ok = true;
-    }
+    if (!mo) mo = w_moments_at(w, slot, F, M, ok, cnt);
     double fc[3], B[3][3];
-    aw_mat_mul_v3(fc, (const double (*)[3])Mb, l);
-    for (int r = 0; r < 3; r++) fc[r] += Fb[r];
+    aw_mat_mul_v3(fc, (const double (*)[3])mo->Mb, l);
+    for (int r = 0; r < 3; r++) fc[r] += mo->Fb[r];
     for (int r = 0; r < 3; r++)
       for (int s = 0; s < 3; s++)
-        B[r][s] = SFa[r][s] + T[r][0][s] * l[0] + T[r][1][s] * l[1] + T[r][2][s] * l[2];
+        B[r][s] = mo->SFa[r][s] + mo->T[r][0][s] * l[0] + mo->T[r][1][s] * l[1] + mo->T[r][2][s] * l[2];
     aw_fusion_wahba(B, q);
     aw_quat_to_mat(R, q);
     double Rf[3];
     aw_mat_mul_v3(Rf, (const double (*)[3])R, fc);
-    aw_v3_sub(g, ac, Rf);
+    aw_v3_sub(g, mo->ac, Rf);
     /* residual, and the normal equations for l: R^T (a - g) - F = M l */
     double N[3][3], bv[3], Ql[3], MMl[3], trRB = 0;
-    memcpy(N, N0, sizeof N);
-    aw_mat_mul_v3(Ql, (const double (*)[3])Q, l);
-    aw_mat_mul_v3(MMl, (const double (*)[3])MM, l);
+    memcpy(N, mo->N0, sizeof N);
+    aw_mat_mul_v3(Ql, (const double (*)[3])mo->Q, l);
+    aw_mat_mul_v3(MMl, (const double (*)[3])mo->MM, l);
     for (int c = 0; c < 3; c++) {
       double s = 0;
       for (int r = 0; r < 3; r++)
-        for (int u = 0; u < 3; u++) s += R[u][r] * T[r][c][u];
-      bv[c] = s - P[c] + MMl[c];
+        for (int u = 0; u < 3; u++) s += R[u][r] * mo->T[r][c][u];
+      bv[c] = s - mo->P[c] + MMl[c];
     }
     for (int r = 0; r < 3; r++)
       for (int u = 0; u < 3; u++) trRB += R[u][r] * B[r][u];
-    double ss = Saa + SFF + 2 * aw_v3_dot(l, P) + aw_v3_dot(l, Ql) - 2 * trRB;
+    double ss = mo->Saa + mo->SFF + 2 * aw_v3_dot(l, mo->P) + aw_v3_dot(l, Ql) - 2 * trRB;
     rms = sqrt(fmax(0.0, ss) / (double)cnt);
     if (it == 1 && cnt > 20 && !w->keep) {
       /* Trim frames far off the fit (snapped or mis-detected keypoints agree with their
@@ -394,7 +542,7 @@ w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[
         if (kept >= 10) {
           for (size_t j = 0; j < w->m; j++) if (ok[j] && ev[j] > lim) ok[j] = 0;
           cnt = kept;
-          mom_ok = false;
+          mo = NULL;
         }
       }
       free(e2);
@@ -423,8 +571,6 @@ w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[
   if (q_out) memcpy(q_out, q, sizeof q);
   if (g_out) aw_v3_copy(g_out, g);
   if (l_out) aw_v3_copy(l_out, l);
-  free(F);
-  free(M);
   free(ok);
   return rms;
 }
@@ -438,10 +584,11 @@ static double
 clock_sigma(const WCtx *w, const AwCamPrep *cam, double shift, double rm, double r0, double rp,
             double h)
 {
-  size_t cnt = 0, hint = 0;
-  double F[3];
-  for (size_t j = 0; j < w->m; j++)
-    cnt += w_imu_acc(w, w->frames[j], shift, &hint, F, NULL) && (!w->keep || w->keep[j]);
+  const double (*F)[3], (*M)[3][3];
+  const unsigned char *def;
+  w_ops(w, shift, &F, &M, &def);   /* the fit at this shift has just run: from the memo */
+  size_t cnt = 0;
+  for (size_t j = 0; j < w->m; j++) cnt += def[j] && (!w->keep || w->keep[j]);
   if (cnt < 10) return 0;
   /* J(s) = cnt rms(s)^2 */
   double d2 = (double)cnt * (rm * rm - 2 * r0 * r0 + rp * rp) / (h * h);
@@ -581,6 +728,7 @@ calib_drift(const WCtx *w0, const size_t *all, size_t n_all, double best, double
     w.m = j1 - j0;
     w.keep = NULL;
     w.keep_out = NULL;
+    w.memo = NULL;
     double tc = 0;
     for (size_t j = j0; j < j1; j++) tc += cam->t_s[all[j]];
     tc /= (double)(j1 - j0);
@@ -826,9 +974,18 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
       if (Rb0) for (size_t i = 0; i < n; i++) aw_quat_to_mat(Rb0[i], qb0[i]);
       WCtx w = { tau, (const double (*)[3])fb0, (const double (*)[3])cum, (const double (*)[3])pb0,
                  (const double (*)[4])qb0, (const double (*)[3][3])Rb0, n_ok, cam, frames, m0,
-                 fmax(s->lever_arm_sigma_m, 1e-3), { NULL }, { NULL }, { NULL }, NULL, NULL };
+                 fmax(s->lever_arm_sigma_m, 1e-3), 1, n_ok, { NULL }, { NULL }, { NULL }, { NULL }, NULL, NULL, NULL, NULL };
+      WMemo memo = { .n_put = 0 };
+      memo.F = malloc(sizeof *memo.F * W_MEMO * (m0 ? m0 : 1));
+      memo.M = malloc(sizeof *memo.M * W_MEMO * (m0 ? m0 : 1));
+      memo.def = malloc(W_MEMO * (m0 ? m0 : 1));
+      memo.mom = malloc(sizeof *memo.mom * W_MEMO * 2);
+      memo.mset = malloc(W_MEMO * 2 * (m0 ? m0 : 1));
+      w.memo = &memo;
+      w.taps = malloc(sizeof *w.taps * (cam->n ? cam->n : 1));
+      if (w.taps) for (size_t k = 0; k < cam->n; k++) w.taps[k].at = w.taps[k].at_R = NAN;
       if (m0 >= 10 && Rb0) w_tables(&w);
-      if (m0 >= 10 && Rb0) {
+      if (m0 >= 10 && Rb0 && memo.F && memo.M && memo.def && memo.mom && memo.mset && w.taps) {
         /* +-250 ms on a 10 ms grid (the magnitude-based stage-1 peak can be 200 ms off on
          * hard swings; the basin of the vector fit is several times wider than 10 ms) with the
          * closed-form rotation-only cost on every other frame, a parabola through the grid's
@@ -837,6 +994,7 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
          * shift. */
         const double step = 0.010;
         WCtx wc = w;
+        wc.memo = NULL;   /* other frames */
         size_t *sub = malloc(sizeof *sub * (m0 / 2 + 1));
         if (sub && m0 >= 40) {
           wc.m = 0;
@@ -846,37 +1004,58 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
         /* The 10 ms grid coarse to fine: every third point (30 ms) first, then the points
          * within 20 ms of the two lowest local minima of those: the lowest 10 ms point of
          * either basin and both its neighbours are evaluated (a basin spans several 30 ms
-         * steps). 25 evaluations instead of 51. */
-        double gc_[51];
-        unsigned char done[51] = { 0 };
+         * steps). 27 evaluations instead of 51. The 30 ms pass only brackets the basins: it
+         * takes the frames whose operator has a table (the frames beside occlusions and
+         * trimmed outliers have none, are evaluated tap by tap, and are the least sure) when
+         * they are at least half of them and 20; the points around the minima take all, and
+         * only they are compared. */
+        double gcoarse[51], gfine[51];
+        unsigned char cdone[51] = { 0 }, fdone[51] = { 0 };
         int jb = -1;
         double (*sF)[3] = malloc(sizeof *sF * wc.m), (*sA)[3] = malloc(sizeof *sA * wc.m);
         double *se = malloc(sizeof *se * 2 * wc.m);
         unsigned char *su = malloc(wc.m);
-        bool scratch = sF && sA && se && su;
-        for (int j = 0; j < 51; j++) gc_[j] = INFINITY;
+        size_t *tabbed = malloc(sizeof *tabbed * (wc.m ? wc.m : 1));
+        bool scratch = sF && sA && se && su && tabbed;
+        WCtx wk = wc;   /* the coarse pass's frames */
+        if (scratch) {
+          wk.m = 0;
+          for (size_t j = 0; j < wc.m; j++)
+            if (w_tabled(&w, wc.frames[j])) tabbed[wk.m++] = wc.frames[j];
+          if (wk.m >= 20 && 2 * wk.m >= wc.m) wk.frames = tabbed;
+          else wk = wc;
+        }
+        bool same = wk.frames == wc.frames;
+        for (int j = 0; j < 51; j++) gcoarse[j] = gfine[j] = INFINITY;
         for (int j = 1; j < 51 && scratch; j += 3) {
-          gc_[j] = w_cost_rot(&wc, (j - 25) * step, sF, sA, se, su);
-          done[j] = 1;
+          gcoarse[j] = w_cost_rot(&wk, (j - 25) * step, sF, sA, se, su);
+          cdone[j] = 1;
         }
         int mins[2] = { -1, -1 };
         for (int j = 1; j < 51 && scratch; j += 3) {
-          if (!isfinite(gc_[j])) continue;
-          if ((j >= 4 && gc_[j - 3] < gc_[j]) || (j + 3 < 51 && gc_[j + 3] < gc_[j])) continue;
-          if (mins[0] < 0 || gc_[j] < gc_[mins[0]]) { mins[1] = mins[0]; mins[0] = j; }
-          else if (mins[1] < 0 || gc_[j] < gc_[mins[1]]) mins[1] = j;
+          if (!isfinite(gcoarse[j])) continue;
+          if ((j >= 4 && gcoarse[j - 3] < gcoarse[j]) || (j + 3 < 51 && gcoarse[j + 3] < gcoarse[j])) continue;
+          if (mins[0] < 0 || gcoarse[j] < gcoarse[mins[0]]) { mins[1] = mins[0]; mins[0] = j; }
+          else if (mins[1] < 0 || gcoarse[j] < gcoarse[mins[1]]) mins[1] = j;
         }
+        /* gfine[j] on all the grid's frames (the coarse value when the frames are the same) */
+#define W_FINE(j)                                                                          \
+  do {                                                                                     \
+    if ((j) >= 0 && (j) < 51 && !fdone[j]) {                                               \
+      gfine[j] = same && cdone[j] ? gcoarse[j] : w_cost_rot(&wc, ((j) - 25) * step, sF, sA, se, su); \
+      fdone[j] = 1;                                                                        \
+    }                                                                                      \
+  } while (0)
         for (int mq = 0; mq < 2; mq++)
-          for (int j = mins[mq] - 2; mins[mq] >= 0 && j <= mins[mq] + 2; j++)
-            if (j >= 0 && j < 51 && !done[j]) {
-              gc_[j] = w_cost_rot(&wc, (j - 25) * step, sF, sA, se, su);
-              done[j] = 1;
-            }
+          for (int j = mins[mq] - 2; mins[mq] >= 0 && j <= mins[mq] + 2; j++) W_FINE(j);
         for (int j = 0; j < 51; j++)
-          if (done[j] && isfinite(gc_[j]) && (jb < 0 || gc_[j] < gc_[jb])) jb = j;
-        free(sub); free(sF); free(sA); free(se); free(su);
+          if (fdone[j] && isfinite(gfine[j]) && (jb < 0 || gfine[j] < gfine[jb])) jb = j;
+        /* the parabola's neighbours of a minimum at a window's edge */
+        if (jb >= 0) { W_FINE(jb - 1); W_FINE(jb + 1); }
+#undef W_FINE
+        free(sub); free(sF); free(sA); free(se); free(su); free(tabbed);
         double best = jb >= 0 ? (jb - 25) * step : 0;
-        if (jb > 0 && jb < 50) best += step * parabola_min(gc_[jb - 1], gc_[jb], gc_[jb + 1]);
+        if (jb > 0 && jb < 50) best += step * parabola_min(gfine[jb - 1], gfine[jb], gfine[jb + 1]);
         /* The inlier set of the joint fit at the coarse minimum, then held fixed: trimming
          * inside every evaluation makes the cost jump by tens of percent between shifts a
          * millisecond apart. Re-trimmed once at the refined shift (and refined again when the
@@ -941,6 +1120,7 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
         free(keep2);
       }
       w_tables_free(&w);
+      free(memo.F); free(memo.M); free(memo.def); free(memo.mom); free(memo.mset); free(w.taps);
       free(Rb0);
       free(all_f);
     }

@@ -22,28 +22,37 @@
 
 typedef struct { double x[3], P[3][3]; } Ax;
 
+/* The covariance step of predict: F P F^T + sign(dt) q Q(|dt|). F's zeros and ones are left
+ * out of the products (a product with 1 is exact and one with 0 adds nothing), so every sum is
+ * the full 3 x 3 product's, term for term in the same order, at a third of the operations. */
 static void
-predict(Ax *in, double dt, double q, Ax *out)
+predict_P(const double P[3][3], double dt, double q, double out[3][3])
 {
-  double F[3][3] = { { 1, dt, 0.5 * dt * dt }, { 0, 1, dt }, { 0, 0, 1 } };
+  double h = 0.5 * dt * dt;   /* F = { { 1, dt, h }, { 0, 1, dt }, { 0, 0, 1 } } */
   double d2 = dt * dt, d3 = d2 * dt, d4 = d3 * dt, d5 = d4 * dt;
   double Q[3][3] = { { d5 / 20, d4 / 8, d3 / 6 }, { d4 / 8, d3 / 3, d2 / 2 }, { d3 / 6, d2 / 2, dt } };
   double FP[3][3];
-  for (int r = 0; r < 3; r++) {
-    out->x[r] = 0;
-    for (int c = 0; c < 3; c++) {
-      out->x[r] += F[r][c] * in->x[c];
-      FP[r][c] = 0;
-      for (int k = 0; k < 3; k++) FP[r][c] += F[r][k] * in->P[k][c];
-    }
+  for (int c = 0; c < 3; c++) {
+    FP[0][c] = P[0][c] + dt * P[1][c] + h * P[2][c];
+    FP[1][c] = P[1][c] + dt * P[2][c];
+    FP[2][c] = P[2][c];
   }
   double sdt = dt >= 0 ? 1.0 : -1.0;   /* backward extrapolation still adds noise */
-  for (int r = 0; r < 3; r++)
-    for (int c = 0; c < 3; c++) {
-      double a = 0;
-      for (int k = 0; k < 3; k++) a += FP[r][k] * F[c][k];
-      out->P[r][c] = a + sdt * q * Q[r][c];
-    }
+  for (int r = 0; r < 3; r++) {
+    out[r][0] = FP[r][0] + dt * FP[r][1] + h * FP[r][2] + sdt * q * Q[r][0];
+    out[r][1] = FP[r][1] + dt * FP[r][2] + sdt * q * Q[r][1];
+    out[r][2] = FP[r][2] + sdt * q * Q[r][2];
+  }
+}
+
+static void
+predict(const Ax *in, double dt, double q, Ax *out)
+{
+  double h = 0.5 * dt * dt;
+  out->x[0] = in->x[0] + dt * in->x[1] + h * in->x[2];
+  out->x[1] = in->x[1] + dt * in->x[2];
+  out->x[2] = in->x[2];
+  predict_P((const double (*)[3])in->P, dt, q, out->P);
 }
 
 static bool
@@ -64,14 +73,13 @@ inv3s(double A[3][3], double Ai[3][3])
   return true;
 }
 
-/* RTS step: smoothed s at t given filtered f at t, prediction p of the next knot from f,
- * and the next knot's smoothed sn; dt from t to the next knot. */
+/* RTS step: smoothed s at t given filtered f at t, prediction p of the next knot from f with
+ * Pi = p->P^-1, and the next knot's smoothed sn; dt from t to the next knot. */
 static void
-rts(Ax *f, Ax *p, Ax *sn, double dt, Ax *s)
+rts(const Ax *f, const Ax *p, const double Pi[3][3], const Ax *sn, double dt, Ax *s)
 {
   double F[3][3] = { { 1, dt, 0.5 * dt * dt }, { 0, 1, dt }, { 0, 0, 1 } };
-  double Pi[3][3], PFt[3][3], G[3][3];
-  if (!inv3s(p->P, Pi)) { *s = *f; return; }
+  double PFt[3][3], G[3][3];
   for (int r = 0; r < 3; r++)
     for (int c = 0; c < 3; c++) {
       PFt[r][c] = 0;
@@ -105,26 +113,25 @@ rts(Ax *f, Ax *p, Ax *sn, double dt, Ax *s)
     for (int c = r + 1; c < 3; c++) { double m = 0.5 * (s->P[r][c] + s->P[c][r]); s->P[r][c] = m; s->P[c][r] = m; }
 }
 
-/* Only s->P[0][0] of rts (the position variance), with the same arithmetic in the same order. */
+/* Only s->P[0][0] of rts (the position variance) from the three covariances and Pi = Pp^-1,
+ * with the same arithmetic in the same order (F's zeros and ones left out as in predict_P). */
 static double
-rts_p00(Ax *f, Ax *p, Ax *sn, double dt)
+rts_p00(const double Pf[3][3], const double Pp[3][3], const double Pi[3][3],
+        const double Ps[3][3], double dt)
 {
-  double F[3][3] = { { 1, dt, 0.5 * dt * dt }, { 0, 1, dt }, { 0, 0, 1 } };
-  double Pi[3][3], PFt0[3], G0[3], GdP0[3];
-  if (!inv3s(p->P, Pi)) return f->P[0][0];
-  for (int c = 0; c < 3; c++) {
-    PFt0[c] = 0;
-    for (int k = 0; k < 3; k++) PFt0[c] += f->P[0][k] * F[c][k];
-  }
+  double h = 0.5 * dt * dt;
+  double G0[3], GdP0[3];
+  /* row 0 of Pf F^T */
+  double PFt0[3] = { Pf[0][0] + dt * Pf[0][1] + h * Pf[0][2], Pf[0][1] + dt * Pf[0][2], Pf[0][2] };
   for (int c = 0; c < 3; c++) {
     G0[c] = 0;
     for (int k = 0; k < 3; k++) G0[c] += PFt0[k] * Pi[k][c];
   }
   for (int c = 0; c < 3; c++) {
     GdP0[c] = 0;
-    for (int k = 0; k < 3; k++) GdP0[c] += G0[k] * (sn->P[k][c] - p->P[k][c]);
+    for (int k = 0; k < 3; k++) GdP0[c] += G0[k] * (Ps[k][c] - Pp[k][c]);
   }
-  double a = f->P[0][0];
+  double a = Pf[0][0];
   for (int k = 0; k < 3; k++) a += GdP0[k] * G0[k];
   return a;
 }
@@ -191,6 +198,10 @@ typedef struct {
   Ax (*F)[3], (*Pp)[3], (*Sm)[3];
   double *tk;
   size_t *kk;
+  /* Per knot from the second: the inverse of Pp's covariance per axis (pi_ok: it exists), and
+   * whether Pp is the plain prediction from the knot before (a gate recovery inflates it). */
+  double (*Pi)[3][3][3];
+  unsigned char (*pi_ok)[3], *plain;
   size_t m, rej, rec;
   double nis_sum;
 } Pass;
@@ -199,6 +210,28 @@ static void
 pass_free(Pass *ps)
 {
   free(ps->F); free(ps->Pp); free(ps->Sm); free(ps->tk); free(ps->kk);
+  free(ps->Pi); free(ps->pi_ok); free(ps->plain);
+}
+
+/* The prediction of knot j + 1 (and its covariance's inverse) from ft, the state at a time
+ * d2 before it and after knot j as predicted from that knot: the knot's stored prediction when
+ * a gate recovery did not inflate it (the white-jerk model's predictions compose exactly: over
+ * d1 and then d2 is over d1 + d2), else computed into own (its x only with_x). False when the
+ * covariance has no inverse. */
+static bool
+next_pred(const Pass *ps, size_t j, int a, const Ax *ft, double d2, double q, bool with_x,
+          Ax *own, double Pi_own[3][3], const Ax **pn, const double (**Pi)[3])
+{
+  if (ps->plain[j + 1] && ps->pi_ok[j + 1][a]) {
+    *pn = &ps->Pp[j + 1][a];
+    *Pi = (const double (*)[3])ps->Pi[j + 1][a];
+    return true;
+  }
+  if (with_x) predict(ft, d2, q, own);
+  else predict_P((const double (*)[3])ft->P, d2, q, own->P);
+  *pn = own;
+  *Pi = (const double (*)[3])Pi_own;
+  return inv3s(own->P, Pi_own);
 }
 
 static void
@@ -207,6 +240,7 @@ pass_run(const AwCamPrep *cam, const AwFusionSettings *s, double q, const unsign
 {
   Ax (*F)[3] = ps->F, (*Pp)[3] = ps->Pp, (*Sm)[3] = ps->Sm;
   double *tk = ps->tk;
+  memset(ps->plain, 1, cam->n_valid);   /* until a gate recovery says otherwise */
   size_t m = 0, rej = 0, rec = 0;
   double nis_sum = 0, rej_since = NAN;
   size_t rej_run = 0;
@@ -246,6 +280,7 @@ pass_run(const AwCamPrep *cam, const AwFusionSettings *s, double q, const unsign
       if (isnan(rej_since)) rej_since = cam->t_s[k];
       rej_run++;
       if (rej_run >= 3 && cam->t_s[k] - rej_since >= s->gate_recover_s) {
+        ps->plain[m] = 0;
         for (int a = 0; a < 3; a++) {
           double y = cam->pos_m[k][a] - pr[a].x[0];
           pr[a].P[0][0] += 4 * y * y + var[a];
@@ -278,7 +313,13 @@ pass_run(const AwCamPrep *cam, const AwFusionSettings *s, double q, const unsign
   if (m > 0) {
     for (int a = 0; a < 3; a++) Sm[m - 1][a] = F[m - 1][a];
     for (size_t j = m - 1; j-- > 0;)
-      for (int a = 0; a < 3; a++) rts(&F[j][a], &Pp[j + 1][a], &Sm[j + 1][a], tk[j + 1] - tk[j], &Sm[j][a]);
+      for (int a = 0; a < 3; a++) {
+        ps->pi_ok[j + 1][a] = inv3s(Pp[j + 1][a].P, ps->Pi[j + 1][a]);
+        if (ps->pi_ok[j + 1][a])
+          rts(&F[j][a], &Pp[j + 1][a], (const double (*)[3])ps->Pi[j + 1][a], &Sm[j + 1][a],
+              tk[j + 1] - tk[j], &Sm[j][a]);
+        else Sm[j][a] = F[j][a];
+      }
   }
   ps->m = m;
   ps->rej = rej;
@@ -326,8 +367,11 @@ aw_fusion_camonly_run(const AwCamPrep *cam, const double *tau, size_t n,
   ps.Sm = malloc(sizeof *ps.Sm * nv);
   ps.tk = malloc(sizeof *ps.tk * nv);
   ps.kk = malloc(sizeof *ps.kk * nv);
+  ps.Pi = malloc(sizeof *ps.Pi * nv);
+  ps.pi_ok = malloc(sizeof *ps.pi_ok * nv);
+  ps.plain = malloc(nv);
   unsigned char *drop = NULL;
-  if (!ps.F || !ps.Pp || !ps.Sm || !ps.tk || !ps.kk) goto nomem;
+  if (!ps.F || !ps.Pp || !ps.Sm || !ps.tk || !ps.kk || !ps.Pi || !ps.pi_ok || !ps.plain) goto nomem;
   pass_run(cam, s, q, NULL, &ps);
   /* The path itself is wanted (the IMU is masked): leave out what the smoothed path
    * contradicts and smooth again, at most twice (each pass only ever drops frames). Only the
@@ -364,18 +408,29 @@ aw_fusion_camonly_run(const AwCamPrep *cam, const double *tau, size_t n,
           out[1].P[0][0] = out[0].P[0][0];
           continue;
         }
-        Ax ft, pn;
-        predict(&F[j][a], t - tk[j], q, &ft);
-        predict(&ft, tk[j + 1] - t, q, &pn);
-        out[a].P[0][0] = rts_p00(&ft, &pn, &Sm[j + 1][a], tk[j + 1] - t);
+        Ax ft, own;
+        double Pi_own[3][3];
+        const Ax *pn;
+        const double (*Pi)[3];
+        predict_P((const double (*)[3])F[j][a].P, t - tk[j], q, ft.P);
+        if (!next_pred(&ps, j, a, &ft, tk[j + 1] - t, q, false, &own, Pi_own, &pn, &Pi)) {
+          out[a].P[0][0] = ft.P[0][0];
+          continue;
+        }
+        out[a].P[0][0] = rts_p00((const double (*)[3])ft.P, (const double (*)[3])pn->P, Pi,
+                                 (const double (*)[3])Sm[j + 1][a].P, tk[j + 1] - t);
       }
     } else {
       size_t j = aw_fusion_locate(tk, m, t, &hint);
       for (int a = 0; a < 3; a++) {
-        Ax ft, pn;
+        Ax ft, own;
+        double Pi_own[3][3];
+        const Ax *pn;
+        const double (*Pi)[3];
         predict(&F[j][a], t - tk[j], q, &ft);
-        predict(&ft, tk[j + 1] - t, q, &pn);
-        rts(&ft, &pn, &Sm[j + 1][a], tk[j + 1] - t, &out[a]);
+        if (next_pred(&ps, j, a, &ft, tk[j + 1] - t, q, true, &own, Pi_own, &pn, &Pi))
+          rts(&ft, pn, Pi, &Sm[j + 1][a], tk[j + 1] - t, &out[a]);
+        else out[a] = ft;
       }
     }
     for (int a = 0; a < 3; a++) {

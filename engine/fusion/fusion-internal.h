@@ -67,13 +67,38 @@ AwStatus aw_fusion_prep_imu(const AwImuStream *imu, const AwFusionSettings *s, d
                             AwImuPrep *out);
 void aw_fusion_prep_imu_free(AwImuPrep *m);
 
+/* Knots of a table on the sample times t[0..n) (n >= 2): every kdec-th sample, kdec chosen
+ * for knots about h_s apart (at least 1), and the last sample; nk of them. */
+void aw_fusion_knots(const double *t, size_t n, double h_s, size_t *kdec, size_t *nk);
+/* Sample index of knot j. */
+static inline size_t
+aw_fusion_knot(size_t j, size_t kdec, size_t nk, size_t n)
+{
+  return j + 1 < nk ? j * kdec : n - 1;
+}
+
+/* Cubic Hermite interpolation at r in [0, 1] of an interval of length h between values y0, y1
+ * with time derivatives d0, d1. */
+static inline void
+aw_fusion_hermite(const double y0[3], const double d0[3], const double y1[3], const double d1[3],
+                  double r, double h, double out[3])
+{
+  double r2 = r * r, r3 = r2 * r;
+  double h00 = 2 * r3 - 3 * r2 + 1, h10 = (r3 - 2 * r2 + r) * h, h01 = 3 * r2 - 2 * r3,
+         h11 = (r3 - r2) * h;
+  for (int a = 0; a < 3; a++) out[a] = h00 * y0[a] + h10 * d0[a] + h01 * y1[a] + h11 * d1[a];
+}
+
 /* A camera-fit operator shape applied to the double integral p of a specific force f
- * (running integral v) on the sample times t: out[i] = sum over taps of w * p(t[i] + u),
- * p cubic between samples (exact for f linear between samples). ok[i] = 0 where a tap falls
- * outside t's span. O(n * taps) for monotone t. */
+ * (running integral v) on the sample times t, at the knots (kdec, nk as from aw_fusion_knots;
+ * kdec 1, nk n for every sample): out[j] = sum over taps of w * p(t[i] + u) with i the knot's
+ * sample, p cubic between samples (exact for f linear between samples), and dout[j] (unless
+ * NULL) its time derivative, the same on v. ok[j] = 0 where a tap falls outside t's span.
+ * O(nk * taps) for monotone t. */
 void aw_fusion_shape_table(const AwCamPrep *cam, size_t shape, const double *t, size_t n,
                            const double (*f)[3], const double (*v)[3], const double (*p)[3],
-                           double (*out)[3], unsigned char *ok);
+                           size_t kdec, size_t nk, double (*out)[3], double (*dout)[3],
+                           unsigned char *ok);
 
 /* Mean of a per-sample vector signal with running integral cum over [t0, t1] of the clock t;
  * hint speeds up monotone queries. Returns false outside the samples' span. */

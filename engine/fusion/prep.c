@@ -163,22 +163,77 @@ find_shapes(AwCamPrep *c)
 }
 
 void
-aw_fusion_shape_table(const AwCamPrep *cam, size_t shape, const double *t, size_t n,
-                      const double (*f)[3], const double (*v)[3], const double (*p)[3],
-                      double (*out)[3], unsigned char *ok)
+aw_fusion_knots(const double *t, size_t n, double h_s, size_t *kdec, size_t *nk)
+{
+  size_t d = 1;
+  if (n >= 2 && t[n - 1] > t[0])
+    d = (size_t)fmax(1.0, floor(h_s * (double)(n - 1) / (t[n - 1] - t[0]) + 0.5));
+  *kdec = d;
+  *nk = n >= 2 ? (n - 2) / d + 2 : n;
+}
+
+/* aw_fusion_shape_table with or without the derivative (with_d a constant where it is
+ * inlined, so each version has only its own arithmetic). */
+static inline __attribute__((always_inline)) void
+shape_table_run(const AwCamPrep *cam, size_t shape, const double *t, size_t n,
+                const double (*f)[3], const double (*v)[3], const double (*p)[3], size_t kdec,
+                size_t nk, double (*out)[3], double (*dout)[3], unsigned char *ok, bool with_d)
 {
   size_t q0 = cam->shape_start[shape], q1 = cam->shape_start[shape + 1];
   size_t hints[64] = { 0 };
-  for (size_t i = 0; i < n; i++) {
-    double acc[3] = { 0, 0, 0 };
-    ok[i] = n >= 2 && t[i] + cam->shape_u[q0] >= t[0] && t[i] + cam->shape_u[q1 - 1] <= t[n - 1];
-    if (ok[i])
+  for (size_t j = 0; j < nk; j++) {
+    size_t i = aw_fusion_knot(j, kdec, nk, n);
+    /* sums in locals (kept in registers: the compiler cannot tell that out aliases no input) */
+    double acc[3] = { 0, 0, 0 }, dacc[3] = { 0, 0, 0 };
+    ok[j] = n >= 2 && t[i] + cam->shape_u[q0] >= t[0] && t[i] + cam->shape_u[q1 - 1] <= t[n - 1];
+    if (ok[j])
       for (size_t q = q0; q < q1; q++) {
-        double pj[3];
-        aw_fusion_pos_at(t, n, f, v, p, t[i] + cam->shape_u[q], &hints[q - q0], pj);
-        for (int a = 0; a < 3; a++) acc[a] += cam->shape_w[q] * pj[a];
+        /* p as aw_fusion_pos_at, and its derivative */
+        double x = t[i] + cam->shape_u[q], wq = cam->shape_w[q];
+        size_t a0 = aw_fusion_locate(t, n, x, &hints[q - q0]);
+        if (a0 + 1 >= n) a0 = n - 2;
+        double dt = t[a0 + 1] - t[a0], u = x - t[a0];
+        for (int a = 0; a < 3; a++) {
+          double f0 = f[a0][a], f1 = f[a0 + 1][a];
+          acc[a] += wq * (p[a0][a] + u * v[a0][a] + 0.5 * u * u * f0 + u * u * u * (f1 - f0) / (6 * dt));
+          if (with_d) dacc[a] += wq * (v[a0][a] + u * f0 + 0.5 * u * u * (f1 - f0) / dt);
+        }
       }
-    for (int a = 0; a < 3; a++) out[i][a] = acc[a];
+    for (int a = 0; a < 3; a++) out[j][a] = acc[a];
+    if (with_d) for (int a = 0; a < 3; a++) dout[j][a] = dacc[a];
+  }
+}
+
+void
+aw_fusion_shape_table(const AwCamPrep *cam, size_t shape, const double *t, size_t n,
+                      const double (*f)[3], const double (*v)[3], const double (*p)[3],
+                      size_t kdec, size_t nk, double (*out)[3], double (*dout)[3],
+                      unsigned char *ok)
+{
+  if (dout) shape_table_run(cam, shape, t, n, f, v, p, kdec, nk, out, dout, ok, true);
+  else shape_table_run(cam, shape, t, n, f, v, p, kdec, nk, out, NULL, ok, false);
+}
+
+/* Sums of a frame's local quadratic fit (prep_cam): S = sums of u^0..u^4, Sy = sums of y u^0..2
+ * per axis, the frames left and right of the centre, and their count. */
+typedef struct {
+  double S[5], Sy[3][3];
+  int nl, nr, cnt;
+} FitSums;
+
+/* Frame j (time u = t_j - tk from the centre) into the sums, and into used (at most 1024). */
+static inline void
+fit_add(FitSums *fs, const AwDepthStream *d, size_t j, double tk, uint32_t *used, int *nused)
+{
+  double u = d->t_s[j] - tk, u2 = u * u;
+  if (u < -1e-9) fs->nl++;
+  if (u > 1e-9) fs->nr++;
+  fs->cnt++;
+  if (*nused < 1024) used[(*nused)++] = (uint32_t)j;
+  fs->S[0] += 1; fs->S[1] += u; fs->S[2] += u2; fs->S[3] += u2 * u; fs->S[4] += u2 * u2;
+  for (int a = 0; a < 3; a++) {
+    double y = d->pos_cam_m[j][a];
+    fs->Sy[a][0] += y; fs->Sy[a][1] += y * u; fs->Sy[a][2] += y * u2;
   }
 }
 
@@ -224,31 +279,34 @@ aw_fusion_prep_cam(const AwDepthStream *d, const AwFusionSettings *s, AwCamPrep 
     uint32_t used[1024];
     int nused = 0;
     for (int pass = 0; pass < 2; pass++) {
-      double S[5] = { 0 }, Sy[3][3] = { { 0 } };
-      int nl = 0, nr = 0, cnt = 0;
-      nused = 0;
-      for (size_t j = lo; j < d->n && d->t_s[j] <= tk + c->fit_half_s; j++) {
-        if (!c->valid[j]) continue;
-        double u = d->t_s[j] - tk, u2 = u * u;
-        if (pass == 1) {
-          double z = d->pos_cam_m[j][2], bad = 0;
+      FitSums fs = { { 0 }, { { 0 } }, 0, 0, 0 };
+      if (pass == 0) {
+        nused = 0;
+        for (size_t j = lo; j < d->n && d->t_s[j] <= tk + c->fit_half_s; j++)
+          if (c->valid[j]) fit_add(&fs, d, j, tk, used, &nused);
+      } else {
+        /* pass 0's frames (every valid one in the window, in order) less those far off its
+         * fit; when none is, pass 0's fit stands (the same sums of the same frames) */
+        unsigned char bad[1024];
+        int n0 = nused, nbad = 0;
+        for (int q = 0; q < n0; q++) {
+          size_t j = used[q];
+          double u = d->t_s[j] - tk, u2 = u * u, z = d->pos_cam_m[j][2];
           double sig[3] = { s->cam_sigma_xy_m * z, s->cam_sigma_xy_m * z, s->cam_sigma_z_coeff_per_m * z * z };
+          bad[q] = 0;
           for (int a = 0; a < 3; a++) {
             double r = d->pos_cam_m[j][a] - (coef[a][0] + coef[a][1] * u + coef[a][2] * u2);
-            if (fabs(r) > 4 * sig[a] + 0.02) bad = 1;
+            if (fabs(r) > 4 * sig[a] + 0.02) bad[q] = 1;
           }
-          if (bad) continue;
+          nbad += bad[q];
         }
-        if (u < -1e-9) nl++;
-        if (u > 1e-9) nr++;
-        cnt++;
-        if (nused < 1024) used[nused++] = (uint32_t)j;
-        S[0] += 1; S[1] += u; S[2] += u2; S[3] += u2 * u; S[4] += u2 * u2;
-        for (int a = 0; a < 3; a++) {
-          double y = d->pos_cam_m[j][a];
-          Sy[a][0] += y; Sy[a][1] += y * u; Sy[a][2] += y * u2;
-        }
+        if (nbad == 0) break;
+        nused = 0;   /* compacted in place: the write index never passes the read index */
+        for (int q = 0; q < n0; q++)
+          if (!bad[q]) fit_add(&fs, d, used[q], tk, used, &nused);
       }
+      double *S = fs.S, (*Sy)[3] = fs.Sy;
+      int nl = fs.nl, nr = fs.nr, cnt = fs.cnt;
       have = false;
       if (cnt < 6 || nl < 2 || nr < 2 || cnt > 1024) break;
       double A[3][3] = { { S[0], S[1], S[2] }, { S[1], S[2], S[3] }, { S[2], S[3], S[4] } };

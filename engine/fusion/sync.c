@@ -7,11 +7,12 @@
  * minus its +-5 s mean) seen through the same fit operator: the camera's fit weights applied to
  * the IMU's double integral at the frames' times. Frames whose taps sit on the nominal frame
  * grid share an operator shape, tabulated once on the IMU samples (prep.c), so a score costs a
- * table look-up per frame; other frames are evaluated alone. Occluded frames (no fit) and IMU
- * look-ups outside the recording drop out of the Pearson sums. A 20 ms grid over the whole
- * range (frames without a table of their own use the commonest shape's), then the best three
- * local maxima refined with every frame's own operator (5 ms, 1 ms, parabola) and the winner
- * polished by two parabola steps. Recordings over a minute are cut into 30 s segments whose
+ * table look-up per frame; other frames are evaluated alone.
+ * Occluded frames (no fit) and IMU look-ups outside the recording drop out of the Pearson
+ * sums. A 40 ms grid over the whole range (frames without a table of their own use the
+ * commonest shape's), the best three local maxima ranked after a 5 ms parabola step, the
+ * winner scanned with every frame's own operator (5 ms, 1 ms, parabola) and polished by two
+ * parabola steps. Recordings over a minute are cut into 30 s segments whose
  * offsets give the drift by a weighted straight-line fit.
  */
 #include "fusion-internal.h"
@@ -31,10 +32,17 @@ typedef struct {
   bool approx, local;
 } ScoreMemo;
 
+/* One camera frame's time on the IMU clock and pb there (SyncCtx.taps). */
+typedef struct {
+  double off, drift;       /* what p was computed for (off NaN = nothing) */
+  double p[3];
+  bool in;                 /* inside the IMU's span */
+} SyncTap;
+
 /* Half-width of the per-frame tables (SyncCtx.loc): the winner's scans and polish stay within
  * +-30 ms of where they start. */
 #define LOC_HALF_S 0.035
-/* At most this many IMU samples per frame table (the scans and polish evaluate a frame's own
+/* At most this many entries per frame table (the scans and polish evaluate a frame's own
  * operator at about 25 offsets; a longer table would cost more than it saves). */
 #define LOC_MAX 20
 
@@ -50,16 +58,19 @@ typedef struct {
   double (*pb)[3];     /* its double integral */
   double (*mm)[3];     /* its mean over +-5 s at each IMU sample (NaN where undefined) */
   /* The camera's fit operator applied to pb at each IMU sample, minus mm, one table per shape
-   * (NULL: that shape's frames are evaluated one by one); NaN where undefined. */
+   * (NULL: that shape's frames are evaluated one by one); NaN where undefined. Every sample:
+   * with tables at 20 ms, read linearly, the polish's +-1 ms curvature (the reported sigma)
+   * met half as many of the interpolation's kinks and came out up to 14 times smaller or 3
+   * times larger on single swings. */
   double (*tab[AW_CAM_MAX_SHAPES])[3];
   unsigned char *tab_ok;   /* scratch for aw_fusion_shape_table */
   int tab_main;            /* the most common shape (its table exists), -1 = none */
   bool approx;             /* frames without a table of their own use tab_main's */
   size_t stride;           /* score every stride-th frame (the coarse grid: 2) */
   /* Frames without a shape table, for the winner's exact refinement: each frame's own
-   * operator tabulated on the IMU samples within LOC_HALF_S of where the frame falls at the
-   * winner's offset (loc_build), looked up as the shape tables are; without drift only, and
-   * exact evaluation outside. */
+   * operator tabulated on the IMU samples within LOC_HALF_S of where the frame falls
+   * at the winner's offset (loc_build), looked up as the shape tables are; without drift
+   * only, and exact evaluation outside. */
   bool local;              /* use them */
   double (*loc)[3];
   size_t *loc_at, *loc_i0; /* per frame: first entry in loc, its IMU sample */
@@ -68,13 +79,17 @@ typedef struct {
    * around the winner come back to offsets they tried): a ring of the last few. */
   ScoreMemo memo[SYNC_MEMO];
   size_t n_memo;
+  /* Per camera frame: the double integral pb at its time mapped to the IMU clock by the
+   * offset and drift it holds (tap_at); frames evaluated one by one share their taps (a frame
+   * is a tap of the dozen operators around it, all evaluated at one offset in turn). */
+  SyncTap *taps;
 } SyncCtx;
 
 static void
 ctx_free(SyncCtx *c)
 {
   free(c->sc); free(c->fb0); free(c->cumb); free(c->pb); free(c->mm); free(c->tab_ok);
-  free(c->loc); free(c->loc_at); free(c->loc_i0); free(c->loc_len);
+  free(c->loc); free(c->loc_at); free(c->loc_i0); free(c->loc_len); free(c->taps);
   for (size_t s = 0; s < AW_CAM_MAX_SHAPES; s++) free(c->tab[s]);
 }
 
@@ -87,18 +102,36 @@ imu_time(double t_depth, double off_mid, double drift, double t_mid)
   return (t_depth - off_mid + drift * t_mid) / (1.0 + drift);
 }
 
-/* Linear interpolation of a per-IMU-sample table at IMU time ti; false where undefined. The
- * tables are smooth on the scale of one IMU interval (the fit spans >= 0.4 s). */
+/* Linear interpolation at IMU time ti of a table on the IMU sample times t[0..n); false where
+ * undefined. The tables are smooth on the scale of their
+ * spacing (the +-5 s mean; the fit spans >= 0.4 s). */
 static inline bool
-tab_at(const SyncCtx *c, const double (*tab)[3], double ti, size_t *hint, double out[3])
+tab_at(const double (*tab)[3], const double *t, size_t n, double ti, size_t *hint, double out[3])
 {
-  const AwImuPrep *imu = c->imu;
-  if (ti < imu->t_s[0] || ti >= imu->t_s[imu->n - 1]) return false;
-  size_t i = aw_fusion_locate(imu->t_s, imu->n, ti, hint);
-  if (i + 1 >= imu->n) return false;
-  double u = (ti - imu->t_s[i]) / (imu->t_s[i + 1] - imu->t_s[i]);
+  if (ti < t[0] || ti >= t[n - 1]) return false;
+  size_t i = aw_fusion_locate(t, n, ti, hint);
+  if (i + 1 >= n) return false;
+  double u = (ti - t[i]) / (t[i + 1] - t[i]);
   for (int a = 0; a < 3; a++) out[a] = tab[i][a] + u * (tab[i + 1][a] - tab[i][a]);
   return !isnan(out[0]);
+}
+
+/* pb at camera frame j's time on the IMU clock (offset off, drift), from the frame's entry in
+ * c->taps when it holds them; NULL outside the IMU's span. */
+static const double *
+tap_at(const SyncCtx *c, size_t j, double off, double drift, size_t *hint)
+{
+  SyncTap *tp = &c->taps[j];
+  if (tp->off == off && tp->drift == drift) return tp->in ? tp->p : NULL;
+  const AwImuPrep *imu = c->imu;
+  double tj = imu_time(c->cam->t_s[j], off, drift, c->t_mid);
+  tp->off = off;
+  tp->drift = drift;
+  tp->in = !(tj < imu->t_s[0] || tj > imu->t_s[imu->n - 1]);
+  if (tp->in)
+    aw_fusion_pos_at(imu->t_s, imu->n, (const double (*)[3])c->fb0, (const double (*)[3])c->cumb,
+                     (const double (*)[3])c->pb, tj, hint, tp->p);
+  return tp->in ? tp->p : NULL;
 }
 
 /* The IMU's dynamic acceleration as the camera's fit for frame k would see it at clock offset
@@ -112,9 +145,10 @@ imu_seen(const SyncCtx *c, size_t k, double ti, double off, double drift, size_t
 {
   const AwCamPrep *cam = c->cam;
   int sh = cam->shape ? cam->shape[k] : -1;
-  if (sh >= 0 && c->tab[sh]) return tab_at(c, (const double (*)[3])c->tab[sh], ti, hint, out);
+  if (sh >= 0 && c->tab[sh])
+    return tab_at((const double (*)[3])c->tab[sh], c->imu->t_s, c->imu->n, ti, hint, out);
   if (c->approx && c->tab_main >= 0)
-    return tab_at(c, (const double (*)[3])c->tab[c->tab_main], ti, hint, out);
+    return tab_at((const double (*)[3])c->tab[c->tab_main], c->imu->t_s, c->imu->n, ti, hint, out);
   const AwImuPrep *imu = c->imu;
   if (c->local && drift == 0 && c->loc_len[k]) {
     size_t i0 = c->loc_i0[k], len = c->loc_len[k];
@@ -122,19 +156,18 @@ imu_seen(const SyncCtx *c, size_t k, double ti, double off, double drift, size_t
       size_t j = 0;
       while (imu->t_s[i0 + j + 1] <= ti) j++;
       const double (*L)[3] = (const double (*)[3])c->loc + c->loc_at[k];
-      double u = (ti - imu->t_s[i0 + j]) / (imu->t_s[i0 + j + 1] - imu->t_s[i0 + j]);
+      double ta = imu->t_s[i0 + j], u = (ti - ta) / (imu->t_s[i0 + j + 1] - ta);
       for (int a = 0; a < 3; a++) out[a] = L[j][a] + u * (L[j + 1][a] - L[j][a]);
       return !isnan(out[0]);
     }
   }
   double mm[3];
-  if (!tab_at(c, (const double (*)[3])c->mm, ti, hint, mm)) return false;
+  /* (h3: the IMU samples' walk, as the taps') */
+  if (!tab_at((const double (*)[3])c->mm, imu->t_s, imu->n, ti, h3, mm)) return false;
   double acc[3] = { 0, 0, 0 };
   for (size_t q = cam->wstart[k]; q < cam->wstart[k + 1]; q++) {
-    double tj = imu_time(cam->t_s[cam->widx[q]], off, drift, c->t_mid), pj[3];
-    if (tj < imu->t_s[0] || tj > imu->t_s[imu->n - 1]) return false;
-    aw_fusion_pos_at(imu->t_s, imu->n, (const double (*)[3])c->fb0, (const double (*)[3])c->cumb,
-                     (const double (*)[3])c->pb, tj, h3, pj);
+    const double *pj = tap_at(c, cam->widx[q], off, drift, h3);
+    if (!pj) return false;
     for (int a = 0; a < 3; a++) acc[a] += cam->wval[q] * pj[a];
   }
   for (int a = 0; a < 3; a++) out[a] = acc[a] - mm[a];
@@ -215,7 +248,7 @@ typedef struct {
 /* The per-frame tables of SyncCtx.loc around offset off: for every usable frame without a
  * shape table, its own operator (minus the +-5 s mean) at the IMU samples whose times cover
  * t_k - off +- LOC_HALF_S, NaN where a tap falls outside the recording. Frames near the ends,
- * or at IMU rates that would need more than LOC_MAX samples, get none (exact evaluation).
+ * or at IMU rates that would need more than LOC_MAX entries, get none (exact evaluation).
  * Fails quietly (no tables) without memory. */
 static void
 loc_build(SyncCtx *c, double off)
@@ -246,9 +279,11 @@ loc_build(SyncCtx *c, double off)
     if (tc - LOC_HALF_S < t0 || tc + LOC_HALF_S >= t1) continue;
     size_t i0 = aw_fusion_locate(imu->t_s, imu->n, tc - LOC_HALF_S, &hint);
     size_t i1 = aw_fusion_locate(imu->t_s, imu->n, tc + LOC_HALF_S, &hint) + 1;
-    if (i1 >= imu->n || i1 - i0 + 1 > LOC_MAX) continue;
+    size_t len = i1 - i0 + 1;
+    if (i1 >= imu->n || len > LOC_MAX) continue;
     double (*L)[3] = c->loc + used;
-    for (size_t i = i0; i <= i1; i++) {
+    for (size_t e = 0; e < len; e++) {
+      size_t i = i0 + e;
       double acc[3] = { 0, 0, 0 };
       bool ok = !isnan(c->mm[i][0]);
       for (size_t q = cam->wstart[k]; ok && q < cam->wstart[k + 1]; q++) {
@@ -258,24 +293,24 @@ loc_build(SyncCtx *c, double off)
                          (const double (*)[3])c->cumb, (const double (*)[3])c->pb, tj, &h3, pj);
         for (int a = 0; a < 3; a++) acc[a] += cam->wval[q] * pj[a];
       }
-      for (int a = 0; a < 3; a++) L[i - i0][a] = ok ? acc[a] - c->mm[i][a] : (double)NAN;
+      for (int a = 0; a < 3; a++) L[e][a] = ok ? acc[a] - c->mm[i][a] : (double)NAN;
     }
     c->loc_at[k] = used;
     c->loc_i0[k] = i0;
-    c->loc_len[k] = (unsigned char)(i1 - i0 + 1);
-    used += i1 - i0 + 1;
+    c->loc_len[k] = (unsigned char)len;
+    used += len;
   }
 }
 
 /* Local refinement around center (a grid point of spacing step0): parabola steps over
- * +-step0/4 and then +-step0/20, each first walking uphill (at most 4 steps) until the middle
- * is the highest of the three. */
+ * +-step0/4 and then (levels 2) +-step0/20, each first walking uphill (at most 4 steps) until
+ * the middle is the highest of the three. */
 static Peak
-refine(SyncCtx *c, double center, double step0, double drift, double ta, double tb)
+refine(SyncCtx *c, double center, double step0, int levels, double drift, double ta, double tb)
 {
   Peak pk = { center, -2, 0, -2, 0 };
   double h = step0 / 4.0;
-  for (int level = 0; level < 2; level++) {
+  for (int level = 0; level < levels; level++) {
     double r0 = score(c, center, drift, ta, tb, NULL);
     double rm = score(c, center - h, drift, ta, tb, NULL);
     double rp = score(c, center + h, drift, ta, tb, NULL);
@@ -388,7 +423,7 @@ search(SyncCtx *c, double lo, double hi, double step0, double drift, double ta, 
   for (size_t i = 0; i < nstep; i++)
     if (fabs(step0 * ((double)i - (double)best)) > 0.15 && rc[i] > second) second = rc[i];
   free(rc);
-  pk = refine(c, lo + step0 * (double)best, step0, drift, ta, tb);
+  pk = refine(c, lo + step0 * (double)best, step0, 2, drift, ta, tb);
   pk.rho_second = second;
   return pk;
 }
@@ -475,7 +510,9 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
   c.pb = malloc(sizeof *c.pb * imu->n);
   c.mm = malloc(sizeof *c.mm * imu->n);
   c.tab_ok = malloc(imu->n);
-  if (!c.sc || !c.fb0 || !c.cumb || !c.pb || !c.mm || !c.tab_ok) { ctx_free(&c); return AW_ERR_NO_MEMORY; }
+  c.taps = malloc(sizeof *c.taps * cam->n);
+  if (!c.sc || !c.fb0 || !c.cumb || !c.pb || !c.mm || !c.tab_ok || !c.taps) { ctx_free(&c); return AW_ERR_NO_MEMORY; }
+  for (size_t k = 0; k < cam->n; k++) c.taps[k].off = (double)NAN;
   {
     /* Gyro bias from the still samples (if any), then the attitude chain. */
     double bg[3] = { 0 };
@@ -507,13 +544,18 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
     }
   }
   {
-    /* The +-5 s mean at every sample (two running indices: O(n)). */
-    size_t lo = 0, hi = 0;
+    /* The +-5 s mean at every sample (two running indices: O(n)); where the window is cut to
+     * the same span at both ends as for the sample before (within 5 s of both ends of the
+     * recording, so everywhere in one under 10 s), the same mean. */
+    size_t lo = 0;
+    double pt0 = NAN, pt1 = NAN;
     for (size_t i = 0; i < imu->n; i++) {
       double t = imu->t_s[i], t0 = fmax(imu->t_s[0], t - 5.0), t1 = fmin(imu->t_s[imu->n - 1], t + 5.0);
-      if (!aw_fusion_box_mean(imu->t_s, c.cumb, c.fb0, imu->n, t0, t1, &lo, c.mm[i]))
+      if (t0 == pt0 && t1 == pt1) memcpy(c.mm[i], c.mm[i - 1], sizeof c.mm[i]);
+      else if (!aw_fusion_box_mean(imu->t_s, c.cumb, c.fb0, imu->n, t0, t1, &lo, c.mm[i]))
         c.mm[i][0] = c.mm[i][1] = c.mm[i][2] = (double)NAN;
-      (void)hi;
+      pt0 = t0;
+      pt1 = t1;
     }
     /* One table per operator shape that enough frames share to repay it (a table costs one
      * operator per IMU sample; a frame evaluated alone costs one per offset its own operator
@@ -527,7 +569,8 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
       double (*t)[3] = malloc(sizeof *t * imu->n);
       if (!t) continue;
       aw_fusion_shape_table(cam, sh, imu->t_s, imu->n, (const double (*)[3])c.fb0,
-                            (const double (*)[3])c.cumb, (const double (*)[3])c.pb, t, c.tab_ok);
+                            (const double (*)[3])c.cumb, (const double (*)[3])c.pb, 1, imu->n, t,
+                            NULL, c.tab_ok);
       for (size_t i = 0; i < imu->n; i++)
         for (int a = 0; a < 3; a++) t[i][a] = c.tab_ok[i] ? t[i][a] - c.mm[i][a] : (double)NAN;
       c.tab[sh] = t;
@@ -593,7 +636,11 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
    * maxima refined on the first 60 s of motion (drift over 60 s is below 6 ms); segments
    * refine the drift below. */
   const double step0 = 0.02;
-  size_t nstep = (size_t)ceil(2 * max_off / step0) + 1;
+  /* The grid at twice the refinement's scale: the score is a correlation of accelerations
+   * smoothed over >= 0.4 s, whose peaks span well over 0.1 s, and the refinement's uphill walk
+   * (4 steps of 5 ms) reaches halfway to the next grid point. */
+  const double grid_step = 2 * step0;
+  size_t nstep = (size_t)ceil(2 * max_off / grid_step) + 1;
   double *rc = malloc(sizeof *rc * nstep);
   if (!rc) { ctx_free(&c); return AW_ERR_NO_MEMORY; }
   /* The grid and the choice between candidates use the most common operator for frames whose
@@ -604,18 +651,21 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
    * carry nearly the same information, and every other one places the coarse grid's peaks
    * (the candidates are refined with every frame) at half the cost. */
   c.stride = n_acc >= 40 ? 2 : 1;
-  grid_scores(&c, -max_off, step0, nstep, 0, -INFINITY, INFINITY, rc);
+  grid_scores(&c, -max_off, grid_step, nstep, 0, -INFINITY, INFINITY, rc);
   c.stride = 1;
   double cand[3], rho2;
-  int nc = coarse_peaks(rc, nstep, -max_off, step0, cand, &rho2);
+  int nc = coarse_peaks(rc, nstep, -max_off, grid_step, cand, &rho2);
   free(rc);
   double ta_motion = tc0;
   for (size_t k = 0; k < cam->n; k++) if (!isnan(c.sc[k])) { ta_motion = cam->t_s[k]; break; }
   double tb_first = ta_motion + 60.0;
   Peak pk = { 0, -3, 0, -2, 0 };
   double second = -2;
+  /* The candidates' refinement only ranks them (and gives the runner-up): one parabola level
+   * (+-5 ms) places each peak within a few milliseconds, where the correlation is within a
+   * few 1e-4 of its maximum; the winner's exact scan below starts over at 5 ms spacing. */
   for (int j = 0; j < nc; j++) {
-    Peak p2 = refine(&c, cand[j], step0, 0, -INFINITY, tb_first);
+    Peak p2 = refine(&c, cand[j], step0, 1, 0, -INFINITY, tb_first);
     if (p2.n < 10) continue;
     if (p2.rho > pk.rho) { second = fmax(second, pk.rho); pk = p2; }
     else second = fmax(second, p2.rho);
