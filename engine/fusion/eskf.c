@@ -859,14 +859,7 @@ report_mid(AwFusionReport *rep, const Nom *x, double *c_mid)
   rep->clock_offset_s += x->c;
   *c_mid = x->c;
   double gn = aw_v3_norm(x->g);
-  double up[3], ex[3] = { 1, 0, 0 }, xg[3], yg[3], Rg[3][3];
-  aw_v3_scale(up, x->g, -1.0 / (gn > 0 ? gn : 1));
-  double dd = aw_v3_dot(ex, up);
-  for (int a = 0; a < 3; a++) xg[a] = ex[a] - dd * up[a];
-  aw_v3_normalize(xg, xg);
-  aw_v3_cross(yg, up, xg);
-  for (int a = 0; a < 3; a++) { Rg[a][0] = xg[a]; Rg[a][1] = yg[a]; Rg[a][2] = up[a]; }
-  aw_mat_to_quat(rep->q_cam_grav, (const double (*)[3])Rg);
+  aw_fusion_q_cam_grav(x->g, gn > 0 ? gn : 1, rep->q_cam_grav);
 }
 
 /* The error d that inject() turns b into a (a - b, the attitude as the rotation vector of
@@ -938,47 +931,41 @@ pass_result_free(PassResult *r)
   memset(r, 0, sizeof *r);
 }
 
-/* Copies the path's per-sample output, the report and the frames' status into r (allocated on
- * first use); restore copies them back. */
+/* Copies the path's per-sample output, the report and the frames' status into r (save; r's
+ * arrays allocated on first use) or back from it. */
 static bool
-pass_result_save(PassResult *r, const AwFusedPath *path, const unsigned char *fstat, size_t ncam)
+pass_result_copy(PassResult *r, AwFusedPath *path, unsigned char *fstat, size_t ncam, bool save)
 {
-  size_t n = path->n ? path->n : 1, nc = ncam ? ncam : 1;
-  if (!r->t_s) {
+  size_t n = path->n ? path->n : 1;
+  if (save && !r->t_s) {
     r->t_s = malloc(sizeof *r->t_s * n);
     r->pos = malloc(sizeof *r->pos * n);
     r->vel = malloc(sizeof *r->vel * n);
     r->q = malloc(sizeof *r->q * n);
     r->sig = malloc(sizeof *r->sig * n);
     r->flags = malloc(sizeof *r->flags * n);
-    r->fstat = malloc(nc);
+    r->fstat = malloc(ncam ? ncam : 1);
     if (!r->t_s || !r->pos || !r->vel || !r->q || !r->sig || !r->flags || !r->fstat) {
       pass_result_free(r);
       return false;
     }
   }
-  memcpy(r->t_s, path->t_s, sizeof *r->t_s * path->n);
-  memcpy(r->pos, path->pos_cam_m, sizeof *r->pos * path->n);
-  memcpy(r->vel, path->vel_cam_m_s, sizeof *r->vel * path->n);
-  memcpy(r->q, path->q_cam_body, sizeof *r->q * path->n);
-  memcpy(r->sig, path->pos_sigma_cam_m, sizeof *r->sig * path->n);
-  memcpy(r->flags, path->flags, sizeof *r->flags * path->n);
-  memcpy(r->fstat, fstat, ncam);
-  r->rep = path->report;
+  struct { void *kept, *live; size_t bytes; } part[] = {
+    { r->t_s, path->t_s, sizeof *r->t_s * path->n },
+    { r->pos, path->pos_cam_m, sizeof *r->pos * path->n },
+    { r->vel, path->vel_cam_m_s, sizeof *r->vel * path->n },
+    { r->q, path->q_cam_body, sizeof *r->q * path->n },
+    { r->sig, path->pos_sigma_cam_m, sizeof *r->sig * path->n },
+    { r->flags, path->flags, sizeof *r->flags * path->n },
+    { r->fstat, fstat, ncam },
+  };
+  for (size_t k = 0; k < sizeof part / sizeof part[0]; k++) {
+    if (save) memcpy(part[k].kept, part[k].live, part[k].bytes);
+    else memcpy(part[k].live, part[k].kept, part[k].bytes);
+  }
+  if (save) r->rep = path->report;
+  else path->report = r->rep;
   return true;
-}
-
-static void
-pass_result_restore(const PassResult *r, AwFusedPath *path, unsigned char *fstat, size_t ncam)
-{
-  memcpy(path->t_s, r->t_s, sizeof *r->t_s * path->n);
-  memcpy(path->pos_cam_m, r->pos, sizeof *r->pos * path->n);
-  memcpy(path->vel_cam_m_s, r->vel, sizeof *r->vel * path->n);
-  memcpy(path->q_cam_body, r->q, sizeof *r->q * path->n);
-  memcpy(path->pos_sigma_cam_m, r->sig, sizeof *r->sig * path->n);
-  memcpy(path->flags, r->flags, sizeof *r->flags * path->n);
-  memcpy(fstat, r->fstat, ncam);
-  path->report = r->rep;
 }
 
 void
@@ -1105,7 +1092,7 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
      * estimate (the covariance was opened by hand there), and its forward gate, not the
      * smoothed path, chose its frames. */
     if (rep->gate_recoveries == 0 && (!have_best || agree_last >= agree_best)) {
-      if (!pass_result_save(&kept, path, fstat, cam->n)) { st = AW_ERR_NO_MEMORY; goto out; }
+      if (!pass_result_copy(&kept, path, fstat, cam->n, true)) { st = AW_ERR_NO_MEMORY; goto out; }
       agree_best = agree_last;
       have_best = true;
     }
@@ -1493,7 +1480,7 @@ aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPr
     if ((fstat[k] == FR_ACCEPTED || fstat[k] == FR_REJECTED) && (double)fres[k] <= s->gate_chi2) agree_last++;
   }   /* passes */
   if (have_best && (agree_last < agree_best || rep->gate_recoveries > 0))
-    pass_result_restore(&kept, path, fstat, cam->n);
+    pass_result_copy(&kept, path, fstat, cam->n, false);
 
   /* Per-sample camera status from the frame nearest the sample's output time (its time on
    * the camera's clock, the grid plus the smoothed clock correction). */

@@ -300,16 +300,7 @@ aw_fuse(const AwImuStream *imu, const AwDepthStream *depth, const AwFusionSettin
       }
     }
   }
-  if (s->mask == AW_FUSION_IMU_MASKED) {
-    double up[3], ex[3] = { 1, 0, 0 }, xg[3], yg[3], Rg[3][3];
-    aw_v3_scale(up, cal.g_cam_m_s2, -1.0 / g);
-    double dd = aw_v3_dot(ex, up);
-    for (int a = 0; a < 3; a++) xg[a] = ex[a] - dd * up[a];
-    aw_v3_normalize(xg, xg);
-    aw_v3_cross(yg, up, xg);
-    for (int a = 0; a < 3; a++) { Rg[a][0] = xg[a]; Rg[a][1] = yg[a]; Rg[a][2] = up[a]; }
-    aw_mat_to_quat(rep->q_cam_grav, (const double (*)[3])Rg);
-  }
+  if (s->mask == AW_FUSION_IMU_MASKED) aw_fusion_q_cam_grav(cal.g_cam_m_s2, g, rep->q_cam_grav);
   /* Everything above works on the offset the signals imply (the times the motion happened);
    * the clock offset proper is later by the IMU's output delay. */
   rep->clock_offset_s += output_delay(imu, s);

@@ -8,6 +8,7 @@
 #include <stdint.h>
 
 #include "arcwise/fusion.h"
+#include "arcwise/math3.h"
 
 #define AW_CAM_MAX_SHAPES 16
 
@@ -191,6 +192,21 @@ AwStatus aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCa
 /* Wahba's problem by Horn's quaternion method: q rotating b into a minimising
  * sum w_i |a_i - R b_i|^2, from B = sum w_i b_i a_i^T (B[r][c] = sum b_r a_c). */
 void aw_fusion_wahba(double B[3][3], double q_out[4]);
+
+/* The camera-to-gravity rotation (q_cam_grav, w first) from gravity g_cam (camera frame) of
+ * magnitude g_norm: the gravity frame's z up (against g), its x the camera's x made level. */
+static inline void
+aw_fusion_q_cam_grav(const double g_cam[3], double g_norm, double q[4])
+{
+  double up[3], ex[3] = { 1, 0, 0 }, xg[3], yg[3], Rg[3][3];
+  aw_v3_scale(up, g_cam, -1.0 / g_norm);
+  double dd = aw_v3_dot(ex, up);
+  for (int a = 0; a < 3; a++) xg[a] = ex[a] - dd * up[a];
+  aw_v3_normalize(xg, xg);
+  aw_v3_cross(yg, up, xg);
+  for (int a = 0; a < 3; a++) { Rg[a][0] = xg[a]; Rg[a][1] = yg[a]; Rg[a][2] = up[a]; }
+  aw_mat_to_quat(q, (const double (*)[3])Rg);
+}
 
 /* Stage 3+4: error-state Kalman filter and smoother, writing into path (allocated, n = imu->n). */
 AwStatus aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam,
