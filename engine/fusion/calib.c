@@ -552,18 +552,9 @@ w_resid_n(const WCtx *w, double shift, int iters, double q_out[4], double g_out[
      * Weight = residual variance per frame / prior variance (a Gaussian prior in the same LS). */
     double rv = fmax(rms * rms, 0.25);
     for (int c = 0; c < 3; c++) N[c][c] += rv / (w->lever_sigma * w->lever_sigma);
-    double det = N[0][0] * (N[1][1] * N[2][2] - N[1][2] * N[2][1]) -
-                 N[0][1] * (N[1][0] * N[2][2] - N[1][2] * N[2][0]) +
-                 N[0][2] * (N[1][0] * N[2][1] - N[1][1] * N[2][0]);
+    double det = aw_fusion_det3((const double (*)[3])N);
     if (!(fabs(det) > 0)) break;
-    for (int col = 0; col < 3; col++) {
-      double Tc[3][3];
-      memcpy(Tc, N, sizeof Tc);
-      for (int r = 0; r < 3; r++) Tc[r][col] = bv[r];
-      l[col] = (Tc[0][0] * (Tc[1][1] * Tc[2][2] - Tc[1][2] * Tc[2][1]) -
-                Tc[0][1] * (Tc[1][0] * Tc[2][2] - Tc[1][2] * Tc[2][0]) +
-                Tc[0][2] * (Tc[1][0] * Tc[2][1] - Tc[1][1] * Tc[2][0])) / det;
-    }
+    aw_fusion_cramer3((const double (*)[3])N, bv, det, l);
     double ln = aw_v3_norm(l);
     if (ln > 0.3) aw_v3_scale(l, l, 0.3 / ln);   /* beyond any watch-to-wrist distance */
   }

@@ -6,6 +6,7 @@
 #include <stdbool.h>
 #include <stddef.h>
 #include <stdint.h>
+#include <string.h>
 
 #include "arcwise/fusion.h"
 #include "arcwise/math3.h"
@@ -192,6 +193,27 @@ AwStatus aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCa
 /* Wahba's problem by Horn's quaternion method: q rotating b into a minimising
  * sum w_i |a_i - R b_i|^2, from B = sum w_i b_i a_i^T (B[r][c] = sum b_r a_c). */
 void aw_fusion_wahba(double B[3][3], double q_out[4]);
+
+/* Determinant of a 3 x 3 matrix by the first row's cofactors. */
+static inline double
+aw_fusion_det3(const double A[3][3])
+{
+  return A[0][0] * (A[1][1] * A[2][2] - A[1][2] * A[2][1]) -
+         A[0][1] * (A[1][0] * A[2][2] - A[1][2] * A[2][0]) +
+         A[0][2] * (A[1][0] * A[2][1] - A[1][1] * A[2][0]);
+}
+
+/* x = A^-1 b by Cramer's rule, det = aw_fusion_det3(A) (non-zero). */
+static inline void
+aw_fusion_cramer3(const double A[3][3], const double b[3], double det, double x[3])
+{
+  for (int col = 0; col < 3; col++) {
+    double M[3][3];
+    memcpy(M, A, sizeof M);
+    for (int r = 0; r < 3; r++) M[r][col] = b[r];
+    x[col] = aw_fusion_det3((const double (*)[3])M) / det;
+  }
+}
 
 /* The camera-to-gravity rotation (q_cam_grav, w first) from gravity g_cam (camera frame) of
  * magnitude g_norm: the gravity frame's z up (against g), its x the camera's x made level. */

@@ -88,9 +88,7 @@ quad_acc_weights(const double *u, size_t m, double *w)
     S[0] += 1; S[1] += u[j]; S[2] += u2; S[3] += u2 * u[j]; S[4] += u2 * u2;
   }
   double A[3][3] = { { S[0], S[1], S[2] }, { S[1], S[2], S[3] }, { S[2], S[3], S[4] } };
-  double det = A[0][0] * (A[1][1] * A[2][2] - A[1][2] * A[2][1]) -
-               A[0][1] * (A[1][0] * A[2][2] - A[1][2] * A[2][0]) +
-               A[0][2] * (A[1][0] * A[2][1] - A[1][1] * A[2][0]);
+  double det = aw_fusion_det3((const double (*)[3])A);
   if (!(fabs(det) > 1e-30)) return false;
   double r0 = (A[1][0] * A[2][1] - A[1][1] * A[2][0]) / det;
   double r1 = -(A[0][0] * A[2][1] - A[0][1] * A[2][0]) / det;
@@ -310,23 +308,13 @@ aw_fusion_prep_cam(const AwDepthStream *d, const AwFusionSettings *s, AwCamPrep 
       have = false;
       if (cnt < 6 || nl < 2 || nr < 2 || cnt > 1024) break;
       double A[3][3] = { { S[0], S[1], S[2] }, { S[1], S[2], S[3] }, { S[2], S[3], S[4] } };
-      double det = A[0][0] * (A[1][1] * A[2][2] - A[1][2] * A[2][1]) -
-                   A[0][1] * (A[1][0] * A[2][2] - A[1][2] * A[2][0]) +
-                   A[0][2] * (A[1][0] * A[2][1] - A[1][1] * A[2][0]);
+      double det = aw_fusion_det3((const double (*)[3])A);
       if (!(fabs(det) > 1e-30)) break;
       /* Row 2 of A^-1 by cofactors: c2 = sum_j (Ainv2 . [1 u u^2]) y_j */
       Ainv2[0] = (A[1][0] * A[2][1] - A[1][1] * A[2][0]) / det;
       Ainv2[1] = -(A[0][0] * A[2][1] - A[0][1] * A[2][0]) / det;
       Ainv2[2] = (A[0][0] * A[1][1] - A[0][1] * A[1][0]) / det;
-      for (int a = 0; a < 3; a++)
-        for (int col = 0; col < 3; col++) {
-          double M[3][3];
-          memcpy(M, A, sizeof M);
-          for (int r = 0; r < 3; r++) M[r][col] = Sy[a][r];
-          coef[a][col] = (M[0][0] * (M[1][1] * M[2][2] - M[1][2] * M[2][1]) -
-                          M[0][1] * (M[1][0] * M[2][2] - M[1][2] * M[2][0]) +
-                          M[0][2] * (M[1][0] * M[2][1] - M[1][1] * M[2][0])) / det;
-        }
+      for (int a = 0; a < 3; a++) aw_fusion_cramer3((const double (*)[3])A, Sy[a], det, coef[a]);
       have = true;
     }
     if (!have) continue;
@@ -463,18 +451,9 @@ declip(double (*x)[3], const double *t, size_t n, double range, float *excess)
       bool ok = false;
       if (cnt >= 4) {
         double A[3][3] = { { S[0], S[1], S[2] }, { S[1], S[2], S[3] }, { S[2], S[3], S[4] } };
-        double det = A[0][0] * (A[1][1] * A[2][2] - A[1][2] * A[2][1]) -
-                     A[0][1] * (A[1][0] * A[2][2] - A[1][2] * A[2][0]) +
-                     A[0][2] * (A[1][0] * A[2][1] - A[1][1] * A[2][0]);
+        double det = aw_fusion_det3((const double (*)[3])A);
         if (fabs(det) > 1e-30) {
-          for (int col = 0; col < 3; col++) {
-            double M[3][3];
-            memcpy(M, A, sizeof M);
-            for (int r = 0; r < 3; r++) M[r][col] = Sy[r];
-            c[col] = (M[0][0] * (M[1][1] * M[2][2] - M[1][2] * M[2][1]) -
-                      M[0][1] * (M[1][0] * M[2][2] - M[1][2] * M[2][0]) +
-                      M[0][2] * (M[1][0] * M[2][1] - M[1][1] * M[2][0])) / det;
-          }
+          aw_fusion_cramer3((const double (*)[3])A, Sy, det, c);
           ok = true;
         }
       }
