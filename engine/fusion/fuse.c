@@ -268,11 +268,11 @@ aw_fuse(const AwImuStream *imu, const AwDepthStream *depth, const AwFusionSettin
      * off the camera at rest): fuse again with the starting value held. */
     double l0[3], d2 = 0;
     aw_fusion_eskf_lever0(s, &cal, l0);
-    for (int a = 0; a < 3; a++) {
+    for (int a = 0; a < 3 && s->lever_arm_sigma_m > 0; a++) {
       double d = (rep->lever_arm_body_m[a] - l0[a]) / s->lever_arm_sigma_m;
       d2 += d * d;
     }
-    if (s->lever_arm_sigma_m > 0 && d2 > s->gate_chi2) {
+    if (d2 > s->gate_chi2) {
       *rep = rep_in;
       memset(path->flags, 0, sizeof *path->flags * path->n);
       st = aw_fusion_eskf_run_ext(&im, tau, &cam, s, g, &cal, AW_ESKF_FREEZE_LEVER, path, err);
