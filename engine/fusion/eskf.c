@@ -31,6 +31,19 @@
 
 #include "arcwise/math3.h"
 
+/* Instruction-set variants: this file is compiled once for the baseline instruction set and,
+ * where the compiler can, once more with AVX2 enabled (engine/fusion/meson.build); the
+ * entry points in eskf-dispatch.c pick one at run time. AW_ESKF_VARIANT names the build's
+ * suffix of the entry point. Floating-point contraction is off in both (-ffp-contract=off) and
+ * GCC vectorises without reassociating, so the two give bit-identical results
+ * (tests/fusion/test-eskf-isa.c). */
+#ifndef AW_ESKF_VARIANT
+#define AW_ESKF_VARIANT generic
+#endif
+#define AW_ESKF_CAT2(a, b) a##_##b
+#define AW_ESKF_CAT(a, b) AW_ESKF_CAT2(a, b)
+#define AW_ESKF_FN(f) AW_ESKF_CAT(f, AW_ESKF_VARIANT)
+
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -968,27 +981,11 @@ pass_result_copy(PassResult *r, AwFusedPath *path, unsigned char *fstat, size_t 
   return true;
 }
 
-void
-aw_fusion_eskf_lever0(const AwFusionSettings *s, const AwCalib *cal, double l0[3])
-{
-  memcpy(l0, s->lever_arm_body_m, sizeof s->lever_arm_body_m);
-  /* Without a measured lever arm, start from the calibration's estimate. */
-  if (cal->have_joint && aw_v3_norm(l0) == 0 && s->lever_arm_sigma_m > 0.01)
-    memcpy(l0, cal->lever_body_m, sizeof cal->lever_body_m);
-}
-
 AwStatus
-aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau_in, const AwCamPrep *cam,
-                   const AwFusionSettings *s, double g, const AwCalib *cal, AwFusedPath *path,
-                   AwError *err)
-{
-  return aw_fusion_eskf_run_ext(imu, tau_in, cam, s, g, cal, 0, path, err);
-}
-
-AwStatus
-aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau_in, const AwCamPrep *cam,
-                       const AwFusionSettings *s, double g, const AwCalib *cal, unsigned freeze,
-                       AwFusedPath *path, AwError *err)
+AW_ESKF_FN(aw_fusion_eskf_run_ext)(const AwImuPrep *imu, const double *tau_in,
+                                   const AwCamPrep *cam, const AwFusionSettings *s, double g,
+                                   const AwCalib *cal, unsigned freeze, AwFusedPath *path,
+                                   AwError *err)
 {
   size_t n = imu->n;
   /* The IMU grid on the depth clock, moved by the filter's own clock estimate between passes

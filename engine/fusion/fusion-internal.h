@@ -246,6 +246,20 @@ void aw_fusion_eskf_lever0(const AwFusionSettings *s, const AwCalib *cal, double
 AwStatus aw_fusion_eskf_run_ext(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam,
                                 const AwFusionSettings *s, double g, const AwCalib *cal,
                                 unsigned freeze, AwFusedPath *path, AwError *err);
+/* The two builds of eskf.c behind aw_fusion_eskf_run_ext (eskf-dispatch.c): the baseline
+ * instruction set, and AVX2 where the build has it (AW_HAVE_ESKF_AVX2); bit-identical. */
+AwStatus aw_fusion_eskf_run_ext_generic(const AwImuPrep *imu, const double *tau,
+                                        const AwCamPrep *cam, const AwFusionSettings *s, double g,
+                                        const AwCalib *cal, unsigned freeze, AwFusedPath *path,
+                                        AwError *err);
+AwStatus aw_fusion_eskf_run_ext_avx2(const AwImuPrep *imu, const double *tau,
+                                     const AwCamPrep *cam, const AwFusionSettings *s, double g,
+                                     const AwCalib *cal, unsigned freeze, AwFusedPath *path,
+                                     AwError *err);
+/* Whether aw_fusion_eskf_run_ext runs the AVX2 build (built, the processor has it, and it is
+ * not turned off with aw_fusion_eskf_force_generic, the hook for tests and profiling). */
+bool aw_fusion_eskf_uses_avx2(void);
+void aw_fusion_eskf_force_generic(bool on);
 
 /* Camera-only smoother with a white-jerk motion model on the IMU grid tau: smoothed keypoint
  * position, velocity and sigma; per-sample gating status of frames. jerk_psd <= 0: estimated
