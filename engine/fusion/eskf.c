@@ -702,22 +702,25 @@ replay_update(double P[NS][NS], Upd *u)
   cov_update(P, HP, u->K, S);
 }
 
-/* LK = Lambda K (NS x 3), Lambda symmetric: the smoother's Bryson-Frazier update steps. */
+/* LK = Lambda K (NS x 3), Lambda symmetric: the smoother's Bryson-Frazier update steps. Summed
+ * over k outermost, Lambda's row k (= its column k) times K's row k into all of LK's rows at
+ * once: the inner loop runs along a row, vectorised, and each entry is still the sum over k in
+ * order (the same value as the row-by-column dot product). */
 static inline void
 lambda_k(double L[NS][NS], const Upd *u, double LK[NS][3])
 {
-  for (int r = 0; r < NS; r++) {
-    double a0 = 0, a1 = 0, a2 = 0;
-    for (int k = 0; k < NS; k++) {
-      double lrk = L[r][k];
-      a0 += lrk * u->K[k][0];
-      a1 += lrk * u->K[k][1];
-      a2 += lrk * u->K[k][2];
+  double At[3][NS] = { { 0 } };
+  for (int k = 0; k < NS; k++) {
+    const double *Lk = L[k];
+    double k0 = u->K[k][0], k1 = u->K[k][1], k2 = u->K[k][2];
+    for (int r = 0; r < NS; r++) {
+      At[0][r] += Lk[r] * k0;
+      At[1][r] += Lk[r] * k1;
+      At[2][r] += Lk[r] * k2;
     }
-    LK[r][0] = a0;
-    LK[r][1] = a1;
-    LK[r][2] = a2;
   }
+  for (int r = 0; r < NS; r++)
+    for (int j = 0; j < 3; j++) LK[r][j] = At[j][r];
 }
 
 /* The innovation-space weight of a Bryson-Frazier step, K^T lambda + Sinv y: lambda takes
