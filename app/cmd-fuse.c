@@ -75,6 +75,11 @@ write_report(FILE *f, const AwFusedPath *p)
   fprintf(f, "gyro_bias_rad_s: %.5f %.5f %.5f\n", r->gyro_bias_rad_s[0], r->gyro_bias_rad_s[1], r->gyro_bias_rad_s[2]);
   fprintf(f, "lever_arm_body_m: %.4f %.4f %.4f\n", r->lever_arm_body_m[0], r->lever_arm_body_m[1], r->lever_arm_body_m[2]);
   fprintf(f, "lever_arm: %s\n", r->lever_arm_held ? "held (the estimate left its prior)" : "estimated");
+  if (r->clock_search_runs > 0)
+    fprintf(f, "clock_search: %zu filter runs, kept the start %+.1f ms from the calibration's offset\n",
+            r->clock_search_runs, 1e3 * r->clock_search_shift_s);
+  else
+    fprintf(f, "clock_search: not needed\n");
   fprintf(f, "still_found: %s\n", r->still_found ? "yes" : "no");
   fprintf(f, "camera_frames_used: %zu\ncamera_frames_rejected: %zu\ncamera_frames_missing: %zu\n",
           r->cam_frames_used, r->cam_frames_rejected, r->cam_frames_missing);

@@ -64,6 +64,12 @@ typedef struct {
    * declared). The clock sync cannot tell it from a clock offset, so it is taken off the
    * offset the signals imply: the report gives the clock offset proper. */
   double imu_output_delay_s;
+  /* The clock search (README "Fusion"): on recordings of at most clock_search_max_s whose fused
+   * path more than clock_search_reject_frac of the camera frames disagree with, the filter is
+   * started again at other clock offsets and the start the most frames agree with is kept.
+   * clock_search_max_s = 0 turns it off. */
+  double clock_search_max_s;
+  double clock_search_reject_frac;
 } AwFusionSettings;
 
 void aw_fusion_settings_default(AwFusionSettings *out);
@@ -117,6 +123,10 @@ typedef struct {
    * the prior clock_drift_prior; NAN when the recording is too short to estimate a drift (then
    * clock_drift is the sync's). */
   double clock_drift_sigma;
+  /* The clock search's filter runs (0 when it did not run) and the start it kept, relative to
+   * the calibration's offset (s; 0 when none was better). */
+  size_t clock_search_runs;
+  double clock_search_shift_s;
 } AwFusionReport;
 
 typedef struct {
