@@ -932,6 +932,103 @@ run_transition(const Model *m, const Nom *xs, size_t i0, size_t i1, Seg *sg)
   }
 }
 
+/* The clock's drift beyond the grid's, from one pass: the camera frames' information on a
+ * drift r that moves the clock correction by r (t - tref) on top of the state c (whose random
+ * walk, 10 us per sqrt(s), cannot follow a drift of tens of ppm across a session: the smoothed
+ * c of a 2-minute session sloped by 2 ppm where the grid was 59 ppm off). The drift enters the
+ * camera model as a constant bias with the measurement column H_r = H_c (t - tref), and the
+ * filter run without it gives its maximum-likelihood estimate through the sensitivity of the
+ * filtered state to it (the separate-bias, or two-stage, filter: B. Friedland, "Treatment of
+ * bias in recursive filtering", IEEE Trans. Automatic Control 14(4):359-367, 1969; cited from
+ * memory): V = dx/dr propagates with F (V <- F V) and through each update (V <- V - K s with
+ * s = H V + H_r, the innovation's sensitivity); the innovations y are white with covariance S,
+ * so the bias's information is sum s^T S^-1 s, and its estimate sum s^T S^-1 y over that.
+ * A constant clock bias b (H_b = H_c) is estimated with it and profiled out, so that the
+ * prior of c, which holds at the first sample, tells nothing about r (with a lever of 15
+ * minutes it did: +-17 ppm from a 30-minute recording holding one swing). Frames at still
+ * samples are left out of the sums (the filter's use of them stands): the clock column there
+ * is the velocity estimate's noise, and still hands show no clock. Only vectors: the forward
+ * pass's stored gains and run transitions replayed node by node (recomputed from the nominal
+ * states when they are not stored). *info and *grad get r's profiled information and score
+ * (info r = grad); the drift's coupling into the filter's linearisation (sub-millisecond clock
+ * changes per swing) is left to the next pass's relinearisation. */
+static void
+drift_info(const Model *m, const Nom *xs, const size_t *nodes, size_t nn, const Seg *segs,
+           const size_t *ustart, const UpdList *ul, double tref, double *info, double *grad)
+{
+  double V[2][NS] = { { 0 } }, M[2][2] = { { 0 } }, g[2] = { 0 };
+  for (size_t q = 0; q < nn; q++) {
+    size_t ii = nodes[q];
+    if (q > 0) {
+      Seg sg;
+      const Seg *sp = segs ? &segs[q] : &sg;
+      if (!segs) run_transition(m, xs, nodes[q - 1], ii, &sg);
+      for (int b = 0; b < 2; b++) {
+        double GV[9];
+        apply_G(sp, V[b], 1, 1, GV);
+        for (int k = 0; k < 9; k++) V[b][k] += GV[k];
+      }
+    }
+    double hr = m->tau[ii] - tref;   /* the frame's time, within half an IMU interval */
+    for (size_t j = ustart[ii]; j < ustart[ii + 1]; j++) {
+      const Upd *u = &ul->v[j];
+      if (u->kind == 1) continue;
+      double sv[2][3], w[2][3];
+      for (int b = 0; b < 2; b++)
+        for (int r = 0; r < 3; r++) {
+          if (u->kind == 2) { sv[b][r] = V[b][IV + r]; continue; }
+          double acc = u->Hb[r][IC] * (b == 0 ? 1.0 : hr);
+          for (int k = 0; k < NH; k++) acc += u->Hb[r][k] * V[b][k];
+          sv[b][r] = acc;
+        }
+      for (int b = 0; b < 2; b++) {
+        for (int r = 0; r < 3; r++)
+          w[b][r] = u->Sinv[r][0] * sv[b][0] + u->Sinv[r][1] * sv[b][1] + u->Sinv[r][2] * sv[b][2];
+        for (int r = 0; r < 3 && !m->imu->still[ii]; r++) {
+          M[b][0] += w[b][r] * sv[0][r];
+          M[b][1] += w[b][r] * sv[1][r];
+          g[b] += w[b][r] * u->y[r];
+        }
+        for (int k = 0; k < NS; k++)
+          V[b][k] -= u->K[k][0] * sv[b][0] + u->K[k][1] * sv[b][1] + u->K[k][2] * sv[b][2];
+      }
+    }
+  }
+  *info = 0;
+  *grad = 0;
+  if (!(M[0][0] > 0)) return;
+  *info = M[1][1] - M[0][1] * M[1][0] / M[0][0];
+  *grad = g[1] - M[1][0] * g[0] / M[0][0];
+}
+
+/* After a pass: the drift beyond the grid's (drift_info) about the middle sample's time tref,
+ * combined with the zero-mean prior on the whole drift (the oscillators' tolerance,
+ * clock_drift_prior, as in the calibration): precision info + 1 / sp^2, mean
+ * info (D + r) / (info + 1 / sp^2) for the grid's drift D and the frames' r. The calibration's
+ * windows are not added in: they compare the same frames with the same IMU samples (their line
+ * is the grid this estimate starts from), at 4-10 ms per 20 s window against sub-millisecond
+ * clocks per swing here. The report gets the combined line through tref's smoothed clock (the
+ * grid's offset offset_in plus the pass's c there, already in rep). Returns the drift to add to
+ * the grid's, 0 when the frames hold no information on it. Out of line: the pass loop's code
+ * stays as it was on recordings too short for a drift. */
+static __attribute__((noinline)) double
+drift_line(const Model *m, const Nom *xs, const size_t *nodes, size_t nn, const Seg *segs,
+           const size_t *ustart, const UpdList *ul, double tref, double drift_in,
+           double offset_in, AwFusionReport *rep)
+{
+  double info = 0, grad = 0;
+  drift_info(m, xs, nodes, nn, segs, ustart, ul, tref, &info, &grad);
+  double prior = m->s->clock_drift_prior;
+  double ip = prior > 0 ? 1.0 / (prior * prior) : 0;
+  if (!(info > 0) || !isfinite(info) || !isfinite(grad)) return 0;
+  double dtot = (info * drift_in + grad) / (info + ip);
+  double r = (1 + dtot) / (1 + drift_in) - 1;
+  rep->clock_offset_s += r * (offset_in - tref);
+  rep->clock_drift = dtot;
+  rep->clock_drift_sigma = 1.0 / sqrt(info + ip);
+  return r;
+}
+
 /* One pass's result, kept while later passes run (see "Several passes" below). */
 typedef struct {
   double *t_s, (*pos)[3], (*vel)[3], (*q)[4], (*sig)[3];
@@ -1050,8 +1147,21 @@ AW_ESKF_FN(aw_fusion_eskf_run_ext)(const AwImuPrep *imu, const double *tau_in,
   if (!fstart || !flist || !fstat || !fdec || !fres || !xs || !Pck || !Pblk || !ustart || !acc_v ||
       !nodes || !xpri || (B == 1 && !segs)) { st = AW_ERR_NO_MEMORY; goto out; }
   double clock_moved = 0;   /* shift of the grid made before this pass (s) */
+  bool grid_moved = false;  /* the grid moved before this pass (shift or drift) */
   double move_next = 0;     /* the shift the next pass makes, if one runs (s) */
   double clock_offset_in = rep->clock_offset_s;
+  /* The grid's drift, and the line the next pass moves it by besides the constant (the drift
+   * beyond the grid's, about drift_ref), which may make a pass run (drift_force): see the end
+   * of a pass. */
+  double clock_drift_in = rep->clock_drift, drift_next = 0, drift_ref = 0;
+  bool drift_force = false;
+  /* The drift is estimated where one the prior allows (3 sigma; without a prior the largest the
+   * calibration accepts, 500 ppm) could move the clock by a quarter of an IMU interval at the
+   * recording's ends: the threshold at which the constant correction moves the grid. Shorter
+   * recordings keep the calibration's drift. */
+  double drift_sp = s->clock_drift_prior > 0 ? s->clock_drift_prior : 5e-4;
+  bool drift_on = use_cam && !(freeze & AW_ESKF_FREEZE_CLOCK) && n > 1 &&
+                  3 * drift_sp * 0.5 * (tau[n - 1] - tau[0]) > 0.25 * imu->dt_nom_s;
   /* Passes after the first that reselect the camera frames from the smoothed path. */
   enum { AW_FUSION_MAX_REPASS = 4 };
   /* Several passes. A forward filter must judge each camera frame on the past alone: right after
@@ -1086,7 +1196,7 @@ AW_ESKF_FN(aw_fusion_eskf_run_ext)(const AwImuPrep *imu, const double *tau_in,
       bool keep = (double)fres[k] <= s->gate_chi2;
       if (keep != (fstat[k] == FR_ACCEPTED)) changed++;
     }
-    if (changed == 0 && rep->gate_recoveries == 0) break;
+    if (changed == 0 && rep->gate_recoveries == 0 && !drift_force) break;
     /* This pass overwrites the last one's result: keep that if it is the best so far. A pass
      * that re-anchored is no candidate: its smoothed path across the re-anchoring is not one
      * estimate (the covariance was opened by hand there), and its forward gate, not the
@@ -1102,6 +1212,14 @@ AW_ESKF_FN(aw_fusion_eskf_run_ext)(const AwImuPrep *imu, const double *tau_in,
       for (size_t i = 0; i < n; i++) tau[i] += clock_moved;
       clock_offset_in += clock_moved;
     }
+    if (drift_next != 0) {
+      /* tau + r (tau - ref) = t_imu (1 + D)(1 + r) + O (1 + r) - r ref */
+      for (size_t i = 0; i < n; i++) tau[i] += drift_next * (tau[i] - drift_ref);
+      clock_offset_in += drift_next * (clock_offset_in - drift_ref);
+      clock_drift_in = (1 + clock_drift_in) * (1 + drift_next) - 1;
+    }
+    grid_moved = clock_moved != 0 || drift_next != 0;
+    rep->clock_drift = clock_drift_in;
     rep->clock_offset_s = clock_offset_in;
     rep->cam_frames_used = rep->cam_frames_rejected = rep->cam_frames_missing = 0;
     rep->imu_samples_saturated = rep->zupt_samples = rep->imu_gaps = rep->gate_recoveries = 0;
@@ -1115,7 +1233,7 @@ AW_ESKF_FN(aw_fusion_eskf_run_ext)(const AwImuPrep *imu, const double *tau_in,
     }
   }
   /* Camera frames mapped to their nearest IMU sample (again after the grid moved). */
-  if (pass == 0 || clock_moved != 0) {
+  if (pass == 0 || grid_moved) {
     memset(fstart, 0, sizeof *fstart * (n + 1));
     {
       size_t hint = 0, cnt = 0;
@@ -1486,6 +1604,26 @@ AW_ESKF_FN(aw_fusion_eskf_run_ext)(const AwImuPrep *imu, const double *tau_in,
   move_next = 0;
   if (use_cam && pass + 1 < n_pass && fabs(c_mid) > 0.25 * imu->dt_nom_s && fabs(c_mid) < 0.5)
     move_next = c_mid;
+  /* The clock's drift beyond the grid's (drift_line). When its line moves the clock by more
+   * than a quarter of an IMU interval at the recording's ends, the next pass moves the grid by
+   * it, as by the constant correction above (Gauss-Newton again; |r| bounded by the largest
+   * drift the calibration accepts). When the grid's drift is also outside the estimate's
+   * 2-sigma interval, the next pass runs even if the frame selection did not change (a line
+   * its own sigma cannot tell from the grid's is not worth a pass: a 30-minute recording
+   * holding one swing has no information on the drift, and its posterior moved 3 ppm). */
+  drift_next = 0;
+  drift_force = false;
+  if (drift_on) {
+    double tref = tau[n / 2];
+    double r = drift_line(&m, xs, nodes, nn, segs, ustart, &ul, tref, clock_drift_in,
+                          clock_offset_in, rep);
+    double ends = fmax(tau[n - 1] - tref, tref - tau[0]);
+    if (pass + 1 < n_pass && fabs(r) * ends > 0.25 * imu->dt_nom_s && fabs(r) <= 5e-4) {
+      drift_next = r;
+      drift_ref = tref + move_next;
+      drift_force = fabs(r) > 2 * rep->clock_drift_sigma;
+    }
+  }
   agree_last = 0;
   for (size_t k = 0; k < cam->n; k++)
     if ((fstat[k] == FR_ACCEPTED || fstat[k] == FR_REJECTED) && (double)fres[k] <= s->gate_chi2) agree_last++;
