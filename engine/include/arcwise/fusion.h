@@ -87,7 +87,10 @@ typedef enum {
 
 typedef struct {
   double clock_offset_s;        /* t_depth = t_imu * (1 + clock_drift) + clock_offset_s; the
-                                   motion a sample shows happened output delay earlier */
+                                   motion a sample shows happened output delay earlier. The
+                                   line holds the filter's smoothed clock at the middle sample
+                                   (and, on recordings long enough for drift to matter, the
+                                   filter's drift: clock_drift_sigma) */
   double clock_drift;           /* dimensionless (ppm * 1e-6) */
   double clock_confidence;      /* 0..1 */
   double q_cam_grav[4];         /* rotation from the gravity-aligned frame to the camera frame */
@@ -119,9 +122,13 @@ typedef struct {
    * the curvature of that fit's cost; 0 when the refinement did not run). The filter may
    * inflate the camera noise by it: sigma_t^2 v v^T for the hand velocity v. */
   double clock_calib_sigma_s;
-  /* 1-sigma of clock_drift: the calibration's line through its windows' shifts combined with
-   * the prior clock_drift_prior; NAN when the recording is too short to estimate a drift (then
-   * clock_drift is the sync's). */
+  /* 1-sigma of clock_drift. Where a drift the prior allows (3 clock_drift_prior) could move the
+   * clock by a quarter of an IMU interval at the recording's ends (over 33 s at 50 ppm and
+   * 100 Hz) and the camera is used, clock_drift is the filter's: its information from the
+   * camera frames in motion (the filter's sensitivity to a drift beyond its grid's) combined
+   * with the prior; the calibration's windows only start it. Otherwise the calibration's line
+   * through its windows' shifts combined with the prior; NAN when neither estimated a drift
+   * (then clock_drift is the sync's). */
   double clock_drift_sigma;
   /* The clock search's filter runs (0 when it did not run) and the start it kept, relative to
    * the calibration's offset (s; 0 when none was better). */
