@@ -948,10 +948,33 @@ run_transition(const Model *m, const Nom *xs, size_t i0, size_t i1, Seg *sg)
  * minutes it did: +-17 ppm from a 30-minute recording holding one swing). Frames at still
  * samples are left out of the sums (the filter's use of them stands): the clock column there
  * is the velocity estimate's noise, and still hands show no clock. Only vectors: the forward
- * pass's stored gains and run transitions replayed node by node (recomputed from the nominal
- * states when they are not stored). *info and *grad get r's profiled information and score
+ * pass's stored gains and run transitions replayed node by node (when the transitions are not
+ * stored, step by step from the stored nominal states). *info and *grad get r's profiled information and score
  * (info r = grad); the drift's coupling into the filter's linearisation (sub-millisecond clock
  * changes per swing) is left to the next pass's relinearisation. */
+/* x <- F x for one IMU step T (its G as seg_append composes it: p <- v dt, theta and ba
+ * through h Vth and h Vba, dg dt^2 / 2; v <- Vth, Vba, dg dt; theta <- Tbg; a gap only p <- v
+ * dt). */
+static void
+step_vec(const Trans *T, double x[NS])
+{
+  double h = T->gap ? 0 : 0.5 * T->dt, vdg = T->gap ? 0 : T->dt, pdg = 0.5 * vdg * T->dt;
+  double dv[3], dt[3];
+  for (int r = 0; r < 3; r++) {
+    double a = 0;
+    for (int c = 0; c < 3; c++) a += T->Vth[r][c] * x[IT + c] + T->Vba[r][c] * x[IBA + c];
+    dv[r] = a;
+    double b = 0;
+    for (int c = 0; c < 3; c++) b += T->Tbg[r][c] * x[IBG + c];
+    dt[r] = b;
+  }
+  for (int r = 0; r < 3; r++) {
+    x[IP + r] += T->dt * x[IV + r] + h * dv[r] + pdg * x[IDG + r];
+    x[IV + r] += dv[r] + vdg * x[IDG + r];
+    x[IT + r] += dt[r];
+  }
+}
+
 static void
 drift_info(const Model *m, const Nom *xs, const size_t *nodes, size_t nn, const Seg *segs,
            const size_t *ustart, const UpdList *ul, double tref, double *info, double *grad)
@@ -959,14 +982,20 @@ drift_info(const Model *m, const Nom *xs, const size_t *nodes, size_t nn, const 
   double V[2][NS] = { { 0 } }, M[2][2] = { { 0 } }, g[2] = { 0 };
   for (size_t q = 0; q < nn; q++) {
     size_t ii = nodes[q];
-    if (q > 0) {
-      Seg sg;
-      const Seg *sp = segs ? &segs[q] : &sg;
-      if (!segs) run_transition(m, xs, nodes[q - 1], ii, &sg);
+    if (q > 0 && segs) {
       for (int b = 0; b < 2; b++) {
         double GV[9];
-        apply_G(sp, V[b], 1, 1, GV);
+        apply_G(&segs[q], V[b], 1, 1, GV);
         for (int k = 0; k < 9; k++) V[b][k] += GV[k];
+      }
+    } else if (q > 0) {
+      /* step by step from the stored nominal states (the run's noise is not needed) */
+      for (size_t j = nodes[q - 1] + 1; j <= ii; j++) {
+        Trans T;
+        Nom xn;
+        nominal_step(m, j - 1, &xs[j - 1], &xn, &T);
+        step_vec(&T, V[0]);
+        step_vec(&T, V[1]);
       }
     }
     double hr = m->tau[ii] - tref;   /* the frame's time, within half an IMU interval */
