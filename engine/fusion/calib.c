@@ -250,14 +250,13 @@ static const double (*w_mtab(const WCtx *w, size_t sh, size_t j))[3]
   const AwCamPrep *cam = w->cam;
   double ma[3][3] = { { 0 } };   /* sums in locals */
   size_t q0 = cam->shape_start[sh];
-  /* the first tap's sample from the mean interval (aw_fusion_locate walks the rest of the way;
+  /* the first tap's sample from the mean interval (aw_fusion_interval walks the rest of the way;
    * the later taps walk on from the one before) */
   double di = cam->shape_u[q0] * (double)(w->n - 1) / (w->tau[w->n - 1] - w->tau[0]);
   size_t hint = di <= -(double)i ? 0 : (size_t)((double)i + di);
   for (size_t q = q0; q < cam->shape_start[sh + 1]; q++) {
     double t = w->tau[i] + cam->shape_u[q];
-    size_t a0 = aw_fusion_locate(w->tau, w->n, t, &hint);
-    if (a0 + 1 >= w->n) a0 = w->n - 2;
+    size_t a0 = aw_fusion_interval(w->tau, w->n, t, &hint);
     double dt = w->tau[a0 + 1] - w->tau[a0], u = t - w->tau[a0];
     double r = u / dt, wq = cam->shape_w[q];
     for (int a = 0; a < 3; a++)
@@ -291,8 +290,7 @@ w_tap_fill(const WCtx *w, size_t j, double shift, size_t *hint, bool with_R)
   tp->at_R = NAN;
   tp->in = !(t < w->tau[0] || t > w->tau[w->n - 1]);
   if (!tp->in) return NULL;
-  size_t i = aw_fusion_locate(w->tau, w->n, t, hint);
-  if (i + 1 >= w->n) i = w->n - 2;
+  size_t i = aw_fusion_interval(w->tau, w->n, t, hint);
   double dt = w->tau[i + 1] - w->tau[i], u = t - w->tau[i];
   for (int a = 0; a < 3; a++) {
     double f0 = w->fb0[i][a], f1 = w->fb0[i + 1][a];
@@ -336,8 +334,7 @@ w_imu_acc(const WCtx *w, size_t k, double shift, size_t *hint, double out[3], do
     /* tabulated: interpolation in the frame's time between the knots around it */
     double t = cam->t_s[k] - shift;
     if (t < w->tau[0] || t >= w->tau[w->n - 1]) return false;
-    size_t s = aw_fusion_locate(w->tau, w->n, t, hint);
-    if (s + 1 >= w->n) return false;
+    size_t s = aw_fusion_interval(w->tau, w->n, t, hint);   /* < n - 1: t < tau[n - 1] */
     size_t i = s / w->kdec;
     if (i + 2 > w->nk) i = w->nk - 2;
     double t0 = w->tau[w_knot(w, i)], h = w->tau[w_knot(w, i + 1)] - t0, r = (t - t0) / h;

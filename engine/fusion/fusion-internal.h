@@ -139,13 +139,29 @@ done:
   if (hint) *hint = i;
   return i;
 }
-/* p at time x as above (hint as for aw_fusion_locate); x inside t's span. */
+/* The interval of t holding x: aw_fusion_locate's index clamped to n - 2 (n >= 2), the same
+ * value whatever the hint. For queries that move forwards with their hint (a shape table's tap
+ * from knot to knot, a score's frames in time order) it walks on from the hint without the
+ * general search's checks, a step or a few; anything else goes to aw_fusion_locate. */
+static inline size_t
+aw_fusion_interval(const double *t, size_t n, double x, size_t *hint)
+{
+  size_t i = *hint;
+  if (i <= n - 2 && t[i] <= x && x < t[n - 1]) {
+    while (t[i + 1] <= x) i++;   /* stops at n - 2 at the latest: x < t[n - 1] */
+  } else {
+    i = aw_fusion_locate(t, n, x, hint);
+    if (i + 1 >= n) i = n - 2;
+  }
+  *hint = i;
+  return i;
+}
+/* p at time x as above (hint as for aw_fusion_interval); x inside t's span. */
 static inline void
 aw_fusion_pos_at(const double *t, size_t n, const double (*f)[3], const double (*v)[3],
                  const double (*p)[3], double x, size_t *hint, double out[3])
 {
-  size_t i = aw_fusion_locate(t, n, x, hint);
-  if (i + 1 >= n) i = n - 2;
+  size_t i = aw_fusion_interval(t, n, x, hint);
   double dt = t[i + 1] - t[i], u = x - t[i];
   for (int a = 0; a < 3; a++) {
     double f0 = f[i][a], f1 = f[i + 1][a];

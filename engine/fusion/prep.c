@@ -188,8 +188,7 @@ shape_table_run(const AwCamPrep *cam, size_t shape, const double *t, size_t n,
       for (size_t q = q0; q < q1; q++) {
         /* p as aw_fusion_pos_at, and its derivative */
         double x = t[i] + cam->shape_u[q], wq = cam->shape_w[q];
-        size_t a0 = aw_fusion_locate(t, n, x, &hints[q - q0]);
-        if (a0 + 1 >= n) a0 = n - 2;
+        size_t a0 = aw_fusion_interval(t, n, x, &hints[q - q0]);
         double dt = t[a0 + 1] - t[a0], u = x - t[a0];
         for (int a = 0; a < 3; a++) {
           double f0 = f[a0][a], f1 = f[a0 + 1][a];

@@ -109,8 +109,7 @@ static inline bool
 tab_at(const double (*tab)[3], const double *t, size_t n, double ti, size_t *hint, double out[3])
 {
   if (ti < t[0] || ti >= t[n - 1]) return false;
-  size_t i = aw_fusion_locate(t, n, ti, hint);
-  if (i + 1 >= n) return false;
+  size_t i = aw_fusion_interval(t, n, ti, hint);   /* < n - 1: ti < t[n - 1] */
   double u = (ti - t[i]) / (t[i + 1] - t[i]);
   for (int a = 0; a < 3; a++) out[a] = tab[i][a] + u * (tab[i + 1][a] - tab[i][a]);
   return !isnan(out[0]);
