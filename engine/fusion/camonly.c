@@ -45,13 +45,20 @@ predict_P(const double P[3][3], double dt, double q, double out[3][3])
   }
 }
 
+/* The state step of predict: F x. */
+static void
+predict_x(const double x[3], double dt, double out[3])
+{
+  double h = 0.5 * dt * dt;
+  out[0] = x[0] + dt * x[1] + h * x[2];
+  out[1] = x[1] + dt * x[2];
+  out[2] = x[2];
+}
+
 static void
 predict(const Ax *in, double dt, double q, Ax *out)
 {
-  double h = 0.5 * dt * dt;
-  out->x[0] = in->x[0] + dt * in->x[1] + h * in->x[2];
-  out->x[1] = in->x[1] + dt * in->x[2];
-  out->x[2] = in->x[2];
+  predict_x(in->x, dt, out->x);
   predict_P((const double (*)[3])in->P, dt, q, out->P);
 }
 
@@ -74,9 +81,10 @@ inv3s(double A[3][3], double Ai[3][3])
 }
 
 /* RTS step: smoothed s at t given filtered f at t, prediction p of the next knot from f with
- * Pi = p->P^-1, and the next knot's smoothed sn; dt from t to the next knot. */
+ * Pi = p->P^-1, and the next knot's smoothed sn; dt from t to the next knot. Without with_x
+ * only the covariance (s->x is then f's). */
 static void
-rts(const Ax *f, const Ax *p, const double Pi[3][3], const Ax *sn, double dt, Ax *s)
+rts(const Ax *f, const Ax *p, const double Pi[3][3], const Ax *sn, double dt, bool with_x, Ax *s)
 {
   double F[3][3] = { { 1, dt, 0.5 * dt * dt }, { 0, 1, dt }, { 0, 0, 1 } };
   double PFt[3][3], G[3][3];
@@ -97,7 +105,8 @@ rts(const Ax *f, const Ax *p, const double Pi[3][3], const Ax *sn, double dt, Ax
   }
   for (int r = 0; r < 3; r++) {
     s->x[r] = f->x[r];
-    for (int k = 0; k < 3; k++) s->x[r] += G[r][k] * dx[k];
+    if (with_x)
+      for (int k = 0; k < 3; k++) s->x[r] += G[r][k] * dx[k];
     for (int c = 0; c < 3; c++) {
       GdP[r][c] = 0;
       for (int k = 0; k < 3; k++) GdP[r][c] += G[r][k] * dP[k][c];
@@ -193,7 +202,9 @@ estimate_jerk_psd(const AwCamPrep *cam, const AwFusionSettings *s)
 }
 
 /* One forward filter and RTS smoother over the frames. `drop` (NULL, or one per frame) names
- * frames left out whatever the gate says; kk[j] is the frame behind knot j. */
+ * frames left out whatever the gate says; kk[j] is the frame behind knot j. The lateral axes
+ * x and y share the noise model, so their covariances are bitwise equal until a gate recovery
+ * inflates them apart: until then y's are copied from x's. */
 typedef struct {
   Ax (*F)[3], (*Pp)[3], (*Sm)[3];
   double *tk;
@@ -204,6 +215,7 @@ typedef struct {
   unsigned char (*pi_ok)[3], *plain;
   size_t m, rej, rec;
   double nis_sum;
+  bool with_x;   /* the smoothed states are wanted (else only the covariances) */
 } Pass;
 
 static void
@@ -271,7 +283,10 @@ pass_run(const AwCamPrep *cam, const AwFusionSettings *s, double q, const unsign
     Ax pr[3];
     double nis = 0;
     for (int a = 0; a < 3; a++) {
-      predict(&cur[a], dt, q, &pr[a]);
+      if (a == 1 && rec == 0) {
+        predict_x(cur[1].x, dt, pr[1].x);
+        memcpy(pr[1].P, pr[0].P, sizeof pr[1].P);
+      } else predict(&cur[a], dt, q, &pr[a]);
       double y = cam->pos_m[k][a] - pr[a].x[0], S = pr[a].P[0][0] + var[a];
       nis += y * y / S;
     }
@@ -293,14 +308,21 @@ pass_run(const AwCamPrep *cam, const AwFusionSettings *s, double q, const unsign
     rej_since = NAN;
     rej_run = 0;
     nis_sum += nis;
+    double K0[3] = { 0, 0, 0 };   /* x's gain (axis 0 comes first) */
     for (int a = 0; a < 3; a++) {
       Ax u = pr[a];
       double S = pr[a].P[0][0] + var[a], y = cam->pos_m[k][a] - pr[a].x[0];
-      double K[3] = { pr[a].P[0][0] / S, pr[a].P[1][0] / S, pr[a].P[2][0] / S };
+      bool copy = a == 1 && rec == 0;   /* y's gain and covariance are x's */
+      double K[3];
+      if (copy) memcpy(K, K0, sizeof K);
+      else { K[0] = pr[a].P[0][0] / S; K[1] = pr[a].P[1][0] / S; K[2] = pr[a].P[2][0] / S; }
+      if (a == 0) memcpy(K0, K, sizeof K0);
       for (int r = 0; r < 3; r++) u.x[r] += K[r] * y;
       /* Joseph-equivalent: P - K S K^T */
-      for (int r = 0; r < 3; r++)
-        for (int c = 0; c < 3; c++) u.P[r][c] = pr[a].P[r][c] - K[r] * S * K[c];
+      if (copy) memcpy(u.P, F[m][0].P, sizeof u.P);
+      else
+        for (int r = 0; r < 3; r++)
+          for (int c = 0; c < 3; c++) u.P[r][c] = pr[a].P[r][c] - K[r] * S * K[c];
       cur[a] = u;
       F[m][a] = u;
       Pp[m][a] = pr[a];
@@ -314,10 +336,23 @@ pass_run(const AwCamPrep *cam, const AwFusionSettings *s, double q, const unsign
     for (int a = 0; a < 3; a++) Sm[m - 1][a] = F[m - 1][a];
     for (size_t j = m - 1; j-- > 0;)
       for (int a = 0; a < 3; a++) {
+        if (a == 1 && rec == 0) {
+          /* y's inverse and smoothed covariance are x's (only the state is y's own) */
+          ps->pi_ok[j + 1][1] = ps->pi_ok[j + 1][0];
+          memcpy(ps->Pi[j + 1][1], ps->Pi[j + 1][0], sizeof ps->Pi[j + 1][1]);
+          if (ps->with_x && ps->pi_ok[j + 1][1]) {
+            rts(&F[j][1], &Pp[j + 1][1], (const double (*)[3])ps->Pi[j + 1][1], &Sm[j + 1][1],
+                tk[j + 1] - tk[j], true, &Sm[j][1]);
+            continue;
+          }
+          memcpy(Sm[j][1].x, F[j][1].x, sizeof Sm[j][1].x);
+          memcpy(Sm[j][1].P, Sm[j][0].P, sizeof Sm[j][1].P);
+          continue;
+        }
         ps->pi_ok[j + 1][a] = inv3s(Pp[j + 1][a].P, ps->Pi[j + 1][a]);
         if (ps->pi_ok[j + 1][a])
           rts(&F[j][a], &Pp[j + 1][a], (const double (*)[3])ps->Pi[j + 1][a], &Sm[j + 1][a],
-              tk[j + 1] - tk[j], &Sm[j][a]);
+              tk[j + 1] - tk[j], ps->with_x, &Sm[j][a]);
         else Sm[j][a] = F[j][a];
       }
   }
@@ -362,6 +397,7 @@ aw_fusion_camonly_run(const AwCamPrep *cam, const double *tau, size_t n,
   if (nv == 0) return AW_ERR_TOO_FEW;
   /* Per accepted frame and axis: filtered, predicted-from-previous, smoothed. */
   Pass ps = { 0 };
+  ps.with_x = pos || vel;
   ps.F = malloc(sizeof *ps.F * nv);
   ps.Pp = malloc(sizeof *ps.Pp * nv);
   ps.Sm = malloc(sizeof *ps.Sm * nv);
@@ -403,8 +439,8 @@ aw_fusion_camonly_run(const AwCamPrep *cam, const double *tau, size_t n,
        * x and y noise are equal; a gate recovery inflates them apart). */
       size_t j = aw_fusion_locate(tk, m, t, &hint);
       for (int a = 0; a < 3; a++) {
-        if (a == 1 && memcmp(F[j][1].P, F[j][0].P, sizeof F[j][0].P) == 0 &&
-            memcmp(Sm[j + 1][1].P, Sm[j + 1][0].P, sizeof Sm[j][0].P) == 0) {
+        if (a == 1 && (ps.rec == 0 || (memcmp(F[j][1].P, F[j][0].P, sizeof F[j][0].P) == 0 &&
+                                       memcmp(Sm[j + 1][1].P, Sm[j + 1][0].P, sizeof Sm[j][0].P) == 0))) {
           out[1].P[0][0] = out[0].P[0][0];
           continue;
         }
@@ -429,7 +465,7 @@ aw_fusion_camonly_run(const AwCamPrep *cam, const double *tau, size_t n,
         const double (*Pi)[3];
         predict(&F[j][a], t - tk[j], q, &ft);
         if (next_pred(&ps, j, a, &ft, tk[j + 1] - t, q, true, &own, Pi_own, &pn, &Pi))
-          rts(&ft, pn, Pi, &Sm[j + 1][a], tk[j + 1] - t, &out[a]);
+          rts(&ft, pn, Pi, &Sm[j + 1][a], tk[j + 1] - t, true, &out[a]);
         else out[a] = ft;
       }
     }
