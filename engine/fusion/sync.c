@@ -281,19 +281,26 @@ loc_build(SyncCtx *c, double off)
     size_t len = i1 - i0 + 1;
     if (i1 >= imu->n || len > LOC_MAX) continue;
     double (*L)[3] = c->loc + used;
+    /* each tap's own hint: from entry to entry its time moves on by one IMU interval (the
+     * first entry's taps walk on from the tap before, the first tap from the frame before's) */
+    size_t th[64], q0 = cam->wstart[k], nq = cam->wstart[k + 1] - q0;
+    for (size_t q = 0; q < nq && q < 64; q++) th[q] = h3;
     for (size_t e = 0; e < len; e++) {
       size_t i = i0 + e;
       double acc[3] = { 0, 0, 0 };
       bool ok = !isnan(c->mm[i][0]);
-      for (size_t q = cam->wstart[k]; ok && q < cam->wstart[k + 1]; q++) {
+      for (size_t q = q0; ok && q < cam->wstart[k + 1]; q++) {
         double tj = imu->t_s[i] + (cam->t_s[cam->widx[q]] - cam->t_s[k]), pj[3];
         if (tj < t0 || tj > t1) { ok = false; break; }
+        if (e == 0 && q - q0 < 64) th[q - q0] = q == q0 ? h3 : th[q - q0 - 1];
         aw_fusion_pos_at(imu->t_s, imu->n, (const double (*)[3])c->fb0,
-                         (const double (*)[3])c->cumb, (const double (*)[3])c->pb, tj, &h3, pj);
+                         (const double (*)[3])c->cumb, (const double (*)[3])c->pb, tj,
+                         q - q0 < 64 ? &th[q - q0] : &h3, pj);
         for (int a = 0; a < 3; a++) acc[a] += cam->wval[q] * pj[a];
       }
       for (int a = 0; a < 3; a++) L[e][a] = ok ? acc[a] - c->mm[i][a] : (double)NAN;
     }
+    h3 = th[0];
     c->loc_at[k] = used;
     c->loc_i0[k] = i0;
     c->loc_len[k] = (unsigned char)len;
