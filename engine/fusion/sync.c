@@ -39,6 +39,15 @@ typedef struct {
   bool in;                 /* inside the IMU's span */
 } SyncTap;
 
+/* A camera frame that takes part in the scores (SyncCtx.fr), with what every score reads of
+ * it: its signal and time, and the table its IMU side is looked up in. */
+typedef struct {
+  size_t k;
+  double x, t;                  /* camera signal (not NaN), time */
+  const double (*tab)[3];       /* its own shape's table (NULL: none) */
+  const double (*tab_apx)[3];   /* that or, without one, the commonest shape's (c->approx) */
+} SyncFrame;
+
 /* Half-width of the per-frame tables (SyncCtx.loc): the winner's scans and polish stay within
  * +-30 ms of where they start. */
 #define LOC_HALF_S 0.035
@@ -66,7 +75,7 @@ typedef struct {
   unsigned char *tab_ok;   /* scratch for aw_fusion_shape_table */
   int tab_main;            /* the most common shape (its table exists), -1 = none */
   bool approx;             /* frames without a table of their own use tab_main's */
-  size_t stride;           /* score every stride-th frame (the coarse grid: 2) */
+  size_t stride;           /* score every stride-th frame: 1, or 2 (the coarse grid) */
   /* Frames without a shape table, for the winner's exact refinement: each frame's own
    * operator tabulated on the IMU samples within LOC_HALF_S of where the frame falls
    * at the winner's offset (loc_build), looked up as the shape tables are; without drift
@@ -83,6 +92,10 @@ typedef struct {
    * offset and drift it holds (tap_at); frames evaluated one by one share their taps (a frame
    * is a tap of the dozen operators around it, all evaluated at one offset in turn). */
   SyncTap *taps;
+  /* The frames with a camera signal in time order, every one (fr[0], stride 1) and those of
+   * even index (fr[1], stride 2): the scores' loops, without the per-frame checks. */
+  SyncFrame *fr[2];
+  size_t n_fr[2];
 } SyncCtx;
 
 static void
@@ -90,6 +103,7 @@ ctx_free(SyncCtx *c)
 {
   free(c->sc); free(c->fb0); free(c->cumb); free(c->pb); free(c->mm); free(c->tab_ok);
   free(c->loc); free(c->loc_at); free(c->loc_i0); free(c->loc_len); free(c->taps);
+  free(c->fr[0]); free(c->fr[1]);
   for (size_t s = 0; s < AW_CAM_MAX_SHAPES; s++) free(c->tab[s]);
 }
 
@@ -139,16 +153,14 @@ tap_at(const SyncCtx *c, size_t j, double off, double drift, size_t *hint)
  * acceleration over 10 s is ~0). Both sides pass through the same linear filter, so an
  * asymmetric swing is smoothed identically on both and the correlation peak is unbiased. */
 static bool
-imu_seen(const SyncCtx *c, size_t k, double ti, double off, double drift, size_t *hint,
-         size_t *h3, double out[3])
+imu_seen(const SyncCtx *c, const SyncFrame *fr, double ti, double off, double drift,
+         size_t *hint, size_t *h3, double out[3])
 {
   const AwCamPrep *cam = c->cam;
-  int sh = cam->shape ? cam->shape[k] : -1;
-  if (sh >= 0 && c->tab[sh])
-    return tab_at((const double (*)[3])c->tab[sh], c->imu->t_s, c->imu->n, ti, hint, out);
-  if (c->approx && c->tab_main >= 0)
-    return tab_at((const double (*)[3])c->tab[c->tab_main], c->imu->t_s, c->imu->n, ti, hint, out);
+  const double (*T)[3] = c->approx ? fr->tab_apx : fr->tab;
+  if (T) return tab_at(T, c->imu->t_s, c->imu->n, ti, hint, out);
   const AwImuPrep *imu = c->imu;
+  size_t k = fr->k;
   if (c->local && drift == 0 && c->loc_len[k]) {
     size_t i0 = c->loc_i0[k], len = c->loc_len[k];
     if (ti >= imu->t_s[i0] && ti < imu->t_s[i0 + len - 1]) {
@@ -221,16 +233,14 @@ score(SyncCtx *c, double off, double drift, double ta, double tb, size_t *n_used
 static double
 score_frames(const SyncCtx *c, double off, double drift, double ta, double tb, size_t *n_used)
 {
-  const AwCamPrep *cam = c->cam;
   double s1 = 0, s2 = 0, s11 = 0, s22 = 0, s12 = 0;
   size_t n = 0, hint = 0, h3 = 0;
-  for (size_t k = 0; k < cam->n; k += c->stride) {
-    double x = c->sc[k];
-    if (isnan(x)) continue;
-    double tk = cam->t_s[k];
+  const SyncFrame *fr = c->fr[c->stride == 2];
+  for (size_t j = 0; j < c->n_fr[c->stride == 2]; j++) {
+    double x = fr[j].x, tk = fr[j].t;
     if (tk < ta || tk > tb) continue;
     double ti = imu_time(tk, off, drift, c->t_mid), fm[3];
-    if (!imu_seen(c, k, ti, off, drift, &hint, &h3, fm)) continue;
+    if (!imu_seen(c, &fr[j], ti, off, drift, &hint, &h3, fm)) continue;
     double y = sqrt(fm[0] * fm[0] + fm[1] * fm[1] + fm[2] * fm[2]);
     s1 += x; s2 += y; s11 += x * x; s22 += y * y; s12 += x * y;
     n++;
@@ -381,7 +391,6 @@ static void
 grid_scores(SyncCtx *c, double lo, double step0, size_t nstep, double drift, double ta,
             double tb, double *rc)
 {
-  const AwCamPrep *cam = c->cam;
   double (*S)[5] = calloc(nstep, sizeof *S);
   size_t *N = calloc(nstep, sizeof *N);
   if (!S || !N) {
@@ -390,16 +399,15 @@ grid_scores(SyncCtx *c, double lo, double step0, size_t nstep, double drift, dou
     return;
   }
   size_t hint = 0, h3 = 0;
-  for (size_t k = 0; k < cam->n; k += c->stride) {
-    double x = c->sc[k];
-    if (isnan(x)) continue;
-    double tk = cam->t_s[k];
+  const SyncFrame *fr = c->fr[c->stride == 2];
+  for (size_t j = 0; j < c->n_fr[c->stride == 2]; j++) {
+    double x = fr[j].x, tk = fr[j].t;
     if (tk < ta || tk > tb) continue;
     /* the offsets from the largest down: the IMU times rise and the look-ups walk forwards */
     for (size_t i = nstep; i-- > 0;) {
       double off = lo + step0 * (double)i, fm[3];
       double ti = imu_time(tk, off, drift, c->t_mid);
-      if (!imu_seen(c, k, ti, off, drift, &hint, &h3, fm)) continue;
+      if (!imu_seen(c, &fr[j], ti, off, drift, &hint, &h3, fm)) continue;
       double y = sqrt(fm[0] * fm[0] + fm[1] * fm[1] + fm[2] * fm[2]);
       S[i][0] += x; S[i][1] += y; S[i][2] += x * x; S[i][3] += y * y; S[i][4] += x * y;
       N[i]++;
@@ -637,6 +645,17 @@ aw_fusion_sync_run(const AwImuPrep *imu, const AwCamPrep *cam, const AwFusionSet
     return aw_error_set(err, AW_ERR_NO_CORRELATION, "depth", 0, 0,
                         "the camera saw almost no acceleration (s.d. %.2f m/s^2): there is no "
                         "motion to align the clocks on", sd);
+  }
+  c.fr[0] = malloc(sizeof *c.fr[0] * cam->n);
+  c.fr[1] = malloc(sizeof *c.fr[1] * (cam->n / 2 + 1));
+  if (!c.fr[0] || !c.fr[1]) { ctx_free(&c); return AW_ERR_NO_MEMORY; }
+  for (size_t k = 0; k < cam->n; k++) {
+    if (isnan(c.sc[k])) continue;
+    int sh = cam->shape ? cam->shape[k] : -1;
+    SyncFrame f = { k, c.sc[k], cam->t_s[k], sh >= 0 ? (const double (*)[3])c.tab[sh] : NULL, NULL };
+    f.tab_apx = f.tab || c.tab_main < 0 ? f.tab : (const double (*)[3])c.tab[c.tab_main];
+    c.fr[0][c.n_fr[0]++] = f;
+    if (k % 2 == 0) c.fr[1][c.n_fr[1]++] = f;
   }
   /* Coarse grid over the whole range with every frame near motion, then the best few local
    * maxima refined on the first 60 s of motion (drift over 60 s is below 6 ms); segments
