@@ -22,11 +22,12 @@
 
 typedef struct { double x[3], P[3][3]; } Ax;
 
-/* The covariance step of predict: F P F^T + sign(dt) q Q(|dt|). F's zeros and ones are left
- * out of the products (a product with 1 is exact and one with 0 adds nothing), so every sum is
- * the full 3 x 3 product's, term for term in the same order, at a third of the operations. */
-static void
-predict_P(const double P[3][3], double dt, double q, double out[3][3])
+/* The covariance step of predict: F P F^T + sign(dt) q Q(|dt|), its first nrow rows. F's zeros
+ * and ones are left out of the products (a product with 1 is exact and one with 0 adds
+ * nothing), so every sum is the full 3 x 3 product's, term for term in the same order, at a
+ * third of the operations. */
+static inline __attribute__((always_inline)) void
+predict_P_rows(const double P[3][3], double dt, double q, int nrow, double out[3][3])
 {
   double h = 0.5 * dt * dt;   /* F = { { 1, dt, h }, { 0, 1, dt }, { 0, 0, 1 } } */
   double d2 = dt * dt, d3 = d2 * dt, d4 = d3 * dt, d5 = d4 * dt;
@@ -38,11 +39,17 @@ predict_P(const double P[3][3], double dt, double q, double out[3][3])
     FP[2][c] = P[2][c];
   }
   double sdt = dt >= 0 ? 1.0 : -1.0;   /* backward extrapolation still adds noise */
-  for (int r = 0; r < 3; r++) {
+  for (int r = 0; r < nrow; r++) {
     out[r][0] = FP[r][0] + dt * FP[r][1] + h * FP[r][2] + sdt * q * Q[r][0];
     out[r][1] = FP[r][1] + dt * FP[r][2] + sdt * q * Q[r][1];
     out[r][2] = FP[r][2] + sdt * q * Q[r][2];
   }
+}
+
+static void
+predict_P(const double P[3][3], double dt, double q, double out[3][3])
+{
+  predict_P_rows(P, dt, q, 3, out);
 }
 
 /* The state step of predict: F x. */
@@ -170,11 +177,10 @@ estimate_jerk_psd(const AwCamPrep *cam, const AwFusionSettings *s)
       if (fabs(d - h) > 0.2 * h) even = false;
     }
     if (!even) continue;
-    double sum = 0;
+    double sum = 0, var[3];
+    noise_var(s, cam->noise_scale, cam->pos_m[k + 1], cam->conf ? cam->conf[k + 1] : 1, var);
     for (int a = 0; a < 3; a++) {
       double d3 = cam->pos_m[k + 3][a] - 3 * cam->pos_m[k + 2][a] + 3 * cam->pos_m[k + 1][a] - cam->pos_m[k][a];
-      double var[3];
-      noise_var(s, cam->noise_scale, cam->pos_m[k + 1], cam->conf ? cam->conf[k + 1] : 1, var);
       sum += d3 * d3 - 20 * var[a];
       raw += d3 * d3;
     }
@@ -448,7 +454,11 @@ aw_fusion_camonly_run(const AwCamPrep *cam, const double *tau, size_t n,
         double Pi_own[3][3];
         const Ax *pn;
         const double (*Pi)[3];
-        predict_P((const double (*)[3])F[j][a].P, t - tk[j], q, ft.P);
+        /* rts_p00 reads the first row of ft's covariance; the rest only when the next knot's
+         * prediction is formed again from it (next_pred) */
+        if (ps.plain[j + 1] && ps.pi_ok[j + 1][a])
+          predict_P_rows((const double (*)[3])F[j][a].P, t - tk[j], q, 1, ft.P);
+        else predict_P((const double (*)[3])F[j][a].P, t - tk[j], q, ft.P);
         if (!next_pred(&ps, j, a, &ft, tk[j + 1] - t, q, false, &own, Pi_own, &pn, &Pi)) {
           out[a].P[0][0] = ft.P[0][0];
           continue;
