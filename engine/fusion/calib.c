@@ -72,13 +72,14 @@ horn_fast(const double N[4][4], const double B[3][3], double *lambda, double q[4
   double M[4][4];
   memcpy(M, N, sizeof M);
   for (int k = 0; k < 4; k++) M[k][k] -= x;
-  /* adjugate columns: cofactors of M (symmetric, so rows = columns) */
+  /* adjugate columns: cofactors of M (symmetric, so rows = columns); other[i]: the indices
+   * but i, in order */
+  static const int other[4][3] = { { 1, 2, 3 }, { 0, 2, 3 }, { 0, 1, 3 }, { 0, 1, 2 } };
   double best = 0, v[4] = { 0 };
   for (int col = 0; col < 4; col++) {
     double cv[4];
     for (int row = 0; row < 4; row++) {
-      int r[3], c[3], nr = 0, nc = 0;
-      for (int a = 0; a < 4; a++) { if (a != row) r[nr++] = a; if (a != col) c[nc++] = a; }
+      const int *r = other[row], *c = other[col];
       double d = det3(M[r[0]][c[0]], M[r[0]][c[1]], M[r[0]][c[2]], M[r[1]][c[0]], M[r[1]][c[1]],
                       M[r[1]][c[2]], M[r[2]][c[0]], M[r[2]][c[1]], M[r[2]][c[2]]);
       cv[row] = ((row + col) & 1) ? -d : d;

@@ -483,7 +483,7 @@ aw_fusion_prep_imu(const AwImuStream *imu, const AwFusionSettings *s, double g, 
   m->t_s = imu->t_s;
   m->f = (const double (*)[3])imu->accel_m_s2;
   m->w = (const double (*)[3])imu->gyro_rad_s;
-  m->cumf = calloc(n ? n : 1, sizeof *m->cumf);
+  m->cumf = malloc(sizeof *m->cumf * (n ? n : 1));   /* [0] zeroed, the rest summed below */
   m->sat_acc = calloc(n ? n : 1, 1);
   m->sat_gyr = calloc(n ? n : 1, 1);
   m->still = calloc(n ? n : 1, 1);
@@ -514,6 +514,7 @@ aw_fusion_prep_imu(const AwImuStream *imu, const AwFusionSettings *s, double g, 
   m->f = (const double (*)[3])m->f_own;
   m->w = (const double (*)[3])m->w_own;
   /* Running integral of the reconstructed specific force (box means use it). */
+  memset(m->cumf[0], 0, sizeof m->cumf[0]);
   for (size_t i = 1; i < n; i++) {
     double dt = imu->t_s[i] - imu->t_s[i - 1];
     for (int a = 0; a < 3; a++)
@@ -534,11 +535,16 @@ aw_fusion_prep_imu(const AwImuStream *imu, const AwFusionSettings *s, double g, 
       cw[i + 1][a] = cw[i][a] + m->w[i][a];
       cw[i + 1][3 + a] = cw[i][3 + a] + m->f[i][a];
     }
+  /* (in locals: the flags' byte stores could alias m's fields for all the compiler knows) */
+  const double (*fs)[3] = m->f, (*ws)[3] = m->w;
+  const bool acc_clip = m->acc_range > 0, gyr_clip = m->gyr_range > 0;
+  const double acc_lim = 0.995 * m->acc_range, gyr_lim = 0.995 * m->gyr_range;
+  unsigned char *sat_acc = m->sat_acc, *sat_gyr = m->sat_gyr;
   for (size_t i = 0; i < n; i++) {
     for (int a = 0; a < 3; a++) {
       /* 0.5 % below full scale: quantisation keeps clipped values a count or two short. */
-      if (m->acc_range > 0 && fabs(m->f[i][a]) >= 0.995 * m->acc_range) m->sat_acc[i] = 1;
-      if (m->gyr_range > 0 && fabs(m->w[i][a]) >= 0.995 * m->gyr_range) m->sat_gyr[i] = 1;
+      if (acc_clip && fabs(fs[i][a]) >= acc_lim) sat_acc[i] = 1;
+      if (gyr_clip && fabs(ws[i][a]) >= gyr_lim) sat_gyr[i] = 1;
     }
     size_t lo = i >= half ? i - half : 0, hi = i + half < n ? i + half : n - 1;
     double mw[3], mf[3], dw = 0, mn = 0, df = 0, fn = 0;
@@ -546,8 +552,8 @@ aw_fusion_prep_imu(const AwImuStream *imu, const AwFusionSettings *s, double g, 
     for (int a = 0; a < 3; a++) {
       mw[a] = (cw[hi + 1][a] - cw[lo][a]) * inv;
       mf[a] = (cw[hi + 1][3 + a] - cw[lo][3 + a]) * inv;
-      dw += (m->w[i][a] - mw[a]) * (m->w[i][a] - mw[a]);
-      df += (m->f[i][a] - mf[a]) * (m->f[i][a] - mf[a]);
+      dw += (ws[i][a] - mw[a]) * (ws[i][a] - mw[a]);
+      df += (fs[i][a] - mf[a]) * (fs[i][a] - mf[a]);
       mn += mw[a] * mw[a];
       fn += mf[a] * mf[a];
     }
