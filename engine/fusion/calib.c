@@ -993,20 +993,21 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
         /* The 10 ms grid coarse to fine: every third point (30 ms) first, then the points
          * within 20 ms of the two lowest local minima of those: the lowest 10 ms point of
          * either basin and both its neighbours are evaluated (a basin spans several 30 ms
-         * steps). 27 evaluations instead of 51. The 30 ms pass only brackets the basins: it
-         * takes the frames whose operator has a table (the frames beside occlusions and
-         * trimmed outliers have none, are evaluated tap by tap, and are the least sure) when
-         * they are at least half of them and 20; the points around the minima take all, and
-         * only they are compared. */
-        double gcoarse[51], gfine[51];
-        unsigned char cdone[51] = { 0 }, fdone[51] = { 0 };
+         * steps). 27 evaluations instead of 51. These take the frames whose operator has a
+         * table (the frames beside occlusions and trimmed outliers have none, are evaluated
+         * tap by tap at about three times the cost, and are the least sure) when they are at
+         * least half of them and 20: they bracket the basins and find each one's lowest point.
+         * The two basins' lowest points are compared, and the parabola through the winner and
+         * its neighbours is taken, on all the grid's frames (2 to 5 evaluations). */
+        double gk[51];
+        unsigned char kdone[51] = { 0 };
         int jb = -1;
         double (*sF)[3] = malloc(sizeof *sF * wc.m), (*sA)[3] = malloc(sizeof *sA * wc.m);
         double *se = malloc(sizeof *se * 2 * wc.m);
         unsigned char *su = malloc(wc.m);
         size_t *tabbed = malloc(sizeof *tabbed * (wc.m ? wc.m : 1));
         bool scratch = sF && sA && se && su && tabbed;
-        WCtx wk = wc;   /* the coarse pass's frames */
+        WCtx wk = wc;   /* the grid's frames */
         if (scratch) {
           wk.m = 0;
           for (size_t j = 0; j < wc.m; j++)
@@ -1014,37 +1015,57 @@ aw_fusion_calibrate(const AwImuPrep *imu, const double *tau, const AwCamPrep *ca
           if (wk.m >= 20 && 2 * wk.m >= wc.m) wk.frames = tabbed;
           else wk = wc;
         }
-        bool same = wk.frames == wc.frames;
-        for (int j = 0; j < 51; j++) gcoarse[j] = gfine[j] = INFINITY;
-        for (int j = 1; j < 51 && scratch; j += 3) {
-          gcoarse[j] = w_cost_rot(&wk, (j - 25) * step, sF, sA, se, su);
-          cdone[j] = 1;
-        }
-        int mins[2] = { -1, -1 };
-        for (int j = 1; j < 51 && scratch; j += 3) {
-          if (!isfinite(gcoarse[j])) continue;
-          if ((j >= 4 && gcoarse[j - 3] < gcoarse[j]) || (j + 3 < 51 && gcoarse[j + 3] < gcoarse[j])) continue;
-          if (mins[0] < 0 || gcoarse[j] < gcoarse[mins[0]]) { mins[1] = mins[0]; mins[0] = j; }
-          else if (mins[1] < 0 || gcoarse[j] < gcoarse[mins[1]]) mins[1] = j;
-        }
-        /* gfine[j] on all the grid's frames (the coarse value when the frames are the same) */
-#define W_FINE(j)                                                                          \
+        for (int j = 0; j < 51; j++) gk[j] = INFINITY;
+#define W_GRID(j)                                                                          \
   do {                                                                                     \
-    if ((j) >= 0 && (j) < 51 && !fdone[j]) {                                               \
-      gfine[j] = same && cdone[j] ? gcoarse[j] : w_cost_rot(&wc, ((j) - 25) * step, sF, sA, se, su); \
-      fdone[j] = 1;                                                                        \
+    if ((j) >= 0 && (j) < 51 && !kdone[j] && scratch) {                                    \
+      gk[j] = w_cost_rot(&wk, ((j) - 25) * step, sF, sA, se, su);                          \
+      kdone[j] = 1;                                                                        \
     }                                                                                      \
   } while (0)
+        for (int j = 1; j < 51; j += 3) W_GRID(j);
+        int mins[2] = { -1, -1 };
+        for (int j = 1; j < 51 && scratch; j += 3) {
+          if (!isfinite(gk[j])) continue;
+          if ((j >= 4 && gk[j - 3] < gk[j]) || (j + 3 < 51 && gk[j + 3] < gk[j])) continue;
+          if (mins[0] < 0 || gk[j] < gk[mins[0]]) { mins[1] = mins[0]; mins[0] = j; }
+          else if (mins[1] < 0 || gk[j] < gk[mins[1]]) mins[1] = j;
+        }
+        /* each basin's lowest 10 ms point */
+        int jm[2] = { -1, -1 };
         for (int mq = 0; mq < 2; mq++)
-          for (int j = mins[mq] - 2; mins[mq] >= 0 && j <= mins[mq] + 2; j++) W_FINE(j);
-        for (int j = 0; j < 51; j++)
-          if (fdone[j] && isfinite(gfine[j]) && (jb < 0 || gfine[j] < gfine[jb])) jb = j;
-        /* the parabola's neighbours of a minimum at a window's edge */
-        if (jb >= 0) { W_FINE(jb - 1); W_FINE(jb + 1); }
-#undef W_FINE
+          for (int j = mins[mq] - 2; mins[mq] >= 0 && j <= mins[mq] + 2; j++) {
+            W_GRID(j);
+            if (j >= 0 && j < 51 && isfinite(gk[j]) && (jm[mq] < 0 || gk[j] < gk[jm[mq]])) jm[mq] = j;
+          }
+        jb = jm[0];
+        if (jm[1] >= 0 && (jb < 0 || gk[jm[1]] < gk[jb])) jb = jm[1];
+        /* gc[j]: on all the grid's frames (gk's value when they are the same) */
+        double gc[51];
+        unsigned char cdone[51] = { 0 };
+        for (int j = 0; j < 51; j++) gc[j] = INFINITY;
+        bool same = wk.frames == wc.frames;
+#define W_ALL(j)                                                                           \
+  do {                                                                                     \
+    if ((j) >= 0 && (j) < 51 && !cdone[j] && scratch) {                                    \
+      if (same) W_GRID(j);                                                                 \
+      gc[j] = same ? gk[j] : w_cost_rot(&wc, ((j) - 25) * step, sF, sA, se, su);           \
+      cdone[j] = 1;                                                                        \
+    }                                                                                      \
+  } while (0)
+        if (jm[0] >= 0 && jm[1] >= 0) {
+          /* which basin: on all the grid's frames */
+          W_ALL(jm[0]);
+          W_ALL(jm[1]);
+          if (isfinite(gc[jm[0]]) || isfinite(gc[jm[1]])) jb = !(gc[jm[1]] < gc[jm[0]]) ? jm[0] : jm[1];
+        }
+        /* the parabola through the minimum and its neighbours, on all the grid's frames */
+        if (jb >= 0) { W_ALL(jb - 1); W_ALL(jb); W_ALL(jb + 1); }
+#undef W_ALL
+#undef W_GRID
         free(sub); free(sF); free(sA); free(se); free(su); free(tabbed);
         double best = jb >= 0 ? (jb - 25) * step : 0;
-        if (jb > 0 && jb < 50) best += step * parabola_min(gfine[jb - 1], gfine[jb], gfine[jb + 1]);
+        if (jb > 0 && jb < 50) best += step * parabola_min(gc[jb - 1], gc[jb], gc[jb + 1]);
         /* The inlier set of the joint fit at the coarse minimum, then held fixed: trimming
          * inside every evaluation makes the cost jump by tens of percent between shifts a
          * millisecond apart. Re-trimmed once at the refined shift (and refined again when the
