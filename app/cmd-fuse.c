@@ -79,7 +79,7 @@ write_report(FILE *f, const AwFusedPath *p)
     fprintf(f, "clock_search: %zu filter runs, kept the start %+.1f ms from the calibration's offset\n",
             r->clock_search_runs, 1e3 * r->clock_search_shift_s);
   else
-    fprintf(f, "clock_search: not needed\n");
+    fprintf(f, "clock_search: not run\n");
   fprintf(f, "still_found: %s\n", r->still_found ? "yes" : "no");
   fprintf(f, "camera_frames_used: %zu\ncamera_frames_rejected: %zu\ncamera_frames_missing: %zu\n",
           r->cam_frames_used, r->cam_frames_rejected, r->cam_frames_missing);
