@@ -293,10 +293,7 @@ w_tap_fill(const WCtx *w, size_t j, double shift, size_t *hint, bool with_R)
   if (!tp->in) return NULL;
   size_t i = aw_fusion_interval(w->tau, w->n, t, hint);
   double dt = w->tau[i + 1] - w->tau[i], u = t - w->tau[i];
-  for (int a = 0; a < 3; a++) {
-    double f0 = w->fb0[i][a], f1 = w->fb0[i + 1][a];
-    tp->p[a] = w->pb0[i][a] + u * w->vb0[i][a] + 0.5 * u * u * f0 + u * u * u * (f1 - f0) / (6 * dt);
-  }
+  aw_fusion_cubic_at(w->fb0, w->vb0, w->pb0, i, u, dt, tp->p);
   /* the lever term: the fit operator on R_b0_body(t), the rotation matrices of the samples
    * interpolated linearly (the lever is centimetres: second-order errors in a 10 ms step's
    * rotation are far below the camera's acceleration noise) */

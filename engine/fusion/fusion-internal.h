@@ -156,17 +156,24 @@ aw_fusion_interval(const double *t, size_t n, double x, size_t *hint)
   *hint = i;
   return i;
 }
+/* p at u into the interval i of length dt (p cubic between samples, exact for f linear
+ * between them; v the running integral of f, p that of v). */
+static inline void
+aw_fusion_cubic_at(const double (*f)[3], const double (*v)[3], const double (*p)[3], size_t i,
+                   double u, double dt, double out[3])
+{
+  for (int a = 0; a < 3; a++) {
+    double f0 = f[i][a], f1 = f[i + 1][a];
+    out[a] = p[i][a] + u * v[i][a] + 0.5 * u * u * f0 + u * u * u * (f1 - f0) / (6 * dt);
+  }
+}
 /* p at time x as above (hint as for aw_fusion_interval); x inside t's span. */
 static inline void
 aw_fusion_pos_at(const double *t, size_t n, const double (*f)[3], const double (*v)[3],
                  const double (*p)[3], double x, size_t *hint, double out[3])
 {
   size_t i = aw_fusion_interval(t, n, x, hint);
-  double dt = t[i + 1] - t[i], u = x - t[i];
-  for (int a = 0; a < 3; a++) {
-    double f0 = f[i][a], f1 = f[i + 1][a];
-    out[a] = p[i][a] + u * v[i][a] + 0.5 * u * u * f0 + u * u * u * (f1 - f0) / (6 * dt);
-  }
+  aw_fusion_cubic_at(f, v, p, i, x - t[i], t[i + 1] - t[i], out);
 }
 /* The k-th smallest of v[0..n) (k < n, counted from 0): the value a sort would put at v[k], for
  * medians without sorting (v is reordered). Average O(n). */

@@ -187,13 +187,13 @@ shape_table_run(const AwCamPrep *cam, size_t shape, const double *t, size_t n,
     if (ok[j])
       for (size_t q = q0; q < q1; q++) {
         /* p as aw_fusion_pos_at, and its derivative */
-        double x = t[i] + cam->shape_u[q], wq = cam->shape_w[q];
+        double x = t[i] + cam->shape_u[q], wq = cam->shape_w[q], pq[3];
         size_t a0 = aw_fusion_interval(t, n, x, &hints[q - q0]);
         double dt = t[a0 + 1] - t[a0], u = x - t[a0];
+        aw_fusion_cubic_at(f, v, p, a0, u, dt, pq);
         for (int a = 0; a < 3; a++) {
-          double f0 = f[a0][a], f1 = f[a0 + 1][a];
-          acc[a] += wq * (p[a0][a] + u * v[a0][a] + 0.5 * u * u * f0 + u * u * u * (f1 - f0) / (6 * dt));
-          if (with_d) dacc[a] += wq * (v[a0][a] + u * f0 + 0.5 * u * u * (f1 - f0) / dt);
+          acc[a] += wq * pq[a];
+          if (with_d) dacc[a] += wq * (v[a0][a] + u * f[a0][a] + 0.5 * u * u * (f[a0 + 1][a] - f[a0][a]) / dt);
         }
       }
     for (int a = 0; a < 3; a++) out[j][a] = acc[a];
