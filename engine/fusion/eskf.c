@@ -1252,7 +1252,6 @@ AW_ESKF_FN(aw_fusion_eskf_run_ext)(const AwImuPrep *imu, const double *tau_in,
     rep->clock_offset_s = clock_offset_in;
     rep->cam_frames_used = rep->cam_frames_rejected = rep->cam_frames_missing = 0;
     rep->imu_samples_saturated = rep->zupt_samples = rep->imu_gaps = rep->gate_recoveries = 0;
-    memset(path->flags, 0, sizeof *path->flags * n);
     ul.n = 0;
     for (size_t k = 0; k < cam->n; k++) {
       if (fstat[k] == FR_MISSING) continue;
@@ -1261,6 +1260,8 @@ AW_ESKF_FN(aw_fusion_eskf_run_ext)(const AwImuPrep *imu, const double *tau_in,
       fstat[k] = FR_NONE;
     }
   }
+  /* This pass's flags are set from nothing (also on a path a run before used). */
+  memset(path->flags, 0, sizeof *path->flags * n);
   /* Camera frames mapped to their nearest IMU sample (again after the grid moved). */
   if (pass == 0 || grid_moved) {
     memset(fstart, 0, sizeof *fstart * (n + 1));

@@ -170,16 +170,6 @@ aw_fusion_sync_clocks(const AwImuStream *imu, const AwDepthStream *depth,
   return st;
 }
 
-/* Every position and sigma of the path finite. */
-static bool
-path_finite(const AwFusedPath *p)
-{
-  for (size_t i = 0; i < p->n; i++)
-    for (int a = 0; a < 3; a++)
-      if (!isfinite(p->pos_cam_m[i][a]) || !isfinite(p->pos_sigma_cam_m[i][a])) return false;
-  return true;
-}
-
 /* The filter's per-sample output and report of b into a (both n samples; the inputs copied into
  * the path, accel_body_m_s2, gyro_body_rad_s and cam_info_share, are not the filter's). */
 static void
@@ -238,13 +228,12 @@ clock_search(const AwImuPrep *im, const double *tau, const AwCamPrep *cam,
       for (size_t i = 0; i < n; i++) tau2[i] = tau[i] + d;
       alt->report = *rep_in;
       alt->report.clock_offset_s += d;
-      memset(alt->flags, 0, sizeof *alt->flags * n);
       runs++;
       AwError e2 = { 0 };
-      st = aw_fusion_eskf_run_ext(im, tau2, cam, s, g, cal, freeze, alt, &e2);
-      if (st == AW_ERR_NO_MEMORY) { *err = e2; goto out; }
-      st = AW_OK;   /* a start that diverges is no candidate */
-      if (path_finite(alt) && alt->report.cam_frames_used > rep->cam_frames_used) {
+      AwStatus st2 = aw_fusion_eskf_run_ext(im, tau2, cam, s, g, cal, freeze, alt, &e2);
+      if (st2 == AW_ERR_NO_MEMORY) { *err = e2; st = st2; goto out; }
+      /* A start the filter fails on (it checks its path is finite) is no candidate. */
+      if (st2 == AW_OK && alt->report.cam_frames_used > rep->cam_frames_used) {
         path_take_filter(path, alt);
         best = d;
         moved = true;
@@ -371,7 +360,6 @@ aw_fuse(const AwImuStream *imu, const AwDepthStream *depth, const AwFusionSettin
     }
     if (d2 > s->gate_chi2) {
       *rep = rep_in;
-      memset(path->flags, 0, sizeof *path->flags * path->n);
       st = aw_fusion_eskf_run_ext(&im, tau, &cam, s, g, &cal, AW_ESKF_FREEZE_LEVER, path, err);
       if (st != AW_OK) goto fail;
       rep->lever_arm_held = true;
