@@ -932,26 +932,6 @@ run_transition(const Model *m, const Nom *xs, size_t i0, size_t i1, Seg *sg)
   }
 }
 
-/* The clock's drift beyond the grid's, from one pass: the camera frames' information on a
- * drift r that moves the clock correction by r (t - tref) on top of the state c (whose random
- * walk, 10 us per sqrt(s), cannot follow a drift of tens of ppm across a session: the smoothed
- * c of a 2-minute session sloped by 2 ppm where the grid was 59 ppm off). The drift enters the
- * camera model as a constant bias with the measurement column H_r = H_c (t - tref), and the
- * filter run without it gives its maximum-likelihood estimate through the sensitivity of the
- * filtered state to it (the separate-bias, or two-stage, filter: B. Friedland, "Treatment of
- * bias in recursive filtering", IEEE Trans. Automatic Control 14(4):359-367, 1969; cited from
- * memory): V = dx/dr propagates with F (V <- F V) and through each update (V <- V - K s with
- * s = H V + H_r, the innovation's sensitivity); the innovations y are white with covariance S,
- * so the bias's information is sum s^T S^-1 s, and its estimate sum s^T S^-1 y over that.
- * A constant clock bias b (H_b = H_c) is estimated with it and profiled out, so that the
- * prior of c, which holds at the first sample, tells nothing about r (with a lever of 15
- * minutes it did: +-17 ppm from a 30-minute recording holding one swing). Frames at still
- * samples are left out of the sums (the filter's use of them stands): the clock column there
- * is the velocity estimate's noise, and still hands show no clock. Only vectors: the forward
- * pass's stored gains and run transitions replayed node by node (when the transitions are not
- * stored, step by step from the stored nominal states). *info and *grad get r's profiled information and score
- * (info r = grad); the drift's coupling into the filter's linearisation (sub-millisecond clock
- * changes per swing) is left to the next pass's relinearisation. */
 /* x <- F x for one IMU step T (its G as seg_append composes it: p <- v dt, theta and ba
  * through h Vth and h Vba, dg dt^2 / 2; v <- Vth, Vba, dg dt; theta <- Tbg; a gap only p <- v
  * dt). */
@@ -975,6 +955,27 @@ step_vec(const Trans *T, double x[NS])
   }
 }
 
+/* The clock's drift beyond the grid's, from one pass: the camera frames' information on a
+ * drift r that moves the clock correction by r (t - tref) on top of the state c (whose random
+ * walk, 10 us per sqrt(s), cannot follow a drift of tens of ppm across a session: the smoothed
+ * c of a 2-minute session sloped by 2 ppm where the grid was 59 ppm off). The drift enters the
+ * camera model as a constant bias with the measurement column H_r = H_c (t - tref), and the
+ * filter run without it gives its maximum-likelihood estimate through the sensitivity of the
+ * filtered state to it (the separate-bias, or two-stage, filter: B. Friedland, "Treatment of
+ * bias in recursive filtering", IEEE Trans. Automatic Control 14(4):359-367, 1969; cited from
+ * memory): V = dx/dr propagates with F (V <- F V) and through each update (V <- V - K s with
+ * s = H V + H_r, the innovation's sensitivity); the innovations y are white with covariance S,
+ * so the bias's information is sum s^T S^-1 s, and its estimate sum s^T S^-1 y over that.
+ * A constant clock bias b (H_b = H_c) is estimated with it and profiled out, so that the
+ * prior of c, which holds at the first sample, tells nothing about r (with a lever of 15
+ * minutes it did: +-17 ppm from a 30-minute recording holding one swing). Frames at still
+ * samples are left out of the sums (the filter's use of them stands): the clock column there
+ * is the velocity estimate's noise, and still hands show no clock. Only vectors: the forward
+ * pass's stored gains and run transitions replayed node by node (when the transitions are not
+ * stored, step by step from the stored nominal states). *info and *grad get r's profiled
+ * information and score (info r = grad); the drift's coupling into the filter's
+ * linearisation (sub-millisecond clock changes per swing) is left to the next pass's
+ * relinearisation. */
 static void
 drift_info(const Model *m, const Nom *xs, const size_t *nodes, size_t nn, const Seg *segs,
            const size_t *ustart, const UpdList *ul, double tref, double *info, double *grad)
@@ -1151,10 +1152,10 @@ AW_ESKF_FN(aw_fusion_eskf_run_ext)(const AwImuPrep *imu, const double *tau_in,
   /* Nodes: the samples where the filter forms its covariance. Every sample with a camera frame
    * is one, and the first and the last, and no run between two nodes is longer than a camera
    * interval (see seg_append: the run's transition is exact); zero-velocity updates are made at
-   * the nodes that are still (see the forward pass). Between nodes the nominal state is integrated at every IMU sample as usual; the
-   * smoother's correction and variance there are interpolated between the nodes' (at most a
-   * camera interval apart, where a correction that the IMU carries well changes by
-   * micrometres). The covariance work, most of the filter's cost, then runs at about the camera
+   * the nodes that are still (see the forward pass). Between nodes the nominal state is
+   * integrated at every IMU sample as usual; the smoother's correction and variance there are
+   * interpolated between the nodes' (at most a camera interval apart, where a correction that
+   * the IMU carries well changes by micrometres). The covariance work, most of the filter's cost, then runs at about the camera
    * rate instead of the IMU rate. */
   size_t max_run = 3;
   if (isfinite(cam->dt_nom_s) && cam->dt_nom_s > 0 && imu->dt_nom_s > 0)
