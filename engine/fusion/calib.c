@@ -236,10 +236,18 @@ w_tables(WCtx *w)
   free(ok);
 }
 
+/* R_b0_body at r in [0, 1] of tau's interval i: the rotation matrices of the samples
+ * interpolated linearly (the lever term's rotation: the lever is centimetres, so second-order
+ * errors in a 10 ms step's rotation are far below the camera's acceleration noise). */
+static inline void
+w_rot_at(const WCtx *w, size_t i, double r, double out[3][3])
+{
+  for (int a = 0; a < 3; a++)
+    for (int c = 0; c < 3; c++) out[a][c] = (1 - r) * w->Rb0[i][a][c] + r * w->Rb0[i + 1][a][c];
+}
+
 /* Knot j of shape sh's rotation table (j inside the span where ftab is defined): the fit
- * operator on R_b0_body(t), the rotation matrices of the samples interpolated linearly (the
- * lever is centimetres: second-order errors in a 10 ms step's rotation are far below the
- * camera's acceleration noise). Between knots the table is interpolated linearly: the
+ * operator on R_b0_body(t) (w_rot_at). Between knots the table is interpolated linearly: the
  * operator's output (a second derivative of the rotation over >= 0.4 s, up to ~1000 s^-2 in a
  * downswing) moves by a few hertz, so the error is (pi f h)^2 / 8, about 0.4 % at 20 ms:
  * ~0.05 m/s^2 times the lever in units of 3 cm, below the camera's acceleration noise. */
@@ -259,10 +267,10 @@ static const double (*w_mtab(const WCtx *w, size_t sh, size_t j))[3]
     double t = w->tau[i] + cam->shape_u[q];
     size_t a0 = aw_fusion_interval(w->tau, w->n, t, &hint);
     double dt = w->tau[a0 + 1] - w->tau[a0], u = t - w->tau[a0];
-    double r = u / dt, wq = cam->shape_w[q];
+    double wq = cam->shape_w[q], Rq[3][3];
+    w_rot_at(w, a0, u / dt, Rq);
     for (int a = 0; a < 3; a++)
-      for (int c = 0; c < 3; c++)
-        ma[a][c] += wq * ((1 - r) * w->Rb0[a0][a][c] + r * w->Rb0[a0 + 1][a][c]);
+      for (int c = 0; c < 3; c++) ma[a][c] += wq * Rq[a][c];
   }
   memcpy(mt, ma, sizeof ma);
   w->mdone[sh][j] = 1;
@@ -294,13 +302,9 @@ w_tap_fill(const WCtx *w, size_t j, double shift, size_t *hint, bool with_R)
   size_t i = aw_fusion_interval(w->tau, w->n, t, hint);
   double dt = w->tau[i + 1] - w->tau[i], u = t - w->tau[i];
   aw_fusion_cubic_at(w->fb0, w->vb0, w->pb0, i, u, dt, tp->p);
-  /* the lever term: the fit operator on R_b0_body(t), the rotation matrices of the samples
-   * interpolated linearly (the lever is centimetres: second-order errors in a 10 ms step's
-   * rotation are far below the camera's acceleration noise) */
+  /* the lever term's rotation */
   if (with_R) {
-    double r = u / dt;
-    for (int a = 0; a < 3; a++)
-      for (int c = 0; c < 3; c++) tp->R[a][c] = (1 - r) * w->Rb0[i][a][c] + r * w->Rb0[i + 1][a][c];
+    w_rot_at(w, i, u / dt, tp->R);
     tp->at_R = shift;
   }
   return tp;
