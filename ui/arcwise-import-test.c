@@ -1,7 +1,6 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
 /* The scripted drop-and-import session (see arcwise-import-test.h). */
 #include "arcwise-import-test.h"
-#include "arcwise-library-test.h"
 #include "arcwise-test-script.h"
 
 #include "arcwise-library-browser.h"
@@ -28,47 +27,12 @@ part(ImportTest *t, const char *name)
   return GTK_WIDGET(gtk_widget_get_template_child(GTK_WIDGET(t->win), ARCWISE_TYPE_WINDOW, name));
 }
 
+/* A picture of the window once it has painted (arcwise_test_picture); then then(t). */
 static void
-picture(ImportTest *t, const char *name)
+picture_when_painted(ImportTest *t, const char *name, GSourceOnceFunc then)
 {
   g_autofree char *path = g_strdup_printf("%s/%s.png", t->dir, name);
-  g_autoptr(GError) error = NULL;
-  if (!arcwise_widget_save_png(GTK_WIDGET(t->win), path, &error))
-    g_string_append_printf(t->report, "png_error=%s %s\n", name, error->message);
-}
-
-/* A picture once the next frame is painted: right after a change the window may still need
- * its layout, and then its snapshot is empty. `then` runs after the picture. */
-typedef struct {
-  ImportTest *t;
-  char *name;
-  void (*then)(ImportTest *t);
-  GdkFrameClock *clock;
-  gulong id;
-} Pending;
-
-static void
-painted(GdkFrameClock *clock, gpointer data)
-{
-  Pending *p = data;
-  g_signal_handler_disconnect(clock, p->id);
-  picture(p->t, p->name);
-  if (p->then != NULL)
-    p->then(p->t);
-  g_free(p->name);
-  g_free(p);
-}
-
-static void
-picture_when_painted(ImportTest *t, const char *name, void (*then)(ImportTest *t))
-{
-  GdkFrameClock *clock = gtk_widget_get_frame_clock(GTK_WIDGET(t->win));
-  Pending *p = g_new0(Pending, 1);
-  p->t = t;
-  p->name = g_strdup(name);
-  p->then = then;
-  p->id = g_signal_connect(clock, "after-paint", G_CALLBACK(painted), p);
-  gtk_widget_queue_draw(GTK_WIDGET(t->win));
+  arcwise_test_picture(GTK_WIDGET(t->win), path, t->report, then, t);
 }
 
 static void
@@ -99,8 +63,9 @@ on_fraction(GtkProgressBar *bar, GParamSpec *pspec, ImportTest *t)
 }
 
 static void
-finish(ImportTest *t)
+finish(gpointer data)
 {
+  ImportTest *t = data;
   g_signal_handler_disconnect(part(t, "import_progress"), t->notify_id);
   g_string_append_printf(t->report, "fractions=%s\n", t->fractions->str);
   g_string_free(t->fractions, TRUE);
@@ -157,7 +122,7 @@ window_drop_target(ArcwiseWindow *win)
   return NULL;
 }
 
-static void deliver_drop(ImportTest *t);
+static void deliver_drop(gpointer data);
 
 static void
 drop_files(ImportTest *t)
@@ -182,8 +147,9 @@ drop_files(ImportTest *t)
 }
 
 static void
-deliver_drop(ImportTest *t)
+deliver_drop(gpointer data)
 {
+  ImportTest *t = data;
   gtk_widget_unset_state_flags(GTK_WIDGET(t->win), GTK_STATE_FLAG_DROP_ACTIVE);
   GtkDropTarget *drop = window_drop_target(t->win);
   const char *spec = g_getenv("ARCWISE_IMPORT_TEST_FILES");

@@ -13,31 +13,6 @@ typedef struct {
   int step;
 } LibTest;
 
-gboolean
-arcwise_widget_save_png(GtkWidget *widget, const char *path, GError **error)
-{
-  int w = gtk_widget_get_width(widget), h = gtk_widget_get_height(widget);
-  GdkPaintable *p = gtk_widget_paintable_new(widget);
-  GtkSnapshot *snap = gtk_snapshot_new();
-  gdk_paintable_snapshot(p, GDK_SNAPSHOT(snap), w, h);
-  GskRenderNode *node = gtk_snapshot_free_to_node(snap);
-  g_object_unref(p);
-  GtkNative *native = gtk_widget_get_native(widget);
-  GskRenderer *r = native ? gtk_native_get_renderer(native) : NULL;
-  if (node == NULL || r == NULL) {
-    g_set_error(error, G_IO_ERROR, G_IO_ERROR_FAILED, "nothing drawn yet");
-    g_clear_pointer(&node, gsk_render_node_unref);
-    return FALSE;
-  }
-  GdkTexture *t = gsk_renderer_render_texture(r, node, &GRAPHENE_RECT_INIT(0, 0, w, h));
-  gsk_render_node_unref(node);
-  gboolean ok = gdk_texture_save_to_png(t, path);
-  g_object_unref(t);
-  if (!ok)
-    g_set_error(error, G_IO_ERROR, G_IO_ERROR_FAILED, "cannot write %s", path);
-  return ok;
-}
-
 static void next_step(LibTest *t);
 
 static void
@@ -56,16 +31,19 @@ rows(LibTest *t, const char *name)
                          sel ? sel->swing_id : (gint64)0);
 }
 
-/* The picture after the layout settled; then the next step. */
+static void
+next_step_cb(gpointer data)
+{
+  next_step(data);
+}
+
+/* The picture after the layout settled and the window painted; then the next step. */
 static void
 picture_then_next(gpointer data)
 {
   LibTest *t = data;
   g_autofree char *path = g_strdup_printf("%s/step%d.png", t->dir, t->step);
-  g_autoptr(GError) error = NULL;
-  if (!arcwise_widget_save_png(GTK_WIDGET(t->win), path, &error))
-    g_string_append_printf(t->report, "png_error=%s\n", error->message);
-  next_step(t);
+  arcwise_test_picture(GTK_WIDGET(t->win), path, t->report, next_step_cb, t);
 }
 
 static void

@@ -14,8 +14,4 @@ G_BEGIN_DECLS
  * tests/ui/check-library.py compares the rows with the library's SQLite file. */
 void arcwise_library_test_start(ArcwiseWindow *win, const char *dir, GtkWindow *caution);
 
-/* A PNG of a widget (a whole window, or one widget alone) as drawn now: its GTK snapshot
- * rendered by its window's renderer. Shared by this test and arcwise-smoke.c. */
-gboolean arcwise_widget_save_png(GtkWidget *widget, const char *path, GError **error);
-
 G_END_DECLS

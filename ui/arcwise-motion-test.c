@@ -1,7 +1,6 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
 /* The scripted playback and camera-gesture session (see arcwise-motion-test.h). */
 #include "arcwise-motion-test.h"
-#include "arcwise-library-test.h"
 #include "arcwise-test-script.h"
 
 #include <math.h>
@@ -59,13 +58,12 @@ finish(Motion *m)
   g_free(m);
 }
 
+/* A picture of the window once it has painted (arcwise_test_picture); then then(m). */
 static void
-picture(Motion *m, const char *name)
+picture(Motion *m, const char *name, GSourceOnceFunc then)
 {
   g_autofree char *path = g_strdup_printf("%s/%s.png", m->dir, name);
-  g_autoptr(GError) error = NULL;
-  if (!arcwise_widget_save_png(GTK_WIDGET(m->win), path, &error))
-    g_string_append_printf(m->report, "png_error=%s %s\n", name, error->message);
+  arcwise_test_picture(GTK_WIDGET(m->win), path, m->report, then, m);
 }
 
 static void
@@ -385,6 +383,17 @@ put_loop_button(Motion *m, const char *when)
                            gtk_widget_get_height(GTK_WIDGET(m->win)));
 }
 
+/* The next run of keys, after the picture (if any) of the last. */
+static void
+keys_pictured(gpointer data)
+{
+  Motion *m = data;
+  if (m->keys_stage == 1)
+    put_loop_button(m, "on");
+  m->keys_stage++;
+  keys_next(m);
+}
+
 static gboolean
 keys_settled(gpointer data)
 {
@@ -398,12 +407,10 @@ keys_settled(gpointer data)
                          "keys%d_playing=%d\n", m->keys_stage, arcwise_window_get_time(m->win),
                          m->keys_stage, gtk_drop_down_get_selected(speed), m->keys_stage,
                          loop_on(m), m->keys_stage, arcwise_window_is_playing(m->win));
-  if (want_play) {
-    picture(m, "keys-window");   /* playing at 1/4 with loop on */
-    put_loop_button(m, "on");
-  }
-  m->keys_stage++;
-  keys_next(m);
+  if (want_play)
+    picture(m, "keys-window", keys_pictured);   /* playing at 1/4 with loop on */
+  else
+    keys_pictured(m);
   return G_SOURCE_REMOVE;
 }
 
@@ -455,12 +462,18 @@ stage_controller(ArcwiseStage *stage, GType type)
 }
 
 static void
+gestures_pictured(gpointer data)
+{
+  Motion *m = data;
+  put_loop_button(m, "off");
+  after_stage_picture(m);
+}
+
+static void
 stage_after_done(gpointer data)
 {
   Motion *m = data;
-  picture(m, "gestures-window");   /* loop off */
-  put_loop_button(m, "off");
-  after_stage_picture(m);
+  picture(m, "gestures-window", gestures_pictured);   /* loop off */
 }
 
 static void

@@ -1,7 +1,6 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
 /* The scripted smoke session (see arcwise-smoke.h). */
 #include "arcwise-smoke.h"
-#include "arcwise-library-test.h"
 #include "arcwise-test-script.h"
 
 #include <math.h>
@@ -24,23 +23,31 @@ typedef struct {
 static void store_step(Smoke *s);
 
 static void next_step(Smoke *s);
-static void snap_window(Smoke *s, const char *name);
+static void snap_window(Smoke *s, const char *name, GSourceOnceFunc then);
+
+/* The script's next step, whichever script runs. */
+static void
+step_on(gpointer data)
+{
+  Smoke *s = data;
+  if (s->store)
+    store_step(s);
+  else
+    next_step(s);
+}
 
 static void
 window_then_next(gpointer data)
 {
   Smoke *s = data;
   g_autofree char *name = g_steal_pointer(&s->pending);
-  if (name != NULL) {
-    snap_window(s, name);
-    g_string_append_printf(s->report, "layout=%s %u %d\n", name,
-                           arcwise_window_count_clipped(s->win),
-                           arcwise_window_bars_overlap(s->win));
+  if (name == NULL) {
+    step_on(s);
+    return;
   }
-  if (s->store)
-    store_step(s);
-  else
-    next_step(s);
+  g_string_append_printf(s->report, "layout=%s %u %d\n", name,
+                         arcwise_window_count_clipped(s->win), arcwise_window_bars_overlap(s->win));
+  snap_window(s, name, step_on);
 }
 
 static void
@@ -65,17 +72,15 @@ snap(Smoke *s, const char *name)
 }
 
 /* The whole window as the coach sees it (every widget, the 3-D view's last frame included),
- * rendered by the window's own renderer; DIR/win-NAME.png. */
+ * rendered by the window's own renderer once it has painted; DIR/win-NAME.png, then then(s). */
 static void
-snap_window(Smoke *s, const char *name)
+snap_window(Smoke *s, const char *name, GSourceOnceFunc then)
 {
   GtkWidget *w = GTK_WIDGET(s->win);
   g_autofree char *path = g_strdup_printf("%s/win-%s.png", s->dir, name);
-  g_autoptr(GError) error = NULL;
-  if (!arcwise_widget_save_png(w, path, &error))
-    g_printerr("smoke: %s\n", error->message);
   g_string_append_printf(s->report, "window=%s %d %d\n", name, gtk_widget_get_width(w),
                          gtk_widget_get_height(w));
+  arcwise_test_picture(w, path, s->report, then, s);
 }
 
 static void
@@ -320,14 +325,22 @@ dump_numbers(Smoke *s, const char *tag)
   }
 }
 
-/* One widget alone as the window draws it, DIR/NAME.png. */
+/* One widget alone as the window draws it, DIR/NAME.png, then then(s). */
 static void
-snap_widget(Smoke *s, GtkWidget *w, const char *name)
+snap_widget(Smoke *s, GtkWidget *w, const char *name, GSourceOnceFunc then)
 {
   g_autofree char *path = g_strdup_printf("%s/%s.png", s->dir, name);
-  g_autoptr(GError) error = NULL;
-  if (!arcwise_widget_save_png(w, path, &error))
-    g_printerr("smoke: %s\n", error->message);
+  arcwise_test_picture(w, path, s->report, then, s);
+}
+
+/* After a swing's timeline picture: the next swing. */
+static void
+next_swing(gpointer data)
+{
+  Smoke *s = data;
+  s->swing++;
+  s->step = 1;
+  store_step(s);
 }
 
 static void
@@ -374,10 +387,7 @@ store_step(Smoke *s)
                            gtk_widget_get_height(tl));
     dump_numbers(s, "metric");
     g_autofree char *name = g_strdup_printf("timeline-%u", s->swing);
-    snap_widget(s, tl, name);
-    s->swing++;
-    s->step = 1;
-    store_step(s);
+    snap_widget(s, tl, name, next_swing);
     break;
   }
   case 4: {
