@@ -415,10 +415,62 @@ detect_range(const double (*x)[3], size_t n, double declared)
   return 0;
 }
 
-/* Clipped runs: a quadratic through up to three unclipped samples on each side, evaluated
- * inside the run, never below full scale (a clipped reading says only |x| >= range). Wrist
- * rates and accelerations are smooth on the scale of a few samples, which is what makes the
- * peak recoverable; the excess is kept so the filter can weigh the reconstruction. */
+/* Derivative at t2 of the parabola through (t0, x0), (t1, x1), (t2, x2). */
+static double
+edge_slope(double t0, double x0, double t1, double x1, double t2, double x2)
+{
+  return x0 * (t2 - t1) / ((t0 - t1) * (t0 - t2)) + x1 * (t2 - t0) / ((t1 - t0) * (t1 - t2)) +
+         x2 * (2 * t2 - t0 - t1) / ((t2 - t0) * (t2 - t1));
+}
+
+/* The least-squares parabola through up to three unclipped samples on each side of the run
+ * [i, j) at u = t - t[i] (the fallback where a side has fewer than three). */
+static bool
+flank_parabola(const double (*x)[3], const double *t, size_t n, size_t i, size_t j, int a,
+               double lim, double c[3])
+{
+  double S[5] = { 0 }, Sy[3] = { 0 };
+  int cnt = 0;
+  size_t left = i >= 3 ? i - 3 : 0, right = j + 3 < n ? j + 3 : n;
+  for (size_t k = left; k < right; k++) {
+    if (k == i) k = j;            /* skip the run itself */
+    if (k >= right) break;
+    if (fabs(x[k][a]) >= lim) continue;
+    double u = t[k] - t[i], y = x[k][a];
+    S[0] += 1; S[1] += u; S[2] += u * u; S[3] += u * u * u; S[4] += u * u * u * u;
+    Sy[0] += y; Sy[1] += y * u; Sy[2] += y * u * u; cnt++;
+  }
+  if (cnt < 4) return false;
+  double A[3][3] = { { S[0], S[1], S[2] }, { S[1], S[2], S[3] }, { S[2], S[3], S[4] } };
+  double det = aw_fusion_det3((const double (*)[3])A);
+  if (!(fabs(det) > 1e-30)) return false;
+  aw_fusion_cramer3((const double (*)[3])A, Sy, det, c);
+  return true;
+}
+
+/* Clipped runs. A clipped reading says only |x| >= full scale; wrist rates and accelerations
+ * are smooth on the scale of a few samples, which makes the peak partly recoverable. Inside
+ * a run the reading is replaced by the cubic Hermite curve between the last unclipped sample
+ * before it and the first after, with the slopes there taken from the parabola through each
+ * side's three nearest samples; never below full scale, at most four times it. Where a side
+ * has fewer than three unclipped samples (a run at the recording's edge or two runs close
+ * together), a least-squares parabola through the flanks, at most twice full scale. The
+ * excess over full scale (plus a margin) is kept so the filter can weigh the reconstruction.
+ *
+ * Measured against the same simulated hard swings made with full scales wide enough not to
+ * clip (seeds 70000-70297 every third: 153 clipped gyro runs, 192 accelerometer runs, most
+ * 5-10 samples long), the Hermite curve leaves the rotation a gyro run adds off by
+ * 0.096 rad rms where the least-squares parabola through three samples each side (the
+ * reconstruction before) left 0.27 rad, and the velocity an accelerometer run adds off by
+ * 1.40 m/s rms against 1.76 (a ball strike's spike, one or two clipped samples, no smooth
+ * curve recovers). Fused on 18 seed sets of 60 swings (5000-62000 and 64000-72000), hard
+ * swings' RMSE fell 5 % (geometric mean), swings over 3 cm 70 -> 63; easy and normal
+ * swings seldom clip and did not move.
+ *
+ * Measured and not kept: the filter told the reconstruction's error as measured there
+ * (a run's integral off by about R dt (c n^1.5 + b), c = 0.035 gyro, 0.07 accelerometer)
+ * instead of the excess: coverage stayed in band, but hard swings' RMSE rose 9 % (the
+ * downswing's noisy frames then carry the path), and 0.5 % with the gyro's alone. */
 static void
 declip(double (*x)[3], const double *t, size_t n, double range, float *excess)
 {
@@ -431,41 +483,33 @@ declip(double (*x)[3], const double *t, size_t n, double range, float *excess)
       size_t j = i;
       while (j < n && fabs(x[j][a]) >= lim) j++;
       double sgn = x[i][a] > 0 ? 1 : -1;
-      /* neighbours */
-      double S[5] = { 0 }, Sy[3] = { 0 };
-      int cnt = 0;
-      double t0 = t[i];
-      for (size_t k = i >= 3 ? i - 3 : 0; k < i; k++) {
-        double u = t[k] - t0, y = x[k][a];
-        S[0] += 1; S[1] += u; S[2] += u * u; S[3] += u * u * u; S[4] += u * u * u * u;
-        Sy[0] += y; Sy[1] += y * u; Sy[2] += y * u * u; cnt++;
-      }
-      for (size_t k = j; k < n && k < j + 3; k++) {
-        if (fabs(x[k][a]) >= lim) break;
-        double u = t[k] - t0, y = x[k][a];
-        S[0] += 1; S[1] += u; S[2] += u * u; S[3] += u * u * u; S[4] += u * u * u * u;
-        Sy[0] += y; Sy[1] += y * u; Sy[2] += y * u * u; cnt++;
-      }
+      bool herm = i >= 3 && j + 2 < n && fabs(x[i - 2][a]) < lim && fabs(x[i - 3][a]) < lim &&
+                  fabs(x[j + 1][a]) < lim && fabs(x[j + 2][a]) < lim && t[i - 3] < t[i - 2] &&
+                  t[i - 2] < t[i - 1] && t[i - 1] < t[j] && t[j] < t[j + 1] && t[j + 1] < t[j + 2];
       double c[3] = { 0, 0, 0 };
-      bool ok = false;
-      if (cnt >= 4) {
-        double A[3][3] = { { S[0], S[1], S[2] }, { S[1], S[2], S[3] }, { S[2], S[3], S[4] } };
-        double det = aw_fusion_det3((const double (*)[3])A);
-        if (fabs(det) > 1e-30) {
-          aw_fusion_cramer3((const double (*)[3])A, Sy, det, c);
-          ok = true;
-        }
+      bool par = !herm && flank_parabola((const double (*)[3])x, t, n, i, j, a, lim, c);
+      double ta = herm ? t[i - 1] : 0, h = herm ? t[j] - ta : 1, p0 = 0, p1 = 0, m0 = 0, m1 = 0;
+      if (herm) {
+        p0 = x[i - 1][a];
+        p1 = x[j][a];
+        m0 = edge_slope(t[i - 3], x[i - 3][a], t[i - 2], x[i - 2][a], t[i - 1], p0) * h;
+        m1 = edge_slope(t[j + 2], x[j + 2][a], t[j + 1], x[j + 1][a], t[j], p1) * h;
       }
       for (size_t k = i; k < j; k++) {
         double v = range * sgn;
-        if (ok) {
-          double u = t[k] - t0, q = c[0] + c[1] * u + c[2] * u * u;
-          /* at most twice full scale: beyond that the parabola is guessing */
+        if (herm) {
+          double u = (t[k] - ta) / h, u2 = u * u, u3 = u2 * u;
+          double q = (2 * u3 - 3 * u2 + 1) * p0 + (u3 - 2 * u2 + u) * m0 + (-2 * u3 + 3 * u2) * p1 +
+                     (u3 - u2) * m1;
+          if (q * sgn > range) v = sgn * fmin(fabs(q), 4.0 * range);
+        }
+        else if (par) {
+          double u = t[k] - t[i], q = c[0] + c[1] * u + c[2] * u * u;
           if (q * sgn > range) v = sgn * fmin(fabs(q), 2.0 * range);
         }
         x[k][a] = v;
-        /* A clipped reading says only |x| >= range: the reconstruction is a guess, wrong by
-         * up to its excess plus a margin (margin_frac of full scale). */
+        /* The reconstruction is a guess, wrong by up to its excess plus a margin
+         * (margin_frac of full scale). */
         float e = (float)((fabs(v) - range + margin_frac * range));
         if (e > excess[k]) excess[k] = e;
       }

@@ -139,6 +139,59 @@ main(void)
     }
   }
 
+  /* Clipped peaks (prep.c declip): a Gaussian rate pulse A exp(-(t - t0)^2 / (2 w^2)) about
+   * z, sampled at 100 Hz in closed form and clipped at a declared full scale R (1000 deg/s),
+   * 4-11 samples at full scale. The samples outside the run stay as read; inside, the
+   * reconstruction stays within [R, 4 R] and adds back at least 35 % of the area the clip
+   * removed (the rotation lost). The 35 % is measured here, not published: the cubic Hermite
+   * curve leaves 18-62 % of it on these 12 cases, the least-squares parabola used before left
+   * 58-100 %. Each clipped sample carries a positive excess for the filter's noise. */
+  {
+    const double R = 1000.0 * AW_RAD_PER_DEG;
+    const double amp[3] = { 2.0, 1.5, 2.5 }, width[3] = { 0.030, 0.025, 0.040 };
+    size_t bad = 0;
+    for (int c = 0; c < 3; c++)
+      for (int ph = 0; ph < 4; ph++) {
+        size_t n = 100;
+        AwImuStream *imu = aw_imu_stream_new(n);
+        imu->meta.gyro_range_rad_s = R;
+        imu->meta.accel_range_m_s2 = 16 * 9.80665;
+        double t0 = 0.5 + 0.0025 * ph, lost = 0, back = 0;
+        double *y = malloc(sizeof *y * n);
+        for (size_t i = 0; i < n; i++) {
+          imu->t_s[i] = 0.01 * (double)i;
+          double u = (imu->t_s[i] - t0) / width[c];
+          y[i] = amp[c] * R * exp(-0.5 * u * u);
+          imu->accel_m_s2[i][0] = imu->accel_m_s2[i][1] = 0;
+          imu->accel_m_s2[i][2] = 9.80665;
+          imu->gyro_rad_s[i][0] = imu->gyro_rad_s[i][1] = 0;
+          imu->gyro_rad_s[i][2] = fmin(y[i], R);
+        }
+        AwImuPrep prep;
+        AW_CHECK(aw_fusion_prep_imu(imu, &s, 9.80665, &prep) == AW_OK);
+        size_t clipped = 0;
+        for (size_t i = 0; i < n; i++) {
+          double r = prep.w[i][2];
+          if (y[i] >= 0.995 * R) {
+            clipped++;
+            lost += (y[i] - R) * 0.01;
+            back += (r - R) * 0.01;
+            if (!(r >= R && r <= 4 * R) || !(prep.gyr_excess[i] > 0)) bad++;
+          }
+          else if (r != imu->gyro_rad_s[i][2] || prep.gyr_excess[i] != 0) bad++;
+        }
+        fprintf(stderr, "clipped pulse %.1f R, %.0f ms, phase %d: %zu samples, lost %.4f rad, "
+                "added back %.4f rad (%.0f %%)\n", amp[c], 1e3 * width[c], ph, clipped, lost,
+                back, 100 * back / lost);
+        AW_CHECK(clipped >= 4);
+        AW_CHECK(back >= 0.35 * lost && back <= 1.1 * lost);
+        free(y);
+        aw_fusion_prep_imu_free(&prep);
+        aw_imu_stream_free(imu);
+      }
+    AW_CHECK(bad == 0);
+  }
+
   /* Sync recovers a known shift (analytic motion, camera and IMU noise as in the defaults). */
   {
     AwSynthSpec sp;
