@@ -44,6 +44,7 @@
 #define AW_ESKF_CAT(a, b) AW_ESKF_CAT2(a, b)
 #define AW_ESKF_FN(f) AW_ESKF_CAT(f, AW_ESKF_VARIANT)
 
+#include <float.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -656,10 +657,13 @@ timing_noise(const Model *m, double Hb[3][NH], double R[3][3])
     for (int c = 0; c < 3; c++) R[r][c] += m->sj2 * Hb[r][IC] * Hb[c][IC];
 }
 
-/* Kalman update; returns NIS, and applies only when apply is set. */
+/* Kalman update; returns NIS, and applies only when apply is set. conf, sigma_c: a camera
+ * frame's confidence and cam_outlier_sigma_m, tested against a wrong detection
+ * (aw_fusion_frame_wrong; conf 1: the chi-square gate alone). */
 static double
 kf_update(double P[NS][NS], Nom *x, double Hb[3][NH], double R[3][3],
-          const double y[3], double gate, bool force, bool vel_only, bool *accepted, Upd *rec)
+          const double y[3], double gate, double conf, double sigma_c, bool force, bool vel_only, bool *accepted,
+          Upd *rec)
 {
   double HP[3][NS], S[3][3], Si[3][3];
   if (vel_only) innov_cov_vel(P, R, HP, S);
@@ -669,6 +673,10 @@ kf_update(double P[NS][NS], Nom *x, double Hb[3][NH], double R[3][3],
   for (int r = 0; r < 3; r++)
     for (int c = 0; c < 3; c++) nis += y[r] * Si[r][c] * y[c];
   if (!(nis <= gate) && !force) { *accepted = false; return nis; }
+  if (!force && conf < 1 && aw_fusion_frame_wrong(conf, sigma_c, y, (const double (*)[3])S, nis)) {
+    *accepted = false;
+    return nis;
+  }
   double K[NS][3], d[NS];
   for (int r = 0; r < NS; r++)
     for (int c = 0; c < 3; c++)
@@ -906,14 +914,22 @@ frame_residuals(const Model *m, const AwCamPrep *cam, const size_t *fstart, cons
 {
   for (size_t j = fstart[i]; j < fstart[i + 1]; j++) {
     size_t k = flist[j];
-    double h[3], Hb[3][NH], Rc[3][3], r2 = 0;
+    double h[3], Hb[3][NH], Rc[3][3], r2 = 0, y[3];
     cam_predict(m, x, i, cam->t_s[k] - m->tau[i], h, Hb);
     cam_noise(m->s, cam->noise_scale, cam->pos_m[k], cam->conf ? cam->conf[k] : 1, Rc);
     timing_noise(m, Hb, Rc);
+    double Sd[3][3] = { { 0 } };
     for (int a = 0; a < 3; a++) {
       double e = cam->pos_m[k][a] - h[a];
-      r2 += e * e / (Rc[a][a] + ksig2[a]);
+      Sd[a][a] = Rc[a][a] + ksig2[a];
+      r2 += e * e / Sd[a][a];
+      y[a] = e;
     }
+    /* A frame more likely a wrong detection is stored past the gate (aw_fusion_frame_wrong). */
+    if (r2 <= m->s->gate_chi2 &&
+        aw_fusion_frame_wrong(cam->conf ? cam->conf[k] : 1, m->s->cam_outlier_sigma_m, y,
+                              (const double (*)[3])Sd, r2))
+      r2 += m->s->gate_chi2;
     fres[k] = (float)r2;
   }
 }
@@ -1421,7 +1437,7 @@ AW_ESKF_FN(aw_fusion_eskf_run_ext)(const AwImuPrep *imu, const double *tau_in,
       Upd *u = upd_push(&ul);
       if (!u) { st = AW_ERR_NO_MEMORY; goto out; }
       bool acc;
-      kf_update(P, &x, Hb, R, y, s->gate_chi2, false, true, &acc, u);
+      kf_update(P, &x, Hb, R, y, s->gate_chi2, 1, 0, false, true, &acc, u);
       if (acc) {
         u->step = (uint32_t)i;
         path->flags[i] |= AW_FUSED_STILL;
@@ -1446,8 +1462,8 @@ AW_ESKF_FN(aw_fusion_eskf_run_ext)(const AwImuPrep *imu, const double *tau_in,
         Upd *u = upd_push(&ul);
         if (!u) { st = AW_ERR_NO_MEMORY; goto out; }
         bool acc;
-        double nis = kf_update(P, &x, Hb, R, y,
-                               s->gate_chi2, fdec[k] == 2, false, &acc, u);
+        double nis = kf_update(P, &x, Hb, R, y, s->gate_chi2, cam->conf ? cam->conf[k] : 1,
+                               s->cam_outlier_sigma_m, fdec[k] == 2, false, &acc, u);
         if (!acc) {
           ul.n--;
           if (isnan(rej_since)) rej_since = cam->t_s[k];
@@ -1469,7 +1485,7 @@ AW_ESKF_FN(aw_fusion_eskf_run_ext)(const AwImuPrep *imu, const double *tau_in,
             for (int a = 0; a < 3; a++) y[a] = cam->pos_m[k][a] - h[a];
             u = upd_push(&ul);
             if (!u) { st = AW_ERR_NO_MEMORY; goto out; }
-            kf_update(P, &x, Hb, R, y, s->gate_chi2, true, false, &acc, u);
+            kf_update(P, &x, Hb, R, y, s->gate_chi2, 1, 0, true, false, &acc, u);
             u->step = (uint32_t)i;
             acc_v[i] = 0;
             rep->gate_recoveries++;

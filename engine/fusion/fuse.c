@@ -73,6 +73,8 @@ aw_fusion_settings_default(AwFusionSettings *s)
   /* Twice the share a normal capture loses (real captures 2.5-5 %, the simulator's normal level
    * about 4 %): more is a path the frames disagree with. */
   s->clock_search_reject_frac = 0.10;
+  /* A wrong detection lies on the body, within about half a metre of the wrist. */
+  s->cam_outlier_sigma_m = 0.2;
 }
 
 static double

@@ -3,6 +3,7 @@
 
 /* Internal interfaces between the stages of the fusion pipeline (not installed). */
 
+#include <math.h>
 #include <stdbool.h>
 #include <stddef.h>
 #include <stdint.h>
@@ -261,6 +262,37 @@ AwStatus aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCam
  * attitude (attitude and gyro bias; the IMU's rotation is then taken as exact) or a known clock
  * offset. With both, a fixed attitude and camera frames on IMU sample times the filter is
  * linear-Gaussian, which is what tests/fusion/test-eskf-reference.py checks it on. */
+/* A camera frame's confidence read as the prior probability p that it shows the keypoint,
+ * against a wrong detection (a body part mistaken for the wrist, an occluded wrist pulled
+ * toward the chest) scattered about the true keypoint with sigma_c per axis
+ * (cam_outlier_sigma_m): with the innovation y of covariance S if the frame is right, S + C
+ * (C = sigma_c^2 I) if it is wrong, the frame is more likely wrong where
+ *   p N(y; 0, S) < (1 - p) N(y; 0, S + C),
+ *   y' S^-1 y - y' (S + C)^-1 y > 2 ln(p / (1 - p)) + ln det(S + C) - ln det S
+ * (a two-hypothesis validation test in the manner of probabilistic data association;
+ * Bar-Shalom, Daum & Huang, IEEE Control Systems 29(6), 2009). With S of a few centimetres
+ * the bound lies beyond the chi-square gate and changes nothing; it bites where the filter's
+ * own uncertainty has grown toward sigma_c (a clipped downswing behind an occlusion), where a
+ * snapped low-confidence detection would otherwise pass a gate the uncertainty has widened.
+ * Where S grows far beyond sigma_c (after a gap in the IMU) both hypotheses look alike and the
+ * confidence alone decides (p < 1/2 is refused). nis: y' S^-1 y. Confidence 1 or sigma_c 0:
+ * never wrong; confidence 0: always. */
+static inline bool
+aw_fusion_frame_wrong(double conf, double sigma_c, const double y[3], const double S[3][3],
+                      double nis)
+{
+  if (!(sigma_c > 0) || !(conf < 1)) return false;
+  if (!(conf > 0)) return true;
+  double T[3][3], z[3];
+  memcpy(T, S, sizeof T);
+  for (int a = 0; a < 3; a++) T[a][a] += sigma_c * sigma_c;
+  double det_s = aw_fusion_det3(S), det_t = aw_fusion_det3((const double (*)[3])T);
+  if (!(det_s > 0) || !(det_t > 0)) return false;
+  aw_fusion_cramer3((const double (*)[3])T, y, det_t, z);
+  double q = y[0] * z[0] + y[1] * z[1] + y[2] * z[2];
+  return nis - q > 2 * log(conf / (1 - conf)) + log(det_t) - log(det_s);
+}
+
 enum { AW_ESKF_FREEZE_ATTITUDE = 1u << 0, AW_ESKF_FREEZE_CLOCK = 1u << 1,
        AW_ESKF_FREEZE_LEVER = 1u << 2 };
 /* The lever arm the filter starts from: the settings' when measured, else the calibration's

@@ -192,6 +192,45 @@ main(void)
     AW_CHECK(bad == 0);
   }
 
+  /* A camera frame more likely a wrong detection (aw_fusion_frame_wrong, fusion-internal.h):
+   * posterior probabilities that the frame shows the keypoint, p N(y; 0, S) / (p N(y; 0, S) +
+   * (1 - p) N(y; 0, S + 0.2^2 I)), from scipy 1.10.1 (Debian 12,
+   * scipy.stats.multivariate_normal(mean=0, cov=...).pdf(y)); the engine calls a frame wrong
+   * exactly where that is below 1/2. Two cases lie 1 % either side of the boundary (scipy's
+   * brentq on the scale of y), two have S far wider than the scatter (there the confidence
+   * alone decides). Confidence 1 or no scatter set: never wrong; confidence 0: always. */
+  {
+    static const struct { double conf, sig[3], y[3], post; } mc[] = {
+      { 0.40, { 0.03, 0.03, 0.05 }, { 0.05, -0.04, 0.06 }, 0.872398 },
+      { 0.35, { 0.06, 0.06, 0.08 }, { 0.10, -0.08, 0.12 }, 0.451665 },
+      { 0.35, { 0.06, 0.06, 0.08 }, { 0.05, -0.04, 0.06 }, 0.890971 },
+      { 0.50, { 0.08, 0.07, 0.10 }, { 0.12, 0.10, -0.15 }, 0.530946 },
+      { 0.90, { 0.08, 0.07, 0.10 }, { 0.12, 0.10, -0.15 }, 0.910615 },
+      { 0.20, { 0.04, 0.04, 0.06 }, { 0.05, 0.05, 0.07 }, 0.729502 },
+      { 0.60, { 0.01, 0.01, 0.02 }, { 0.02, 0.02, 0.04 }, 0.939161 },
+      { 0.45, { 1.00, 1.00, 1.00 }, { 0.30, -0.20, 0.10 }, 0.463930 },
+      { 0.55, { 1.00, 1.00, 1.00 }, { 0.30, -0.20, 0.10 }, 0.563852 },
+      { 0.35, { 0.06, 0.06, 0.08 }, { 0.095811, -0.076649, 0.114973 }, 0.514252 },
+      { 0.35, { 0.06, 0.06, 0.08 }, { 0.097746, -0.078197, 0.117296 }, 0.485604 },
+    };
+    for (size_t c = 0; c < sizeof mc / sizeof mc[0]; c++) {
+      double S[3][3] = { { 0 } }, nis = 0;
+      for (int a = 0; a < 3; a++) {
+        S[a][a] = mc[c].sig[a] * mc[c].sig[a];
+        nis += mc[c].y[a] * mc[c].y[a] / S[a][a];
+      }
+      bool wrong = aw_fusion_frame_wrong(mc[c].conf, 0.2, mc[c].y, (const double (*)[3])S, nis);
+      if (wrong != (mc[c].post < 0.5))
+        fprintf(stderr, "wrong-detection test, case %zu: engine %d, scipy posterior %.6f\n", c,
+                wrong, mc[c].post);
+      AW_CHECK(wrong == (mc[c].post < 0.5));
+    }
+    const double S1[3][3] = { { 1e-4, 0, 0 }, { 0, 1e-4, 0 }, { 0, 0, 1e-4 } }, y1[3] = { 0.5, 0, 0 };
+    AW_CHECK(!aw_fusion_frame_wrong(1.0, 0.2, y1, S1, 2500));
+    AW_CHECK(!aw_fusion_frame_wrong(0.3, 0.0, y1, S1, 2500));
+    AW_CHECK(aw_fusion_frame_wrong(0.0, 0.2, (const double[3]){ 0, 0, 0 }, S1, 0));
+  }
+
   /* Sync recovers a known shift (analytic motion, camera and IMU noise as in the defaults). */
   {
     AwSynthSpec sp;

@@ -70,6 +70,11 @@ typedef struct {
    * clock_search_max_s = 0 turns it off. */
   double clock_search_max_s;
   double clock_search_reject_frac;
+  /* How far a wrong detection of the keypoint lands from the true one (a body part mistaken
+   * for the wrist, an occluded wrist pulled toward the chest), 1-sigma per axis: the
+   * alternative against which a frame's confidence is read as the prior probability that it
+   * shows the keypoint (README "Fusion"). 0 = confidence only scales the noise. */
+  double cam_outlier_sigma_m;
 } AwFusionSettings;
 
 void aw_fusion_settings_default(AwFusionSettings *out);
