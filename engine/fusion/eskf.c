@@ -44,7 +44,6 @@
 #define AW_ESKF_CAT(a, b) AW_ESKF_CAT2(a, b)
 #define AW_ESKF_FN(f) AW_ESKF_CAT(f, AW_ESKF_VARIANT)
 
-#include <float.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -662,8 +661,8 @@ timing_noise(const Model *m, double Hb[3][NH], double R[3][3])
  * (aw_fusion_frame_wrong; conf 1: the chi-square gate alone). */
 static double
 kf_update(double P[NS][NS], Nom *x, double Hb[3][NH], double R[3][3],
-          const double y[3], double gate, double conf, double sigma_c, bool force, bool vel_only, bool *accepted,
-          Upd *rec)
+          const double y[3], double gate, double conf, double sigma_c, bool force, bool vel_only,
+          bool *accepted, Upd *rec)
 {
   double HP[3][NS], S[3][3], Si[3][3];
   if (vel_only) innov_cov_vel(P, R, HP, S);
@@ -673,7 +672,7 @@ kf_update(double P[NS][NS], Nom *x, double Hb[3][NH], double R[3][3],
   for (int r = 0; r < 3; r++)
     for (int c = 0; c < 3; c++) nis += y[r] * Si[r][c] * y[c];
   if (!(nis <= gate) && !force) { *accepted = false; return nis; }
-  if (!force && conf < 1 && aw_fusion_frame_wrong(conf, sigma_c, y, (const double (*)[3])S, nis)) {
+  if (!force && aw_fusion_frame_wrong(conf, sigma_c, y, (const double (*)[3])S, nis)) {
     *accepted = false;
     return nis;
   }

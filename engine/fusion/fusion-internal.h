@@ -254,14 +254,6 @@ aw_fusion_q_cam_grav(const double g_cam[3], double g_norm, double q[4])
   aw_mat_to_quat(q, (const double (*)[3])Rg);
 }
 
-/* Stage 3+4: error-state Kalman filter and smoother, writing into path (allocated, n = imu->n). */
-AwStatus aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam,
-                            const AwFusionSettings *s, double g, const AwCalib *cal,
-                            AwFusedPath *path, AwError *err);
-/* The same with error states held at zero (no prior uncertainty, no process noise): a known
- * attitude (attitude and gyro bias; the IMU's rotation is then taken as exact) or a known clock
- * offset. With both, a fixed attitude and camera frames on IMU sample times the filter is
- * linear-Gaussian, which is what tests/fusion/test-eskf-reference.py checks it on. */
 /* A camera frame's confidence read as the prior probability p that it shows the keypoint,
  * against a wrong detection (a body part mistaken for the wrist, an occluded wrist pulled
  * toward the chest) scattered about the true keypoint with sigma_c per axis
@@ -293,6 +285,14 @@ aw_fusion_frame_wrong(double conf, double sigma_c, const double y[3], const doub
   return nis - q > 2 * log(conf / (1 - conf)) + log(det_t) - log(det_s);
 }
 
+/* Stage 3+4: error-state Kalman filter and smoother, writing into path (allocated, n = imu->n). */
+AwStatus aw_fusion_eskf_run(const AwImuPrep *imu, const double *tau, const AwCamPrep *cam,
+                            const AwFusionSettings *s, double g, const AwCalib *cal,
+                            AwFusedPath *path, AwError *err);
+/* The same with error states held at zero (no prior uncertainty, no process noise): a known
+ * attitude (attitude and gyro bias; the IMU's rotation is then taken as exact) or a known clock
+ * offset. With both, a fixed attitude and camera frames on IMU sample times the filter is
+ * linear-Gaussian, which is what tests/fusion/test-eskf-reference.py checks it on. */
 enum { AW_ESKF_FREEZE_ATTITUDE = 1u << 0, AW_ESKF_FREEZE_CLOCK = 1u << 1,
        AW_ESKF_FREEZE_LEVER = 1u << 2 };
 /* The lever arm the filter starts from: the settings' when measured, else the calibration's
