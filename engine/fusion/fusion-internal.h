@@ -61,7 +61,9 @@ typedef struct {
   double acc_range, gyr_range;
   double accel_noise_meas, gyro_noise_meas;  /* white-noise densities measured when still (0 = none) */
   double (*f_own)[3], (*w_own)[3];  /* copies with clipped runs reconstructed (f, w point here) */
-  float *acc_excess, *gyr_excess;   /* |reconstructed| - full scale on clipped samples, else 0 */
+  /* 1-sigma error of a clipped run's reconstruction per sample and body axis (m/s2, rad/s),
+   * white over the run's steps (prep.c declip); 0 where the axis read true. */
+  float (*acc_clip_sigma)[3], (*gyr_clip_sigma)[3];
 } AwImuPrep;
 
 AwStatus aw_fusion_prep_cam(const AwDepthStream *d, const AwFusionSettings *s, AwCamPrep *out);

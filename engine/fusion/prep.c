@@ -454,8 +454,7 @@ flank_parabola(const double (*x)[3], const double *t, size_t n, size_t i, size_t
  * before it and the first after, with the slopes there taken from the parabola through each
  * side's three nearest samples; never below full scale, at most four times it. Where a side
  * has fewer than three unclipped samples (a run at the recording's edge or two runs close
- * together), a least-squares parabola through the flanks, at most twice full scale. The
- * excess over full scale (plus a margin) is kept so the filter can weigh the reconstruction.
+ * together), a least-squares parabola through the flanks, at most twice full scale.
  *
  * Measured against the same simulated hard swings made with full scales wide enough not to
  * clip (seeds 70000-70297 every third: 153 clipped gyro runs, 192 accelerometer runs, most
@@ -463,18 +462,23 @@ flank_parabola(const double (*x)[3], const double *t, size_t n, size_t i, size_t
  * 0.096 rad rms where the least-squares parabola through three samples each side (the
  * reconstruction before) left 0.27 rad, and the velocity an accelerometer run adds off by
  * 1.40 m/s rms against 1.76 (a ball strike's spike, one or two clipped samples, no smooth
- * curve recovers). Fused on 18 seed sets of 60 swings (5000-62000 and 64000-72000), hard
- * swings' RMSE fell 5 % (geometric mean), swings over 3 cm 70 -> 63; easy and normal
- * swings seldom clip and did not move.
+ * curve recovers).
  *
- * Measured and not kept: the filter told the reconstruction's error as measured there
- * (a run's integral off by about R dt (c n^1.5 + b), c = 0.035 gyro, 0.07 accelerometer)
- * instead of the excess: coverage stayed in band, but hard swings' RMSE rose 9 % (the
- * downswing's noisy frames then carry the path), and 0.5 % with the gyro's alone. */
+ * The reconstruction's error goes to the filter per sample and axis (sigma[k][a], the unit of
+ * x), as measured on the same runs: the integral over a run of n samples at full scale R and
+ * interval dt (the velocity or angle it adds) is off by about
+ *   s_int = R dt (clip_c n^1.5 + clip_b),
+ * the rms of the error over R dt n^1.5 being 0.03-0.04 for the gyro and 0.05-0.08 for the
+ * accelerometer at n >= 3 (CLIP_GYR_C, CLIP_ACC_C below), plus a ball strike's spike in the
+ * accelerometer's short runs, about 0.2 R dt (CLIP_ACC_B). It is spread as white noise over
+ * the run's n + 1 steps: sigma = s_int / (dt sqrt(n + 1)). The filter adds it along the
+ * clipped axis only (eskf.c nominal_step): the other axes read true. */
+static const double CLIP_ACC_C = 0.07, CLIP_ACC_B = 0.2, CLIP_GYR_C = 0.035, CLIP_GYR_B = 0.02;
+
 static void
-declip(double (*x)[3], const double *t, size_t n, double range, float *excess)
+declip(double (*x)[3], const double *t, size_t n, double range, double clip_c, double clip_b,
+       float (*sigma)[3])
 {
-  const double margin_frac = 0.05;
   if (!(range > 0)) return;
   double lim = 0.995 * range;
   for (int a = 0; a < 3; a++) {
@@ -508,11 +512,10 @@ declip(double (*x)[3], const double *t, size_t n, double range, float *excess)
           if (q * sgn > range) v = sgn * fmin(fabs(q), 2.0 * range);
         }
         x[k][a] = v;
-        /* The reconstruction is a guess, wrong by up to its excess plus a margin
-         * (margin_frac of full scale). */
-        float e = (float)((fabs(v) - range + margin_frac * range));
-        if (e > excess[k]) excess[k] = e;
       }
+      double len = (double)(j - i);
+      float sg = (float)(range * (clip_c * len * sqrt(len) + clip_b) / sqrt(len + 1));
+      for (size_t k = i; k < j; k++) sigma[k][a] = sg;
       i = j;
     }
   }
@@ -544,17 +547,17 @@ aw_fusion_prep_imu(const AwImuStream *imu, const AwFusionSettings *s, double g, 
   m->gyr_range = detect_range(m->w, n, imu->meta.gyro_range_rad_s);
   m->f_own = malloc(sizeof *m->f_own * (n ? n : 1));
   m->w_own = malloc(sizeof *m->w_own * (n ? n : 1));
-  m->acc_excess = calloc(n ? n : 1, sizeof *m->acc_excess);
-  m->gyr_excess = calloc(n ? n : 1, sizeof *m->gyr_excess);
-  if (!m->f_own || !m->w_own || !m->acc_excess || !m->gyr_excess) {
+  m->acc_clip_sigma = calloc(n ? n : 1, sizeof *m->acc_clip_sigma);
+  m->gyr_clip_sigma = calloc(n ? n : 1, sizeof *m->gyr_clip_sigma);
+  if (!m->f_own || !m->w_own || !m->acc_clip_sigma || !m->gyr_clip_sigma) {
     free(quiet);
     aw_fusion_prep_imu_free(m);
     return AW_ERR_NO_MEMORY;
   }
   memcpy(m->f_own, imu->accel_m_s2, sizeof *m->f_own * n);
   memcpy(m->w_own, imu->gyro_rad_s, sizeof *m->w_own * n);
-  declip(m->f_own, imu->t_s, n, m->acc_range, m->acc_excess);
-  declip(m->w_own, imu->t_s, n, m->gyr_range, m->gyr_excess);
+  declip(m->f_own, imu->t_s, n, m->acc_range, CLIP_ACC_C, CLIP_ACC_B, m->acc_clip_sigma);
+  declip(m->w_own, imu->t_s, n, m->gyr_range, CLIP_GYR_C, CLIP_GYR_B, m->gyr_clip_sigma);
   m->f = (const double (*)[3])m->f_own;
   m->w = (const double (*)[3])m->w_own;
   /* Running integral of the reconstructed specific force (box means use it). */
@@ -669,8 +672,8 @@ aw_fusion_prep_imu_free(AwImuPrep *m)
   free(m->still);
   free(m->f_own);
   free(m->w_own);
-  free(m->acc_excess);
-  free(m->gyr_excess);
+  free(m->acc_clip_sigma);
+  free(m->gyr_clip_sigma);
   memset(m, 0, sizeof *m);
 }
 
