@@ -484,8 +484,10 @@ nominal_step(const Model *m, size_t i, const Nom *in, Nom *out, Trans *T)
      * of 60): it took the true axes' information with it, and the downswing's noisy camera
      * frames then carried the path. */
     for (int a = 0; a < 3; a++) {
-      double ea = fmax((double)imu->acc_clip_sigma[i][a], (double)imu->acc_clip_sigma[i + 1][a]) * dt;
-      double eg = fmax((double)imu->gyr_clip_sigma[i][a], (double)imu->gyr_clip_sigma[i + 1][a]) * dt;
+      double ea = dt * fmax((double)imu->acc_clip_sigma[i][a],
+                            (double)imu->acc_clip_sigma[i + 1][a]);
+      double eg = dt * fmax((double)imu->gyr_clip_sigma[i][a],
+                            (double)imu->gyr_clip_sigma[i + 1][a]);
       if (!(ea > 0) && !(eg > 0)) continue;
       T->clipped = true;
       for (int r = 0; r < 3; r++)

@@ -227,7 +227,8 @@ main(void)
                 wrong, mc[c].post);
       AW_CHECK(wrong == (mc[c].post < 0.5));
     }
-    const double S1[3][3] = { { 1e-4, 0, 0 }, { 0, 1e-4, 0 }, { 0, 0, 1e-4 } }, y1[3] = { 0.5, 0, 0 };
+    const double S1[3][3] = { { 1e-4, 0, 0 }, { 0, 1e-4, 0 }, { 0, 0, 1e-4 } };
+    const double y1[3] = { 0.5, 0, 0 };
     AW_CHECK(!aw_fusion_frame_wrong(1.0, 0.2, y1, S1, 2500));
     AW_CHECK(!aw_fusion_frame_wrong(0.3, 0.0, y1, S1, 2500));
     AW_CHECK(aw_fusion_frame_wrong(0.0, 0.2, (const double[3]){ 0, 0, 0 }, S1, 0));
