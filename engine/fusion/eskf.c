@@ -1192,8 +1192,8 @@ AW_ESKF_FN(aw_fusion_eskf_run_ext)(const AwImuPrep *imu, const double *tau_in,
    * the nodes that are still (see the forward pass). Between nodes the nominal state is
    * integrated at every IMU sample as usual; the smoother's correction and variance there are
    * interpolated between the nodes' (at most a camera interval apart, where a correction that
-   * the IMU carries well changes by micrometres). The covariance work, most of the filter's cost, then runs at about the camera
-   * rate instead of the IMU rate. */
+   * the IMU carries well changes by micrometres). The covariance work, most of the filter's
+   * cost, then runs at about the camera rate instead of the IMU rate. */
   size_t max_run = 3;
   if (isfinite(cam->dt_nom_s) && cam->dt_nom_s > 0 && imu->dt_nom_s > 0)
     max_run = (size_t)fmax(1.0, ceil(cam->dt_nom_s / imu->dt_nom_s - 1e-9));

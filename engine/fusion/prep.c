@@ -472,14 +472,16 @@ flank_parabola(const double (*x)[3], const double *t, size_t n, size_t i, size_t
  * accelerometer at n >= 3 (CLIP_GYR_C, CLIP_ACC_C below), plus a ball strike's spike in the
  * accelerometer's short runs, about 0.2 R dt (CLIP_ACC_B). It is spread as white noise over
  * the run's n + 1 steps: sigma = s_int / (dt sqrt(n + 1)). The filter adds it along the
- * clipped axis only (eskf.c nominal_step): the other axes read true. */
+ * clipped axis only (eskf.c nominal_step): the other axes read true. The run's samples are
+ * also marked in sat (the saturation flags). */
 static const double CLIP_ACC_C = 0.07, CLIP_ACC_B = 0.2, CLIP_GYR_C = 0.035, CLIP_GYR_B = 0.02;
 
 static void
 declip(double (*x)[3], const double *t, size_t n, double range, double clip_c, double clip_b,
-       float (*sigma)[3])
+       float (*sigma)[3], unsigned char *sat)
 {
   if (!(range > 0)) return;
+  /* 0.5 % below full scale: quantisation keeps clipped values a count or two short. */
   double lim = 0.995 * range;
   for (int a = 0; a < 3; a++) {
     for (size_t i = 0; i < n;) {
@@ -515,7 +517,10 @@ declip(double (*x)[3], const double *t, size_t n, double range, double clip_c, d
       }
       double len = (double)(j - i);
       float sg = (float)(range * (clip_c * len * sqrt(len) + clip_b) / sqrt(len + 1));
-      for (size_t k = i; k < j; k++) sigma[k][a] = sg;
+      for (size_t k = i; k < j; k++) {
+        sigma[k][a] = sg;
+        sat[k] = 1;
+      }
       i = j;
     }
   }
@@ -556,8 +561,10 @@ aw_fusion_prep_imu(const AwImuStream *imu, const AwFusionSettings *s, double g, 
   }
   memcpy(m->f_own, imu->accel_m_s2, sizeof *m->f_own * n);
   memcpy(m->w_own, imu->gyro_rad_s, sizeof *m->w_own * n);
-  declip(m->f_own, imu->t_s, n, m->acc_range, CLIP_ACC_C, CLIP_ACC_B, m->acc_clip_sigma);
-  declip(m->w_own, imu->t_s, n, m->gyr_range, CLIP_GYR_C, CLIP_GYR_B, m->gyr_clip_sigma);
+  declip(m->f_own, imu->t_s, n, m->acc_range, CLIP_ACC_C, CLIP_ACC_B, m->acc_clip_sigma,
+         m->sat_acc);
+  declip(m->w_own, imu->t_s, n, m->gyr_range, CLIP_GYR_C, CLIP_GYR_B, m->gyr_clip_sigma,
+         m->sat_gyr);
   m->f = (const double (*)[3])m->f_own;
   m->w = (const double (*)[3])m->w_own;
   /* Running integral of the reconstructed specific force (box means use it). */
@@ -584,15 +591,7 @@ aw_fusion_prep_imu(const AwImuStream *imu, const AwFusionSettings *s, double g, 
     }
   /* (in locals: the flags' byte stores could alias m's fields for all the compiler knows) */
   const double (*fs)[3] = m->f, (*ws)[3] = m->w;
-  const bool acc_clip = m->acc_range > 0, gyr_clip = m->gyr_range > 0;
-  const double acc_lim = 0.995 * m->acc_range, gyr_lim = 0.995 * m->gyr_range;
-  unsigned char *sat_acc = m->sat_acc, *sat_gyr = m->sat_gyr;
   for (size_t i = 0; i < n; i++) {
-    for (int a = 0; a < 3; a++) {
-      /* 0.5 % below full scale: quantisation keeps clipped values a count or two short. */
-      if (acc_clip && fabs(fs[i][a]) >= acc_lim) sat_acc[i] = 1;
-      if (gyr_clip && fabs(ws[i][a]) >= gyr_lim) sat_gyr[i] = 1;
-    }
     size_t lo = i >= half ? i - half : 0, hi = i + half < n ? i + half : n - 1;
     double mw[3], mf[3], dw = 0, mn = 0, df = 0, fn = 0;
     double inv = 1.0 / (double)(hi - lo + 1);
